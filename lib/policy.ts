@@ -1,0 +1,235 @@
+/**
+ * The one place that decides who may do what (PRODUCT.md "Who uses it").
+ *
+ * Every route handler, server page and server action asks `authorize(actor, action, scope)` (or `can(...)` to
+ * decide what to show). Roles are never compared anywhere else. Team actions need a membership in the team that
+ * owns the object (`scope.teamId`); facility actions need a facility role. A steward may read the *metadata* of
+ * every team (`*.metadata` actions) but never results, images or anything that edits; an admin manages users,
+ * teams and memberships and nothing else by default.
+ *
+ * The table is pure data and has no server-only imports, so client components may read it to hide buttons;
+ * the server still has the final say.
+ */
+import { AppError } from './errors';
+
+// TYPES //
+
+export const TEAM_ROLES = ['operator', 'analyst', 'pi'] as const;
+export type TeamRole = (typeof TEAM_ROLES)[number];
+export const FACILITY_ROLES = ['steward', 'admin'] as const;
+export type FacilityRole = (typeof FACILITY_ROLES)[number];
+
+/** The signed-in user as the server sees it (from the session, re-read from the database). */
+export interface Actor {
+  userId: number;
+  email: string;
+  name: string;
+  memberships: { teamId: number; teamSlug: string; teamName: string; role: TeamRole }[];
+  facilityRoles: FacilityRole[];
+}
+
+/** Actions on objects owned by a team. */
+export const TEAM_ACTIONS = [
+  // reading
+  'team.view',
+  'campaign.view',
+  'shift.view',
+  'scan.view',
+  'result.view',
+  'rawfile.view',
+  'calibration.view',
+  'audit.view',
+  // operating a shift
+  'shift.open',
+  'shift.close',
+  'shift.log',
+  'upload.create',
+  // analysing
+  'campaign.create',
+  'campaign.edit',
+  'calibration.edit',
+  'reduction.start',
+  'scan.flag',
+  'quarantine.release',
+  // PI
+  'calibration.approve',
+  'comparison.create',
+  'export.create',
+] as const;
+export type TeamAction = (typeof TEAM_ACTIONS)[number];
+
+/** Actions that need a facility role. */
+export const FACILITY_ACTIONS = [
+  // steward: metadata of every team, stewardship
+  'campaign.metadata',
+  'scan.metadata',
+  'rawfile.metadata',
+  'archive.manage',
+  'retention.manage',
+  'fixity.run',
+  'deletion.request',
+  'deletion.confirm',
+  'citation.export',
+  'audit.view.all',
+  // admin
+  'admin.users',
+  'admin.teams',
+  'admin.memberships',
+  'admin.audit',
+  'admin.mailbox',
+] as const;
+export type FacilityAction = (typeof FACILITY_ACTIONS)[number];
+
+export type Action = TeamAction | FacilityAction;
+
+// TABLES //
+
+const OPERATOR: readonly TeamAction[] = [
+  'team.view',
+  'campaign.view',
+  'shift.view',
+  'scan.view',
+  'result.view',
+  'rawfile.view',
+  'calibration.view',
+  'shift.open',
+  'shift.close',
+  'shift.log',
+  'upload.create',
+];
+
+const ANALYST: readonly TeamAction[] = [
+  ...OPERATOR,
+  'campaign.create',
+  'campaign.edit',
+  'calibration.edit',
+  'reduction.start',
+  'scan.flag',
+  'quarantine.release',
+];
+
+const PI: readonly TeamAction[] = [
+  'team.view',
+  'campaign.view',
+  'shift.view',
+  'scan.view',
+  'result.view',
+  'rawfile.view',
+  'calibration.view',
+  'audit.view',
+  'campaign.create',
+  'campaign.edit',
+  'calibration.approve',
+  'comparison.create',
+  'export.create',
+];
+
+/** What each team role may do in its own team. */
+export const PERMISSIONS_BY_TEAM_ROLE: Record<TeamRole, ReadonlySet<TeamAction>> = {
+  operator: new Set(OPERATOR),
+  analyst: new Set(ANALYST),
+  pi: new Set(PI),
+};
+
+/** What each facility role may do, for every team. */
+export const PERMISSIONS_BY_FACILITY_ROLE: Record<FacilityRole, ReadonlySet<FacilityAction>> = {
+  steward: new Set<FacilityAction>([
+    'campaign.metadata',
+    'scan.metadata',
+    'rawfile.metadata',
+    'archive.manage',
+    'retention.manage',
+    'fixity.run',
+    'deletion.request',
+    'deletion.confirm',
+    'citation.export',
+    'audit.view.all',
+  ]),
+  admin: new Set<FacilityAction>(['admin.users', 'admin.teams', 'admin.memberships', 'admin.audit', 'admin.mailbox']),
+};
+
+/** Team actions a facility role may perform on any team (read-only metadata views for stewards). */
+const FACILITY_EQUIVALENTS: Partial<Record<TeamAction, FacilityAction>> = {
+  'team.view': 'campaign.metadata',
+  'campaign.view': 'campaign.metadata',
+  'shift.view': 'campaign.metadata',
+};
+
+// FUNCTIONS //
+
+export function isTeamAction(action: Action): action is TeamAction {
+  return (TEAM_ACTIONS as readonly string[]).includes(action);
+}
+
+/** The actor's role in a team, or null. */
+export function roleInTeam(actor: Actor | null, teamId: number): TeamRole | null {
+  return actor?.memberships.find((m) => m.teamId === teamId)?.role ?? null;
+}
+
+export function hasFacilityAction(actor: Actor | null, action: FacilityAction): boolean {
+  return !!actor?.facilityRoles.some((role) => PERMISSIONS_BY_FACILITY_ROLE[role].has(action));
+}
+
+/**
+ * Whether `actor` may perform `action`. Team actions need `scope.teamId` (the team that owns the object); without
+ * it they ask "in at least one team" (used to show or hide navigation).
+ */
+export function can(actor: Actor | null, action: Action, scope: { teamId?: number | null } = {}): boolean {
+  if (!actor) return false;
+  if (!isTeamAction(action)) return hasFacilityAction(actor, action);
+  const teamId = scope.teamId;
+  if (teamId === undefined || teamId === null) {
+    return actor.memberships.some((m) => PERMISSIONS_BY_TEAM_ROLE[m.role].has(action));
+  }
+  const role = roleInTeam(actor, teamId);
+  if (role && PERMISSIONS_BY_TEAM_ROLE[role].has(action)) return true;
+  const equivalent = FACILITY_EQUIVALENTS[action];
+  return equivalent ? hasFacilityAction(actor, equivalent) : false;
+}
+
+/** Teams in which the actor may perform a team action. */
+export function teamsWhere(actor: Actor | null, action: TeamAction): number[] {
+  if (!actor) return [];
+  return actor.memberships.filter((m) => PERMISSIONS_BY_TEAM_ROLE[m.role].has(action)).map((m) => m.teamId);
+}
+
+/**
+ * Throws unless `actor` may perform `action`: 401 without a session, 403 with a plain sentence otherwise.
+ * The refusal reason is attached for the audit trail (lib/audit.ts records refusals).
+ */
+export function authorize(
+  actor: Actor | null,
+  action: Action,
+  scope: { teamId?: number | null; surface?: 'api' | 'scan' | 'campaign' | 'shift' | 'upload' | 'admin' } = {},
+): asserts actor is Actor {
+  if (!actor) throw new AppError('unauthorized:auth');
+  if (can(actor, action, scope)) return;
+  const inTeam = scope.teamId != null && roleInTeam(actor, scope.teamId) !== null;
+  const message = isTeamAction(action)
+    ? inTeam
+      ? `Your role in this team does not allow this (${describeAction(action)}).`
+      : 'This belongs to a team you are not a member of.'
+    : `This needs a facility role that your account does not have (${describeAction(action)}).`;
+  throw new AppError(action.startsWith('admin.') ? 'forbidden:admin' : 'forbidden:auth', {
+    message,
+    context: { action, teamId: scope.teamId ?? null, userId: actor.userId },
+  });
+}
+
+const ACTION_WORDS: Partial<Record<Action, string>> = {
+  'shift.open': 'opening a shift',
+  'shift.close': 'closing a shift',
+  'upload.create': 'uploading files',
+  'campaign.create': 'creating a campaign',
+  'calibration.edit': 'editing calibrations',
+  'calibration.approve': 'approving calibrations',
+  'reduction.start': 'starting reductions',
+  'quarantine.release': 'releasing quarantined files',
+  'admin.users': 'managing users',
+  'admin.teams': 'managing teams',
+  'admin.memberships': 'managing memberships',
+};
+
+export function describeAction(action: Action): string {
+  return ACTION_WORDS[action] ?? action.replace('.', ' ');
+}

@@ -1,0 +1,134 @@
+import {
+  type CreationOptional,
+  DataTypes,
+  type InferAttributes,
+  type InferCreationAttributes,
+  Model,
+  type Sequelize,
+} from 'sequelize';
+import { fk, modelOptions, pk, stampColumns } from './columns';
+
+/** One line of the audit trail (C13). Rows are only ever inserted. */
+export class AuditEvent extends Model<InferAttributes<AuditEvent>, InferCreationAttributes<AuditEvent>> {
+  declare id: CreationOptional<number>;
+  declare at: Date;
+  declare actor_id: number | null;
+  declare actor_email: string | null;
+  declare action: string;
+  declare team_id: number | null;
+  declare target_type: string | null;
+  declare target_id: string | null;
+  declare ip: string | null;
+  declare outcome: CreationOptional<'ok' | 'refused' | 'failed'>;
+  declare details: Record<string, unknown> | null;
+}
+
+export class FixityCheck extends Model<InferAttributes<FixityCheck>, InferCreationAttributes<FixityCheck>> {
+  declare id: CreationOptional<number>;
+  declare raw_file_id: number;
+  declare checked_at: Date;
+  declare ok: boolean;
+  declare sha256_found: string | null;
+  declare triggered_by: number | null;
+  declare message: string | null;
+}
+
+export class DeletionRequest extends Model<InferAttributes<DeletionRequest>, InferCreationAttributes<DeletionRequest>> {
+  declare id: CreationOptional<number>;
+  declare raw_file_id: number;
+  declare requested_by: number | null;
+  declare confirmed_by: number | null;
+  declare reason: string;
+  declare confirmed_at: Date | null;
+  declare cancelled_at: Date | null;
+  declare created_at: CreationOptional<Date>;
+  declare updated_at: CreationOptional<Date>;
+}
+
+export class SavedComparison extends Model<InferAttributes<SavedComparison>, InferCreationAttributes<SavedComparison>> {
+  declare id: CreationOptional<number>;
+  declare team_id: number;
+  declare slug: string;
+  declare title: string;
+  declare spec: Record<string, unknown>;
+  declare created_by: number | null;
+  declare created_at: CreationOptional<Date>;
+  declare updated_at: CreationOptional<Date>;
+}
+
+export class ModelCacheEntry extends Model<InferAttributes<ModelCacheEntry>, InferCreationAttributes<ModelCacheEntry>> {
+  declare id: CreationOptional<number>;
+  declare param_hash: string;
+  declare model: string;
+  declare params: Record<string, unknown>;
+  declare result: Record<string, unknown>;
+  declare created_at: CreationOptional<Date>;
+  declare updated_at: CreationOptional<Date>;
+}
+
+export function initAuditModels(sequelize: Sequelize): void {
+  AuditEvent.init(
+    {
+      id: { type: DataTypes.BIGINT.UNSIGNED, autoIncrement: true, primaryKey: true },
+      at: { type: DataTypes.DATE(3), allowNull: false },
+      actor_id: fk(true),
+      actor_email: { type: DataTypes.STRING(254), allowNull: true },
+      action: { type: DataTypes.STRING(64), allowNull: false },
+      team_id: fk(true),
+      target_type: { type: DataTypes.STRING(32), allowNull: true },
+      target_id: { type: DataTypes.STRING(64), allowNull: true },
+      ip: { type: DataTypes.STRING(64), allowNull: true },
+      outcome: { type: DataTypes.ENUM('ok', 'refused', 'failed'), allowNull: false, defaultValue: 'ok' },
+      details: { type: DataTypes.JSON, allowNull: true },
+    },
+    { sequelize, tableName: 'audit_events', timestamps: false, underscored: true },
+  );
+  FixityCheck.init(
+    {
+      id: pk(),
+      raw_file_id: fk(),
+      checked_at: { type: DataTypes.DATE(3), allowNull: false },
+      ok: { type: DataTypes.BOOLEAN, allowNull: false },
+      sha256_found: { type: DataTypes.CHAR(64), allowNull: true },
+      triggered_by: fk(true),
+      message: { type: DataTypes.TEXT, allowNull: true },
+    },
+    { sequelize, tableName: 'fixity_checks', timestamps: false, underscored: true },
+  );
+  DeletionRequest.init(
+    {
+      id: pk(),
+      raw_file_id: fk(),
+      requested_by: fk(true),
+      confirmed_by: fk(true),
+      reason: { type: DataTypes.TEXT, allowNull: false },
+      confirmed_at: { type: DataTypes.DATE(3), allowNull: true },
+      cancelled_at: { type: DataTypes.DATE(3), allowNull: true },
+      ...stampColumns(),
+    },
+    { sequelize, tableName: 'deletion_requests', ...modelOptions },
+  );
+  SavedComparison.init(
+    {
+      id: pk(),
+      team_id: fk(),
+      slug: { type: DataTypes.STRING(32), allowNull: false, unique: true },
+      title: { type: DataTypes.STRING(160), allowNull: false },
+      spec: { type: DataTypes.JSON, allowNull: false },
+      created_by: fk(true),
+      ...stampColumns(),
+    },
+    { sequelize, tableName: 'saved_comparisons', ...modelOptions },
+  );
+  ModelCacheEntry.init(
+    {
+      id: pk(),
+      param_hash: { type: DataTypes.CHAR(64), allowNull: false, unique: true },
+      model: { type: DataTypes.STRING(32), allowNull: false },
+      params: { type: DataTypes.JSON, allowNull: false },
+      result: { type: DataTypes.JSON, allowNull: false },
+      ...stampColumns(),
+    },
+    { sequelize, tableName: 'model_cache', ...modelOptions },
+  );
+}
