@@ -34,6 +34,9 @@ export class RawFile extends Model<InferAttributes<RawFile>, InferCreationAttrib
   declare released_by: number | null;
   declare released_at: Date | null;
   declare replaced_by_id: number | null;
+  /** Analyst's corrected metadata (lib/ingest/schemas.ts metadataOverrideSchema) recorded at release. */
+  declare metadata_override: CreationOptional<Record<string, unknown> | null>;
+  declare release_note: CreationOptional<string | null>;
   declare storage_class: CreationOptional<string>;
   declare archived_at: Date | null;
   declare archive_key: string | null;
@@ -63,6 +66,8 @@ export class Upload extends Model<InferAttributes<Upload>, InferCreationAttribut
   declare part_count: number | null;
   declare status: CreationOptional<(typeof UPLOAD_STATUSES)[number]>;
   declare raw_file_id: number | null;
+  /** The scan this upload produced (set on completion; a duplicate links an existing raw file). */
+  declare scan_id: CreationOptional<number | null>;
   declare error: string | null;
   declare created_at: CreationOptional<Date>;
   declare updated_at: CreationOptional<Date>;
@@ -116,6 +121,8 @@ export function initFileModels(sequelize: Sequelize): void {
       released_by: fk(true),
       released_at: { type: DataTypes.DATE(3), allowNull: true },
       replaced_by_id: fk(true),
+      metadata_override: { type: DataTypes.JSON, allowNull: true },
+      release_note: { type: DataTypes.TEXT, allowNull: true },
       storage_class: { type: DataTypes.STRING(32), allowNull: false, defaultValue: 'STANDARD' },
       archived_at: { type: DataTypes.DATE(3), allowNull: true },
       archive_key: { type: DataTypes.STRING(512), allowNull: true },
@@ -146,6 +153,7 @@ export function initFileModels(sequelize: Sequelize): void {
       part_count: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
       status: { type: DataTypes.ENUM(...UPLOAD_STATUSES), allowNull: false, defaultValue: 'open' },
       raw_file_id: fk(true),
+      scan_id: fk(true),
       error: { type: DataTypes.TEXT, allowNull: true },
       ...stampColumns(),
     },

@@ -119,7 +119,10 @@ export const phaseRegionSchema = z.discriminatedUnion('shape', [
     .object({
       name: z.string().min(1).max(100),
       shape: z.literal('polygon'),
-      vertices_au: z.array(z.tuple([finite(), finite()])).min(3).max(1000),
+      vertices_au: z
+        .array(z.tuple([finite(), finite()]))
+        .min(3)
+        .max(1000),
     })
     .strict(),
   z
@@ -137,7 +140,9 @@ export const analysisSettingsSchema = z
   .object({
     grid: z
       .object({
-        p_max_au: finite().refine((v) => v > 0 && v <= 50, 'must be in (0, 50] a.u.').default(2.0),
+        p_max_au: finite()
+          .refine((v) => v > 0 && v <= 50, 'must be in (0, 50] a.u.')
+          .default(2.0),
         n: z.number().int().min(16).max(2049).default(401),
       })
       .default(DEFAULT_SETTINGS.grid),
@@ -165,7 +170,9 @@ export const analysisSettingsSchema = z
       .default(DEFAULT_SETTINGS.bootstrap),
     phase: z
       .object({
-        min_counts: finite().refine((v) => v >= 0, 'must be ≥ 0').default(10),
+        min_counts: finite()
+          .refine((v) => v >= 0, 'must be ≥ 0')
+          .default(10),
         harmonics: z.number().int().min(1).max(8).default(2),
         /** Optional extension: regions of momentum space for yield-versus-phase curves (default: all, px > 0, px < 0). */
         regions: z.array(phaseRegionSchema).max(64).optional(),

@@ -1,0 +1,28 @@
+import type { Metadata } from 'next';
+import { AuditTrail } from '@/components/admin/audit-trail';
+import { Forbidden } from '@/components/shell/forbidden';
+import { PageHeader } from '@/components/ui/page-header';
+import { requireActor } from '@/lib/auth/actor';
+import { can, teamsWhere } from '@/lib/policy';
+
+export const metadata: Metadata = { title: 'Audit trail' };
+
+export default async function AuditPage() {
+  const actor = await requireActor();
+  const all = can(actor, 'audit.view.all') || can(actor, 'admin.audit');
+  const teamIds = teamsWhere(actor, 'audit.view');
+  if (!all && teamIds.length === 0) {
+    return <Forbidden message="The audit trail is open to PIs (for their teams), data stewards and administrators." />;
+  }
+  const teams = actor.memberships.filter((m) => teamIds.includes(m.teamId)).map((m) => m.teamName);
+  return (
+    <>
+      <PageHeader
+        eyebrow="Audit"
+        title="Audit trail"
+        description="Who signed in, changed access, uploaded, calibrated, reduced, approved or archived what, and when."
+      />
+      <AuditTrail scopeNote={all ? 'Every event of the facility.' : `Events of ${teams.join(' and ')}.`} />
+    </>
+  );
+}

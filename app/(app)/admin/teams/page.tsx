@@ -1,0 +1,19 @@
+import type { Metadata } from 'next';
+import { TeamsAdmin } from '@/components/admin/teams-admin';
+import { Forbidden } from '@/components/shell/forbidden';
+import { PageHeader } from '@/components/ui/page-header';
+import { requireActor } from '@/lib/auth/actor';
+import { can } from '@/lib/policy';
+
+export const metadata: Metadata = { title: 'Teams' };
+
+export default async function AdminTeamsPage() {
+  const actor = await requireActor();
+  if (!can(actor, 'admin.teams')) return <Forbidden message="Only administrators create and manage teams." />;
+  return (
+    <>
+      <PageHeader eyebrow="Administration" title="Teams" description="Groups that own campaigns, shifts, files and results." />
+      <TeamsAdmin />
+    </>
+  );
+}

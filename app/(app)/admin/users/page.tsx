@@ -1,0 +1,23 @@
+import type { Metadata } from 'next';
+import { UsersAdmin } from '@/components/admin/users-admin';
+import { Forbidden } from '@/components/shell/forbidden';
+import { PageHeader } from '@/components/ui/page-header';
+import { requireActor } from '@/lib/auth/actor';
+import { can } from '@/lib/policy';
+
+export const metadata: Metadata = { title: 'Users' };
+
+export default async function AdminUsersPage() {
+  const actor = await requireActor();
+  if (!can(actor, 'admin.users')) return <Forbidden message="Only administrators manage users, invitations and roles." />;
+  return (
+    <>
+      <PageHeader
+        eyebrow="Administration"
+        title="Users and roles"
+        description="Invite people, change their role in a team, grant facility roles, or deactivate an account. Every change is recorded in the audit trail."
+      />
+      <UsersAdmin selfId={actor.userId} />
+    </>
+  );
+}

@@ -1,0 +1,26 @@
+import { notFound, redirect } from 'next/navigation';
+import { CalibrationView } from '@/components/calibration/calibration-view';
+import { getActor } from '@/lib/auth/actor';
+import { getCampaignTeamId } from '@/lib/db/queries/scans';
+import { isAppError } from '@/lib/errors';
+import { can } from '@/lib/policy';
+
+export const metadata = { title: 'Calibration and settings · Lobeline' };
+
+// Versions of the campaign's detector calibration and analysis settings: edit (analysts), approve (PI).
+export default async function CalibrationPage({ params }: { params: Promise<{ campaignId: string }> }) {
+  const { campaignId } = await params;
+  const id = Number(campaignId);
+  if (!Number.isInteger(id) || id <= 0) notFound();
+  const actor = await getActor();
+  if (!actor) redirect('/sign-in');
+  let teamId: number;
+  try {
+    teamId = await getCampaignTeamId({ campaignId: id });
+  } catch (err) {
+    if (isAppError(err) && err.type === 'not_found') notFound();
+    throw err;
+  }
+  if (!can(actor, 'calibration.view', { teamId })) notFound();
+  return <CalibrationView campaignId={id} />;
+}

@@ -1,0 +1,26 @@
+import { notFound, redirect } from 'next/navigation';
+import { ScanView } from '@/components/scans/scan-view';
+import { getActor } from '@/lib/auth/actor';
+import { getScanTeamId } from '@/lib/db/queries/scans';
+import { isAppError } from '@/lib/errors';
+import { can } from '@/lib/policy';
+
+export const metadata = { title: 'Scan · Lobeline' };
+
+// The scan page: access is checked here on the server; the data come from the JSON API (TanStack Query).
+export default async function ScanPage({ params }: { params: Promise<{ scanId: string }> }) {
+  const { scanId } = await params;
+  const id = Number(scanId);
+  if (!Number.isInteger(id) || id <= 0) notFound();
+  const actor = await getActor();
+  if (!actor) redirect('/sign-in');
+  let teamId: number;
+  try {
+    teamId = await getScanTeamId({ scanId: id });
+  } catch (err) {
+    if (isAppError(err) && err.type === 'not_found') notFound();
+    throw err;
+  }
+  if (!can(actor, 'scan.view', { teamId }) && !can(actor, 'scan.metadata', { teamId })) notFound();
+  return <ScanView scanId={id} />;
+}

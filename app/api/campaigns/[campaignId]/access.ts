@@ -1,0 +1,91 @@
+// Shared access checks and version-route builders of the campaign API (not a route: Next only serves route.ts).
+import { z } from 'zod';
+import { apiRoute, idParam } from '@/lib/api/route';
+import {
+  approveVersion,
+  createVersion,
+  getVersion,
+  listVersions,
+  updateDraft,
+  type VersionKind,
+} from '@/lib/db/queries/calibrations';
+import { getCampaignTeamId } from '@/lib/db/queries/scans';
+import { AppError } from '@/lib/errors';
+import { type Actor, authorize, can } from '@/lib/policy';
+
+export const campaignParams = z.object({ campaignId: idParam });
+export const versionParams = z.object({ campaignId: idParam, versionId: idParam });
+
+/** 404 for a missing campaign, then the policy check for the owning team. */
+export async function campaignFor(actor: Actor, campaignId: number, action: Parameters<typeof authorize>[1]) {
+  const teamId = await getCampaignTeamId({ campaignId });
+  authorize(actor, action, { teamId, surface: 'campaign' });
+  return teamId;
+}
+
+/** What the actor may do on this campaign (for showing buttons; the server checks again on every change). */
+export function campaignAbilities(actor: Actor, teamId: number) {
+  return {
+    viewResults: can(actor, 'result.view', { teamId }),
+    editCalibration: can(actor, 'calibration.edit', { teamId }),
+    approveCalibration: can(actor, 'calibration.approve', { teamId }),
+    startReduction: can(actor, 'reduction.start', { teamId }),
+    upload: can(actor, 'upload.create', { teamId }),
+  };
+}
+
+const noteSchema = z.string().trim().max(2000, 'at most 2000 characters').nullish();
+export const versionBody = z.object({ body: z.unknown(), note: noteSchema });
+
+/** GET (list) and POST (new draft) for `/api/campaigns/[id]/{calibrations|settings}`. */
+export function versionCollectionRoutes(kind: VersionKind) {
+  return {
+    GET: apiRoute({ params: campaignParams }, async ({ actor, params }) => {
+      await campaignFor(actor, params.campaignId, 'calibration.view');
+      return { versions: await listVersions({ campaignId: params.campaignId, kind }) };
+    }),
+    POST: apiRoute({ params: campaignParams, body: versionBody }, async ({ actor, params, body, ip }) => {
+      await campaignFor(actor, params.campaignId, 'calibration.edit');
+      const version = await createVersion({
+        campaignId: params.campaignId,
+        kind,
+        body: body.body,
+        note: body.note,
+        actor,
+        ip,
+      });
+      return { version };
+    }),
+  };
+}
+
+async function versionInCampaign(kind: VersionKind, campaignId: number, versionId: number) {
+  const v = await getVersion({ kind, versionId });
+  if (v.version.campaignId !== campaignId) throw new AppError('not_found:calibration');
+  return v;
+}
+
+/** GET / PATCH (draft edit) for one version. */
+export function versionItemRoutes(kind: VersionKind) {
+  return {
+    GET: apiRoute({ params: versionParams }, async ({ actor, params }) => {
+      const v = await versionInCampaign(kind, params.campaignId, params.versionId);
+      authorize(actor, 'calibration.view', { teamId: v.teamId });
+      return { version: v.version };
+    }),
+    PATCH: apiRoute({ params: versionParams, body: versionBody }, async ({ actor, params, body }) => {
+      const v = await versionInCampaign(kind, params.campaignId, params.versionId);
+      authorize(actor, 'calibration.edit', { teamId: v.teamId });
+      return { version: await updateDraft({ kind, versionId: params.versionId, body: body.body, note: body.note }) };
+    }),
+  };
+}
+
+/** POST approve for one version (PI). */
+export function versionApproveRoute(kind: VersionKind) {
+  return apiRoute({ params: versionParams }, async ({ actor, params, ip }) => {
+    const v = await versionInCampaign(kind, params.campaignId, params.versionId);
+    authorize(actor, 'calibration.approve', { teamId: v.teamId });
+    return approveVersion({ kind, versionId: params.versionId, actor, ip });
+  });
+}

@@ -1,0 +1,4 @@
+// GET one settings version; PATCH changes a draft that no result uses yet (otherwise 409: save a new version).
+import { versionItemRoutes } from '../../access';
+
+export const { GET, PATCH } = versionItemRoutes('settings');

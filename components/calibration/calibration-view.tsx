@@ -1,0 +1,202 @@
+'use client';
+// The campaign's versioned detector calibrations and analysis settings: list, edit (analysts), approve (PI). After
+// an approval the page offers to re-reduce the campaign's scans with the new current pair.
+import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
+import Link from 'next/link';
+import { useState } from 'react';
+import { BatchesPanel } from '@/components/campaign/batches-panel';
+import type { CampaignResponse } from '@/components/campaign/types';
+import { formatNumber } from '@/components/plots/scales';
+import { formatDate } from '@/components/scans/format';
+import { parseCalibration, parseSettings } from '@/reduction/formats';
+import { Badge, Button, EmptyState, ErrorState, LoadingBlock, PageHeader, Panel } from '@/components/ui';
+import { apiFetch } from '@/lib/api/client';
+import type { VersionDto, VersionKind } from '@/lib/db/queries/calibrations';
+import { VersionEditor } from './version-editor';
+
+function summary(kind: VersionKind, body: unknown): string {
+  if (kind === 'calibration') {
+    const r = parseCalibration(body);
+    if (!r.ok) return 'not a valid calibration';
+    const c = r.value;
+    return `centre (${formatNumber(c.center_px[0], 5)}, ${formatNumber(c.center_px[1], 5)}) px · ${formatNumber(c.momentum_per_pixel_au, 4)} a.u./px · rotation ${formatNumber(c.rotation_deg, 4)}°${c.mirror ? ' · mirrored' : ''}${c.bad_pixels.length ? ` · ${c.bad_pixels.length} bad pixels` : ''}`;
+  }
+  // Stored bodies may be partial (FORMATS §3: completed from the defaults), so show the completed values.
+  const r = parseSettings(body);
+  if (!r.ok) return 'not valid settings';
+  const b = r.value;
+  const win = Array.isArray(b.radial_window_au) ? `${b.radial_window_au.join('–')} a.u.` : 'auto';
+  return `grid ±${b.grid.p_max_au} a.u., ${b.grid.n}² cells · window ${win} · ${b.peak_model} · ${b.bootstrap.resamples} resamples`;
+}
+
+function VersionList({
+  campaignId,
+  kind,
+  canEdit,
+  canApprove,
+  onApproved,
+}: {
+  campaignId: number;
+  kind: VersionKind;
+  canEdit: boolean;
+  canApprove: boolean;
+  onApproved: () => void;
+}) {
+  const qc = useQueryClient();
+  const path = kind === 'calibration' ? 'calibrations' : 'settings';
+  const q = useQuery({
+    queryKey: ['versions', campaignId, kind],
+    queryFn: () => apiFetch<{ versions: VersionDto[] }>(`/api/campaigns/${campaignId}/${path}`),
+  });
+  const [editing, setEditing] = useState<{ base: VersionDto | null; mode: 'new' | 'draft' } | null>(null);
+  const approve = useMutation({
+    mutationFn: (id: number) => apiFetch(`/api/campaigns/${campaignId}/${path}/${id}/approve`, { method: 'POST' }),
+    onSuccess: () => {
+      qc.invalidateQueries({ queryKey: ['versions', campaignId] });
+      qc.invalidateQueries({ queryKey: ['campaign', campaignId] });
+      onApproved();
+    },
+  });
+  if (q.isPending) return <LoadingBlock lines={4} />;
+  if (q.isError) return <ErrorState message={q.error.message} onRetry={() => q.refetch()} />;
+  const versions = q.data.versions;
+  const newest = versions[0] ?? null;
+  return (
+    <div className="space-y-3">
+      {canEdit && !editing ? (
+        <Button
+          size="sm"
+          variant="secondary"
+          onClick={() => setEditing({ base: versions.find((v) => v.isCurrent) ?? newest, mode: 'new' })}
+        >
+          New version
+        </Button>
+      ) : null}
+      {editing ? (
+        <VersionEditor
+          campaignId={campaignId}
+          kind={kind}
+          base={editing.base}
+          mode={editing.mode}
+          onDone={() => setEditing(null)}
+        />
+      ) : null}
+      {approve.isError ? <ErrorState message={approve.error.message} /> : null}
+      {versions.length === 0 ? (
+        <EmptyState title="No versions yet">An analyst creates the first version; the PI approves it.</EmptyState>
+      ) : (
+        <ul className="divide-y divide-ink-100 rounded-md ring-1 ring-ink-100" data-testid={`${kind}-versions`}>
+          {versions.map((v) => (
+            <li key={v.id} className="space-y-1 px-4 py-3">
+              <div className="flex flex-wrap items-center gap-2">
+                <span className="font-mono text-body font-semibold text-ink-900">v{v.version}</span>
+                {v.isCurrent ? (
+                  <Badge tone="good">current</Badge>
+                ) : (
+                  <Badge tone={v.status === 'draft' ? 'info' : 'neutral'}>{v.status}</Badge>
+                )}
+                {v.lockedAt ? (
+                  <Badge tone="neutral">
+                    used by {v.resultCount} result{v.resultCount === 1 ? '' : 's'} · locked
+                  </Badge>
+                ) : null}
+                <span className="ml-auto flex gap-1.5">
+                  {canEdit && v.status === 'draft' && !v.lockedAt ? (
+                    <Button size="sm" variant="ghost" onClick={() => setEditing({ base: v, mode: 'draft' })}>
+                      Edit draft
+                    </Button>
+                  ) : null}
+                  {canEdit ? (
+                    <Button size="sm" variant="ghost" onClick={() => setEditing({ base: v, mode: 'new' })}>
+                      Copy as new version
+                    </Button>
+                  ) : null}
+                  {canApprove && !v.isCurrent ? (
+                    <Button size="sm" onClick={() => approve.mutate(v.id)} disabled={approve.isPending}>
+                      Approve v{v.version}
+                    </Button>
+                  ) : null}
+                </span>
+              </div>
+              <p className="font-mono text-micro text-ink-600">{summary(kind, v.body)}</p>
+              <p className="text-micro text-ink-500">
+                {v.note ? `“${v.note}” · ` : ''}created {formatDate(v.createdAt)}
+                {v.createdBy ? ` by ${v.createdBy}` : ''}
+                {v.approvedAt
+                  ? ` · approved ${formatDate(v.approvedAt)}${v.approvedBy ? ` by ${v.approvedBy}` : ''}`
+                  : ''}
+              </p>
+            </li>
+          ))}
+        </ul>
+      )}
+    </div>
+  );
+}
+
+export function CalibrationView({ campaignId }: { campaignId: number }) {
+  const [offerBatch, setOfferBatch] = useState(false);
+  const q = useQuery({
+    queryKey: ['campaign', campaignId],
+    queryFn: () => apiFetch<CampaignResponse>(`/api/campaigns/${campaignId}`),
+  });
+  if (q.isPending) return <LoadingBlock lines={8} />;
+  if (q.isError) return <ErrorState message={q.error.message} onRetry={() => q.refetch()} />;
+  const { campaign: c, can } = q.data;
+  const current =
+    c.currentCalibration && c.currentSettings
+      ? `calibration v${c.currentCalibration.version} and settings v${c.currentSettings.version}`
+      : null;
+  return (
+    <div className="space-y-6">
+      <PageHeader
+        eyebrow={
+          <Link href={`/campaigns/${c.id}`} className="hover:underline">
+            {c.name}
+          </Link>
+        }
+        title="Calibration and settings"
+        description="Every change is a new version. A version used by a result never changes; results stay linked to the versions that made them."
+      />
+      {offerBatch && current ? (
+        <Panel title="Re-reduce with the new versions?" data-testid="rereduce-offer">
+          <p className="mb-3 text-small text-ink-700">
+            The campaign&apos;s current pair is now {current}. Its {c.counts.total} scan
+            {c.counts.total === 1 ? '' : 's'} keep their existing results; re-reducing adds results made with the new
+            pair.
+          </p>
+          <BatchesPanel campaignId={c.id} canStart={can.startReduction} currentLabel={current} compact />
+          {!can.startReduction ? (
+            <p className="text-small text-ink-600">An analyst of the team can start the batch.</p>
+          ) : null}
+        </Panel>
+      ) : null}
+      <div className="grid gap-6 lg:grid-cols-2">
+        <Panel
+          title="Detector calibration"
+          description="Centre, scale, rotation, mirror, detector ellipticity, bad pixels, background."
+        >
+          <VersionList
+            campaignId={c.id}
+            kind="calibration"
+            canEdit={can.editCalibration}
+            canApprove={can.approveCalibration}
+            onApproved={() => setOfferBatch(true)}
+          />
+        </Panel>
+        <Panel
+          title="Analysis settings"
+          description="Momentum grid, radial window, bins, lobes, peak model, bootstrap, phase maps."
+        >
+          <VersionList
+            campaignId={c.id}
+            kind="settings"
+            canEdit={can.editCalibration}
+            canApprove={can.approveCalibration}
+            onApproved={() => setOfferBatch(true)}
+          />
+        </Panel>
+      </div>
+    </div>
+  );
+}

@@ -1,0 +1,92 @@
+// Form state ⇄ calibration / settings objects (FORMATS §2, §3). Fields the forms do not show (flat field, phase
+// regions) are carried over unchanged from the version the edit starts from.
+import { DEFAULT_SETTINGS } from '@/reduction/formats';
+
+export type FormState = Record<string, string | boolean>;
+
+const num = (v: string | boolean | undefined) => (typeof v === 'string' && v.trim() !== '' ? Number(v) : Number.NaN);
+
+export function calibrationToForm(body: Record<string, unknown> | null): FormState {
+  const b = (body ?? {}) as {
+    center_px?: [number, number];
+    momentum_per_pixel_au?: number;
+    rotation_deg?: number;
+    mirror?: boolean;
+    detector_ellipticity?: { ratio: number; axis_deg: number };
+    bad_pixels?: [number, number][];
+    background?: { subtract: boolean; scale_by: string };
+    note?: string;
+  };
+  return {
+    center_x: String(b.center_px?.[0] ?? ''),
+    center_y: String(b.center_px?.[1] ?? ''),
+    momentum_per_pixel_au: String(b.momentum_per_pixel_au ?? ''),
+    rotation_deg: String(b.rotation_deg ?? 0),
+    mirror: !!b.mirror,
+    ellipticity_ratio: String(b.detector_ellipticity?.ratio ?? 1),
+    ellipticity_axis_deg: String(b.detector_ellipticity?.axis_deg ?? 0),
+    bad_pixels: (b.bad_pixels ?? []).map(([x, y]) => `${x}, ${y}`).join('\n'),
+    background_subtract: b.background?.subtract ?? true,
+    background_scale_by: b.background?.scale_by ?? 'shots',
+  };
+}
+
+export function formToCalibration(f: FormState, base: Record<string, unknown> | null): unknown {
+  const badText = typeof f.bad_pixels === 'string' ? f.bad_pixels : '';
+  const bad = badText
+    .split('\n')
+    .map((l) => l.trim())
+    .filter(Boolean)
+    .map((l) => l.split(/[\s,;]+/).map(Number));
+  const out: Record<string, unknown> = {
+    center_px: [num(f.center_x), num(f.center_y)],
+    momentum_per_pixel_au: num(f.momentum_per_pixel_au),
+    rotation_deg: num(f.rotation_deg),
+    mirror: !!f.mirror,
+    detector_ellipticity: { ratio: num(f.ellipticity_ratio), axis_deg: num(f.ellipticity_axis_deg) },
+    bad_pixels: bad,
+    background: { subtract: !!f.background_subtract, scale_by: f.background_scale_by },
+  };
+  if (base && 'flat_field' in base) out.flat_field = base.flat_field;
+  return out;
+}
+
+export function settingsToForm(body: Record<string, unknown> | null): FormState {
+  const b = { ...DEFAULT_SETTINGS, ...(body ?? {}) } as typeof DEFAULT_SETTINGS & { note?: string };
+  const win = b.radial_window_au;
+  return {
+    p_max_au: String(b.grid.p_max_au),
+    grid_n: String(b.grid.n),
+    window_auto: win === 'auto',
+    window_min: Array.isArray(win) ? String(win[0]) : '',
+    window_max: Array.isArray(win) ? String(win[1]) : '',
+    angular_bins: String(b.angular_bins),
+    radial_bins: String(b.radial_bins),
+    lobes: b.lobes === 'auto' ? 'auto' : String(b.lobes),
+    angular_smoothing_deg: String(b.angular_smoothing_deg),
+    peak_model: b.peak_model,
+    fit_half_width_deg: String(b.fit_half_width_deg),
+    bootstrap_resamples: String(b.bootstrap.resamples),
+    bootstrap_seed: String(b.bootstrap.seed),
+    phase_min_counts: String(b.phase.min_counts),
+    phase_harmonics: String(b.phase.harmonics),
+  };
+}
+
+export function formToSettings(f: FormState, base: Record<string, unknown> | null): unknown {
+  const phase: Record<string, unknown> = { min_counts: num(f.phase_min_counts), harmonics: num(f.phase_harmonics) };
+  const basePhase = (base?.phase ?? null) as { regions?: unknown } | null;
+  if (basePhase?.regions) phase.regions = basePhase.regions;
+  return {
+    grid: { p_max_au: num(f.p_max_au), n: num(f.grid_n) },
+    radial_window_au: f.window_auto ? 'auto' : [num(f.window_min), num(f.window_max)],
+    angular_bins: num(f.angular_bins),
+    radial_bins: num(f.radial_bins),
+    lobes: f.lobes === 'auto' ? 'auto' : num(f.lobes),
+    angular_smoothing_deg: num(f.angular_smoothing_deg),
+    peak_model: f.peak_model,
+    fit_half_width_deg: num(f.fit_half_width_deg),
+    bootstrap: { resamples: num(f.bootstrap_resamples), seed: num(f.bootstrap_seed) },
+    phase,
+  };
+}

@@ -1,0 +1,26 @@
+import type { ExperimentKind } from '@/reduction/formats';
+
+export const KIND_LABEL: Record<ExperimentKind, string> = {
+  angular_streaking: 'Angular streaking',
+  bicircular: 'Bicircular ω + 2ω',
+  two_color_phase: 'Two-colour phase scan',
+  image: 'Single image',
+};
+
+export const ROLE_LABEL: Record<string, string> = {
+  operator: 'Operator',
+  analyst: 'Analyst',
+  pi: 'PI',
+  steward: 'Data steward',
+  admin: 'Administrator',
+};
+
+export function formatWavelength(nm: number): string {
+  return `${Number.isInteger(nm) ? nm : nm.toFixed(1)} nm`;
+}
+
+export function formatDateTime(iso: string): string {
+  const d = new Date(iso);
+  if (Number.isNaN(d.getTime())) return '';
+  return d.toLocaleString('en-GB', { day: 'numeric', month: 'short', hour: '2-digit', minute: '2-digit' });
+}

@@ -1,0 +1,218 @@
+// The browser side of an upload: asks the server for a ticket (start or resume), sends the bytes straight to S3
+// through presigned URLs (one PUT, or parts with 4 in flight), retries failed parts with exponential backoff,
+// waits while the browser is offline, and asks the server to verify. Cancel aborts everything. Browser only.
+import { ApiError, apiFetch } from '@/lib/api/client';
+import { PARALLEL_PARTS, partRange, retryDelayMs } from '@/lib/ingest/plan';
+import type { Precheck } from '@/lib/ingest/schemas';
+import type { PartUrlDto, UploadOutcomeDto, UploadTicketDto } from '@/lib/ingest/types';
+
+const MAX_ATTEMPTS = 6;
+const URL_BATCH = 16;
+
+export interface UploadCallbacks {
+  /** Bytes stored so far (parts already in storage count from the start) and the total. */
+  onProgress(loaded: number, total: number): void;
+  onPhase(phase: 'sending' | 'waiting-hash' | 'verifying', info?: { resumedBytes?: number }): void;
+}
+
+export interface UploadInput {
+  file: File;
+  shiftId: number;
+  precheck: Precheck | null;
+  replacesRawFileId?: number;
+  sha256: Promise<string | null>;
+  signal: AbortSignal;
+}
+
+class Cancelled extends Error {
+  constructor() {
+    super('Cancelled.');
+    this.name = 'AbortError';
+  }
+}
+
+const sleep = (ms: number, signal: AbortSignal) =>
+  new Promise<void>((resolve, reject) => {
+    const t = setTimeout(resolve, ms);
+    signal.addEventListener(
+      'abort',
+      () => {
+        clearTimeout(t);
+        reject(new Cancelled());
+      },
+      { once: true },
+    );
+  });
+
+async function whenOnline(signal: AbortSignal): Promise<void> {
+  if (typeof navigator === 'undefined' || navigator.onLine) return;
+  await new Promise<void>((resolve, reject) => {
+    const on = () => {
+      window.removeEventListener('online', on);
+      resolve();
+    };
+    window.addEventListener('online', on);
+    signal.addEventListener(
+      'abort',
+      () => {
+        window.removeEventListener('online', on);
+        reject(new Cancelled());
+      },
+      { once: true },
+    );
+  });
+}
+
+/** One PUT with upload progress (fetch cannot report it). Resolves on 2xx; rejects with the status otherwise. */
+function put(url: string, body: Blob, signal: AbortSignal, onLoaded: (n: number) => void): Promise<void> {
+  return new Promise((resolve, reject) => {
+    const xhr = new XMLHttpRequest();
+    xhr.open('PUT', url);
+    xhr.upload.onprogress = (e) => onLoaded(e.loaded);
+    xhr.onload = () => (xhr.status >= 200 && xhr.status < 300 ? resolve() : reject(new PutError(xhr.status)));
+    xhr.onerror = () => reject(new PutError(0));
+    xhr.ontimeout = () => reject(new PutError(0));
+    const abort = () => xhr.abort();
+    signal.addEventListener('abort', abort, { once: true });
+    xhr.onabort = () => reject(new Cancelled());
+    xhr.send(body);
+  });
+}
+
+class PutError extends Error {
+  constructor(readonly status: number) {
+    super(status === 0 ? 'The connection to the file store dropped.' : `The file store answered ${status}.`);
+  }
+}
+
+async function withRetry<T>(what: () => Promise<T>, signal: AbortSignal, onRetry?: () => void): Promise<T> {
+  for (let attempt = 1; ; attempt++) {
+    if (signal.aborted) throw new Cancelled();
+    try {
+      return await what();
+    } catch (err) {
+      if ((err as Error).name === 'AbortError') throw err;
+      const retriable = err instanceof PutError || (err instanceof ApiError && (err.status === 0 || err.status >= 500));
+      if (!retriable || attempt >= MAX_ATTEMPTS) throw err;
+      onRetry?.();
+      await whenOnline(signal);
+      await sleep(retryDelayMs(attempt), signal);
+    }
+  }
+}
+
+export async function startTicket(input: Omit<UploadInput, 'sha256' | 'signal'>): Promise<UploadTicketDto> {
+  return apiFetch<UploadTicketDto>('/api/uploads', {
+    method: 'POST',
+    json: {
+      shiftId: input.shiftId,
+      fileName: input.file.name,
+      sizeBytes: input.file.size,
+      lastModifiedMs: Math.max(0, Math.round(input.file.lastModified)),
+      precheck: input.precheck,
+      ...(input.replacesRawFileId ? { replacesRawFileId: input.replacesRawFileId } : {}),
+    },
+  });
+}
+
+export async function abortTicket(uploadId: number): Promise<void> {
+  await apiFetch(`/api/uploads/${uploadId}/abort`, { method: 'POST' }).catch(() => undefined);
+}
+
+/**
+ * Sends one file and returns the server's verdict. Throws ApiError for a refusal, an AbortError when cancelled.
+ */
+export async function uploadFile(
+  input: UploadInput,
+  cb: UploadCallbacks,
+): Promise<{ outcome: UploadOutcomeDto; uploadId: number }> {
+  const { file, signal } = input;
+  const ticket = await withRetry(() => startTicket(input), signal);
+  const onAbort = () => void abortTicket(ticket.uploadId);
+  signal.addEventListener('abort', onAbort, { once: true });
+  try {
+    if (ticket.mode === 'single') {
+      cb.onPhase('sending');
+      let url = ticket.url;
+      await withRetry(
+        () => put(url, file, signal, (n) => cb.onProgress(n, file.size)),
+        signal,
+        // a fresh ticket carries a fresh URL (the old one may have expired while offline)
+        () =>
+          void startTicket(input).then((t) => {
+            if (t.mode === 'single') url = t.url;
+          }),
+      );
+      cb.onProgress(file.size, file.size);
+    } else {
+      const done = new Set(ticket.partsDone.map((p) => p.partNumber));
+      const resumedBytes = ticket.partsDone.reduce((s, p) => s + p.size, 0);
+      cb.onPhase('sending', { resumedBytes });
+      const todo: number[] = [];
+      for (let n = 1; n <= ticket.partCount; n++) if (!done.has(n)) todo.push(n);
+      const inFlight = new Map<number, number>();
+      let stored = resumedBytes;
+      const report = () => {
+        let f = 0;
+        for (const v of inFlight.values()) f += v;
+        cb.onProgress(stored + f, file.size);
+      };
+      report();
+      const urls = new Map<number, PartUrlDto>();
+      const urlFor = async (n: number, fresh: boolean): Promise<PartUrlDto> => {
+        const have = urls.get(n);
+        if (have && !fresh && Date.parse(have.expiresAt) - Date.now() > 60_000) return have;
+        const batch = [n, ...todo.filter((m) => m > n && !urls.has(m)).slice(0, URL_BATCH - 1)];
+        const r = await apiFetch<{ parts: PartUrlDto[] }>(`/api/uploads/${ticket.uploadId}/parts`, {
+          method: 'POST',
+          json: { partNumbers: batch },
+          signal,
+        });
+        for (const p of r.parts) urls.set(p.partNumber, p);
+        return urls.get(n)!;
+      };
+      let next = 0;
+      const lane = async () => {
+        while (next < todo.length) {
+          const n = todo[next++]!;
+          const range = partRange(file.size, ticket.partSize, n);
+          const blob = file.slice(range.start, range.end);
+          let fresh = false;
+          await withRetry(
+            async () => {
+              const u = await urlFor(n, fresh);
+              await put(u.url, blob, signal, (loaded) => {
+                inFlight.set(n, loaded);
+                report();
+              });
+            },
+            signal,
+            () => {
+              fresh = true;
+              inFlight.delete(n);
+              report();
+            },
+          );
+          inFlight.delete(n);
+          stored += range.length;
+          report();
+        }
+      };
+      await Promise.all(Array.from({ length: Math.min(PARALLEL_PARTS, todo.length) }, lane));
+    }
+    cb.onPhase('waiting-hash');
+    const sha256 = await input.sha256;
+    cb.onPhase('verifying');
+    const outcome = await withRetry(
+      () =>
+        apiFetch<UploadOutcomeDto>(`/api/uploads/${ticket.uploadId}/complete`, {
+          method: 'POST',
+          json: sha256 ? { sha256 } : {},
+        }),
+      signal,
+    );
+    return { outcome, uploadId: ticket.uploadId };
+  } finally {
+    signal.removeEventListener('abort', onAbort);
+  }
+}

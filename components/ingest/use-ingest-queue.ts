@@ -1,0 +1,247 @@
+'use client';
+// State of the files dropped on the shift page: pre-check, hash, upload, verdict. Nothing leaves the list on its
+// own: a file is either sent, or stays with the reason it was not.
+import { useCallback, useEffect, useRef, useState } from 'react';
+import { ApiError } from '@/lib/api/client';
+import type { Precheck } from '@/lib/ingest/schemas';
+import type { UploadOutcomeDto } from '@/lib/ingest/types';
+import { FileChecker } from './precheck-client';
+import type { PrecheckResult } from './precheck-protocol';
+import { uploadFile } from './uploader';
+
+export type ItemPhase =
+  | 'checking'
+  | 'ready'
+  | 'queued'
+  | 'sending'
+  | 'waiting-hash'
+  | 'verifying'
+  | 'done'
+  | 'failed'
+  | 'cancelled';
+
+export interface QueueItem {
+  key: string;
+  file: File;
+  replacesRawFileId?: number;
+  precheck: PrecheckResult | null;
+  precheckError: string | null;
+  /** Send this file even though the pre-check found problems (it will be quarantined). */
+  sendAnyway: boolean;
+  phase: ItemPhase;
+  loaded: number;
+  resumedBytes: number;
+  hashBytes: number;
+  sha256: string | null;
+  outcome: UploadOutcomeDto | null;
+  error: { message: string; details: string[] } | null;
+  startedAt: number | null;
+}
+
+export interface BatchStats {
+  total: number;
+  loaded: number;
+  bytesPerSecond: number;
+  secondsLeft: number;
+  active: boolean;
+}
+
+function toPrecheck(r: PrecheckResult | null): Precheck | null {
+  if (!r) return null;
+  const s = r.summary;
+  return {
+    ok: r.ok,
+    problems: r.problems.slice(0, 200).map((p) => p.slice(0, 2000)),
+    warnings: r.warnings.slice(0, 200).map((p) => p.slice(0, 2000)),
+    summary: s
+      ? {
+          experimentKind: s.experimentKind,
+          target: s.target,
+          wavelengthNm: s.wavelengthNm,
+          ellipticity: s.ellipticity,
+          stepQuantity: s.stepQuantity,
+          nSteps: s.nSteps,
+          nY: s.nY,
+          nX: s.nX,
+          startTime: s.startTime,
+        }
+      : null,
+  };
+}
+
+const isSendable = (i: QueueItem) => i.phase === 'ready' && (i.precheck?.ok === true || i.sendAnyway);
+
+export function useIngestQueue({ shiftId, onStored }: { shiftId: number; onStored: () => void }) {
+  const [items, setItems] = useState<QueueItem[]>([]);
+  const itemsRef = useRef(items);
+  itemsRef.current = items;
+  const checker = useRef<FileChecker | null>(null);
+  const controllers = useRef(new Map<string, AbortController>());
+  const hashes = useRef(new Map<string, Promise<string | null>>());
+  const running = useRef(false);
+  const samples = useRef<{ t: number; loaded: number }[]>([]);
+  const [stats, setStats] = useState<BatchStats>({
+    total: 0,
+    loaded: 0,
+    bytesPerSecond: 0,
+    secondsLeft: Number.NaN,
+    active: false,
+  });
+
+  useEffect(() => () => checker.current?.terminate(), []);
+
+  const patch = useCallback((key: string, p: Partial<QueueItem> | ((i: QueueItem) => Partial<QueueItem>)) => {
+    setItems((list) => list.map((i) => (i.key === key ? { ...i, ...(typeof p === 'function' ? p(i) : p) } : i)));
+  }, []);
+
+  const addFiles = useCallback(
+    (files: File[], replacesRawFileId?: number) => {
+      const fresh: QueueItem[] = files.map((file) => ({
+        key: `${file.name}:${file.size}:${file.lastModified}:${Math.random().toString(36).slice(2, 8)}`,
+        file,
+        replacesRawFileId,
+        precheck: null,
+        precheckError: null,
+        sendAnyway: false,
+        phase: 'checking',
+        loaded: 0,
+        resumedBytes: 0,
+        hashBytes: 0,
+        sha256: null,
+        outcome: null,
+        error: null,
+        startedAt: null,
+      }));
+      setItems((list) => [...list, ...fresh]);
+      checker.current ??= new FileChecker();
+      const c = checker.current;
+      for (const item of fresh) {
+        c.precheck(item.file).then(
+          (r) => patch(item.key, { precheck: r, phase: 'ready' }),
+          (err: Error) =>
+            patch(item.key, {
+              precheckError: `The file could not be opened in the browser: ${err.message}`,
+              phase: 'ready',
+            }),
+        );
+        // The hash runs while the file is checked and sent; the server compares it with its own.
+        hashes.current.set(
+          item.key,
+          c
+            .sha256(item.file, (bytes) => patch(item.key, { hashBytes: bytes }))
+            .then(
+              (h) => {
+                patch(item.key, { sha256: h, hashBytes: item.file.size });
+                return h;
+              },
+              () => null,
+            ),
+        );
+      }
+    },
+    [patch],
+  );
+
+  const pump = useCallback(async () => {
+    if (running.current) return;
+    running.current = true;
+    try {
+      for (;;) {
+        const next = itemsRef.current.find((i) => i.phase === 'queued');
+        if (!next) break;
+        const ctrl = new AbortController();
+        controllers.current.set(next.key, ctrl);
+        patch(next.key, { phase: 'sending', startedAt: Date.now(), error: null });
+        try {
+          const { outcome } = await uploadFile(
+            {
+              file: next.file,
+              shiftId,
+              precheck: toPrecheck(next.precheck),
+              replacesRawFileId: next.replacesRawFileId,
+              sha256: hashes.current.get(next.key) ?? Promise.resolve(null),
+              signal: ctrl.signal,
+            },
+            {
+              onProgress: (loaded) => patch(next.key, { loaded }),
+              onPhase: (phase, info) =>
+                patch(next.key, (i) => ({ phase, resumedBytes: info?.resumedBytes ?? i.resumedBytes })),
+            },
+          );
+          patch(next.key, { phase: 'done', outcome, loaded: next.file.size });
+          onStored();
+        } catch (err) {
+          if ((err as Error).name === 'AbortError') patch(next.key, { phase: 'cancelled' });
+          else {
+            const e =
+              err instanceof ApiError
+                ? { message: err.message, details: err.details }
+                : { message: String((err as Error).message ?? err), details: [] };
+            patch(next.key, { phase: 'failed', error: e });
+          }
+          onStored();
+        } finally {
+          controllers.current.delete(next.key);
+        }
+      }
+    } finally {
+      running.current = false;
+    }
+  }, [patch, shiftId, onStored]);
+
+  const sendAll = useCallback(() => {
+    setItems((list) => list.map((i) => (isSendable(i) ? { ...i, phase: 'queued' } : i)));
+    setTimeout(() => void pump(), 0);
+  }, [pump]);
+
+  const retry = useCallback(
+    (key: string) => {
+      patch(key, { phase: 'queued', error: null });
+      setTimeout(() => void pump(), 0);
+    },
+    [patch, pump],
+  );
+
+  const cancel = useCallback(
+    (key: string) => {
+      const ctrl = controllers.current.get(key);
+      if (ctrl) ctrl.abort();
+      else patch(key, (i) => (i.phase === 'queued' ? { phase: 'ready' } : {}));
+    },
+    [patch],
+  );
+
+  const remove = useCallback((key: string) => setItems((list) => list.filter((i) => i.key !== key)), []);
+  const setSendAnyway = useCallback((key: string, v: boolean) => patch(key, { sendAnyway: v }), [patch]);
+
+  // batch speed and time left from the last ~5 s of progress
+  useEffect(() => {
+    const timer = setInterval(() => {
+      const list = itemsRef.current.filter((i) =>
+        ['queued', 'sending', 'waiting-hash', 'verifying', 'done'].includes(i.phase),
+      );
+      const inBatch = list.filter((i) => i.phase !== 'done' || (i.startedAt ?? 0) > Date.now() - 3_600_000);
+      const total = inBatch.reduce((s, i) => s + i.file.size, 0);
+      const loaded = inBatch.reduce((s, i) => s + Math.min(i.file.size, i.loaded), 0);
+      const active = inBatch.some((i) => i.phase !== 'done');
+      const now = Date.now();
+      const sent = inBatch.reduce((s, i) => s + Math.max(0, Math.min(i.file.size, i.loaded) - i.resumedBytes), 0);
+      samples.current.push({ t: now, loaded: sent });
+      samples.current = samples.current.filter((s) => s.t > now - 5_000);
+      const first = samples.current[0];
+      const rate = first && now > first.t ? ((sent - first.loaded) / (now - first.t)) * 1000 : 0;
+      setStats({
+        total,
+        loaded,
+        bytesPerSecond: active ? rate : 0,
+        secondsLeft: rate > 0 ? (total - loaded) / rate : Number.NaN,
+        active,
+      });
+    }, 500);
+    return () => clearInterval(timer);
+  }, []);
+
+  return { items, stats, addFiles, sendAll, retry, cancel, remove, setSendAnyway, isSendable };
+}
+
+export type IngestQueue = ReturnType<typeof useIngestQueue>;

@@ -1,0 +1,166 @@
+'use client';
+// Angular distribution in the radial window with the fitted peak model of each lobe, and the radial and energy
+// spectra of one step, from the stored result file.
+import { useQuery } from '@tanstack/react-query';
+import { XYPlot } from '@/components/plots/xy-plot';
+import { ErrorState, LoadingBlock } from '@/components/ui';
+import { apiFetch } from '@/lib/api/client';
+import type { AnalysisSettings, StepResult } from '@/reduction/formats';
+import { HARTREE_EV } from './format';
+import type { CurvesResponse } from './types';
+
+const MEASURED = '#253043';
+const FIT = '#e3770c';
+const EXPECTED = '#0f8077';
+
+function wrap180(d: number): number {
+  return ((((d + 180) % 360) + 360) % 360) - 180;
+}
+
+/**
+ * The peak model of one lobe for display: centre and width as fitted by the reduction, height and constant base
+ * re-fitted here by linear least squares to the unsmoothed distribution inside ±fit_half_width.
+ */
+export function lobeModelCurve(
+  theta: number[],
+  y: number[],
+  centre: number,
+  width: number,
+  halfWidth: number,
+  model: AnalysisSettings['peak_model'],
+): { x: number; y: number }[] {
+  const shape = (t: number) => {
+    const d = wrap180(t - centre);
+    if (model === 'von_mises') {
+      const k = 1 / ((width * Math.PI) / 180) ** 2;
+      return Math.exp(k * (Math.cos((d * Math.PI) / 180) - 1));
+    }
+    return Math.exp(-(d * d) / (2 * width * width));
+  };
+  let n = 0;
+  let sf = 0;
+  let sff = 0;
+  let sy = 0;
+  let sfy = 0;
+  const inside: number[] = [];
+  theta.forEach((t, i) => {
+    if (Math.abs(wrap180(t - centre)) > halfWidth) return;
+    const f = shape(t);
+    const v = y[i] as number;
+    n++;
+    sf += f;
+    sff += f * f;
+    sy += v;
+    sfy += f * v;
+    inside.push(i);
+  });
+  const det = n * sff - sf * sf;
+  if (n < 3 || Math.abs(det) < 1e-12) return [];
+  const A = (n * sfy - sf * sy) / det;
+  const B = (sy - A * sf) / n;
+  return inside.map((i) => ({ x: theta[i] as number, y: B + A * shape(theta[i] as number) }));
+}
+
+export function DistributionsPanel({
+  scanId,
+  resultId,
+  step,
+  settings,
+}: {
+  scanId: number;
+  resultId: number;
+  step: StepResult;
+  settings: AnalysisSettings;
+}) {
+  const q = useQuery({
+    queryKey: ['scan-curves', scanId, resultId, step.index],
+    queryFn: () => apiFetch<CurvesResponse>(`/api/scans/${scanId}/curves?step=${step.index}&resultId=${resultId}`),
+    staleTime: Number.POSITIVE_INFINITY,
+  });
+  if (q.isPending) return <LoadingBlock lines={6} />;
+  if (q.isError) return <ErrorState message={q.error.message} onRetry={() => q.refetch()} />;
+  const c = q.data;
+  const fits = step.lobes.flatMap((l, i) =>
+    l.width_deg
+      ? [
+          {
+            id: `fit${i}`,
+            label: i === 0 ? `peak model (${settings.peak_model}, centre and width from the fit)` : '',
+            color: FIT,
+            width: 2,
+            points: lobeModelCurve(
+              c.thetaDeg,
+              c.angular,
+              l.angle_deg,
+              l.width_deg,
+              settings.fit_half_width_deg,
+              settings.peak_model,
+            ),
+          },
+        ]
+      : [],
+  );
+  const energy = c.pAu
+    .map((p, i) => ({ x: (p * p * HARTREE_EV) / 2, y: p > 0 ? (c.radial[i] as number) / p / HARTREE_EV : Number.NaN }))
+    .filter((pt) => Number.isFinite(pt.y));
+  return (
+    <div className="grid gap-6">
+      <div>
+        <h3 className="mb-1 text-small font-semibold text-ink-800">Angular distribution in the radial window</h3>
+        <XYPlot
+          data-testid="angular-plot"
+          xLabel="lab azimuth θ (deg)"
+          yLabel="counts per bin"
+          xDomain={[-180, 180]}
+          series={[
+            {
+              id: 'measured',
+              label: 'measured',
+              color: MEASURED,
+              width: 1.2,
+              points: c.thetaDeg.map((t, i) => ({ x: t, y: c.angular[i] as number })),
+            },
+            ...fits.map((f, i) => ({ ...f, label: i === 0 ? f.label : `${f.label} ` })).filter((f) => f.points.length),
+          ]}
+          guides={step.lobes.flatMap((l, i) => [
+            { x: l.angle_deg, color: FIT, label: `lobe ${i + 1}` },
+            ...(l.expected_deg == null ? [] : [{ x: l.expected_deg, color: EXPECTED, label: 'simple man' }]),
+          ])}
+          legend={false}
+        />
+        <p className="text-micro text-ink-500">
+          Solid line: measured counts; thick line: peak model; dashed verticals: fitted lobe direction (amber) and
+          simple-man direction (teal). Offset = fitted − simple-man, positive in the sense of field rotation.
+        </p>
+      </div>
+      <div>
+        <h3 className="mb-1 text-small font-semibold text-ink-800">Radial spectrum</h3>
+        <XYPlot
+          data-testid="radial-plot"
+          xLabel="|p| (a.u.)"
+          yLabel="dN/d|p| (counts per a.u.)"
+          series={[
+            {
+              id: 'radial',
+              label: 'radial',
+              color: MEASURED,
+              points: c.pAu.map((p, i) => ({ x: p, y: c.radial[i] as number })),
+            },
+          ]}
+          guides={step.radius_au ? [{ x: step.radius_au, color: FIT, label: 'lobe radius' }] : []}
+          height={240}
+        />
+      </div>
+      <div>
+        <h3 className="mb-1 text-small font-semibold text-ink-800">Energy spectrum</h3>
+        <XYPlot
+          data-testid="energy-plot"
+          xLabel="photoelectron energy E = p²/2 (eV)"
+          yLabel="dN/dE (counts per eV)"
+          series={[{ id: 'energy', label: 'energy', color: MEASURED, points: energy }]}
+          height={240}
+        />
+      </div>
+    </div>
+  );
+}

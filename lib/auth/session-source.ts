@@ -1,0 +1,43 @@
+// Where getActor() learns who is signed in. In the app this is the next-auth session (a signed, encrypted JWT in
+// a cookie). Tests that call route handlers directly have no request scope for next-auth, so they may replace the
+// source with `setSessionSourceForTests` (tests/integration/helpers/session.ts). The override is honoured only
+// when NODE_ENV is 'test' (vitest sets it); a production or development server never reads it.
+import { decode } from 'next-auth/jwt';
+import { getEnv } from '@/lib/env';
+
+export interface SessionClaims {
+  userId: number;
+}
+
+export type SessionSource = () => Promise<SessionClaims | null>;
+
+const g = globalThis as typeof globalThis & { __lobelineTestSessionSource?: SessionSource | null };
+
+/** Test hook: every later getActor() call asks `source` instead of next-auth. Pass null to remove it. */
+export function setSessionSourceForTests(source: SessionSource | null): void {
+  if (process.env.NODE_ENV !== 'test') throw new Error('setSessionSourceForTests is only available in tests');
+  g.__lobelineTestSessionSource = source;
+}
+
+/** The test override when one is set and NODE_ENV is 'test', else null. */
+export function testSessionSource(): SessionSource | null {
+  if (process.env.NODE_ENV !== 'test') return null;
+  return g.__lobelineTestSessionSource ?? null;
+}
+
+/**
+ * Decodes a next-auth session cookie value with NEXTAUTH_SECRET; a forged, tampered or expired token gives null.
+ * Used by tests to exercise the real token check, and usable by any server code holding a raw cookie.
+ */
+export async function claimsFromSessionToken(token: string): Promise<SessionClaims | null> {
+  try {
+    const decoded = await decode({ token, secret: getEnv().NEXTAUTH_SECRET });
+    const userId = decoded?.userId;
+    if (typeof userId !== 'number' || !Number.isInteger(userId) || userId <= 0) return null;
+    const exp = decoded?.exp;
+    if (typeof exp === 'number' && exp * 1000 < Date.now()) return null;
+    return { userId };
+  } catch {
+    return null;
+  }
+}

@@ -1,0 +1,801 @@
+import 'server-only';
+// Accounts, teams, memberships, facility roles, sign-in attempts: the data layer of lib/auth and the admin pages.
+// Every function takes one object argument and returns plain DTOs (never model instances, never password hashes).
+import { Op, type Transaction, UniqueConstraintError } from 'sequelize';
+import { recordAudit } from '@/lib/audit';
+import { getDb } from '@/lib/db';
+import { AppError } from '@/lib/errors';
+import type { Actor, FacilityRole, TeamRole } from '@/lib/policy';
+import { FACILITY_ROLES, TEAM_ROLES } from '@/lib/policy';
+import { AuditEvent, FacilityRoleGrant, Invitation, Membership, PasswordResetToken, SignInAttempt, Team, User } from '@/models';
+
+// TYPES //
+
+export interface UserDto {
+  id: number;
+  email: string;
+  name: string;
+  isActive: boolean;
+  /** Whether a password is set (false for accounts invited but not yet activated). */
+  hasPassword: boolean;
+  lastSignInAt: string | null;
+  createdAt: string;
+  memberships: { teamId: number; teamSlug: string; teamName: string; role: TeamRole }[];
+  facilityRoles: FacilityRole[];
+}
+
+export interface TeamDto {
+  id: number;
+  slug: string;
+  name: string;
+  description: string | null;
+  memberCount: number;
+}
+
+// HELPERS //
+
+/** Wraps driver errors as `*:database` (the user sees a generic sentence, the log gets the rest). */
+export async function db<T>(what: string, fn: () => Promise<T>): Promise<T> {
+  try {
+    getDb();
+    return await fn();
+  } catch (err) {
+    if (err instanceof AppError) throw err;
+    const name = (err as Error)?.name ?? '';
+    const unavailable = /Connection|Timeout|HostNotReachable|AccessDenied/.test(name);
+    throw new AppError(unavailable ? 'unavailable:database' : 'internal:database', { cause: err, context: { what } });
+  }
+}
+
+export function normalizeEmail(email: string): string {
+  return email.trim().toLowerCase();
+}
+
+const iso = (d: Date | null | undefined) => (d ? new Date(d).toISOString() : null);
+
+type UserWithRoles = User & {
+  memberships?: (Membership & { team?: Team })[];
+  facilityRoles?: FacilityRoleGrant[];
+};
+
+const userIncludes = () => [
+  { model: Membership, as: 'memberships', include: [{ model: Team, as: 'team' }] },
+  { model: FacilityRoleGrant, as: 'facilityRoles' },
+];
+
+function toUserDto(u: UserWithRoles): UserDto {
+  return {
+    id: u.id,
+    email: u.email,
+    name: u.name,
+    isActive: !!u.is_active,
+    hasPassword: !!u.password_hash,
+    lastSignInAt: iso(u.last_sign_in_at),
+    createdAt: iso(u.created_at) ?? '',
+    memberships: (u.memberships ?? [])
+      .filter((m) => m.team)
+      .map((m) => ({ teamId: m.team_id, teamSlug: m.team!.slug, teamName: m.team!.name, role: m.role }))
+      .sort((a, b) => a.teamName.localeCompare(b.teamName)),
+    facilityRoles: (u.facilityRoles ?? [])
+      .map((f) => f.role)
+      .filter((r): r is FacilityRole => (FACILITY_ROLES as readonly string[]).includes(r))
+      .sort(),
+  };
+}
+
+// ACTOR //
+
+/** The actor for a user id, read fresh from the database; null when unknown or deactivated. */
+export async function getActorByUserId({ userId }: { userId: number }): Promise<Actor | null> {
+  return db('getActorByUserId', async () => {
+    const user = (await User.findByPk(userId, { include: userIncludes() })) as UserWithRoles | null;
+    if (!user || !user.is_active) return null;
+    const dto = toUserDto(user);
+    return {
+      userId: dto.id,
+      email: dto.email,
+      name: dto.name,
+      memberships: dto.memberships.filter((m) => (TEAM_ROLES as readonly string[]).includes(m.role)),
+      facilityRoles: dto.facilityRoles,
+    };
+  });
+}
+
+// SIGN-IN //
+
+export interface SignInUser {
+  id: number;
+  email: string;
+  name: string;
+  isActive: boolean;
+  passwordHash: string | null;
+}
+
+/** For the credentials check only: the one function that returns the password hash. */
+export async function getUserForSignIn({ email }: { email: string }): Promise<SignInUser | null> {
+  return db('getUserForSignIn', async () => {
+    const u = await User.findOne({ where: { email: normalizeEmail(email) } });
+    return u ? { id: u.id, email: u.email, name: u.name, isActive: !!u.is_active, passwordHash: u.password_hash } : null;
+  });
+}
+
+/** Failed attempts since `since` for an account (after its last success) and for an address. */
+export async function countFailedSignIns({
+  email,
+  ip,
+  since,
+}: {
+  email: string;
+  ip: string;
+  since: Date;
+}): Promise<{ byAccount: number; byIp: number }> {
+  return db('countFailedSignIns', async () => {
+    const normalized = normalizeEmail(email);
+    const lastSuccess = (await SignInAttempt.max('created_at', {
+      where: { email: normalized, succeeded: true, created_at: { [Op.gte]: since } },
+    })) as Date | null;
+    const accountSince = lastSuccess && new Date(lastSuccess) > since ? new Date(lastSuccess) : since;
+    const [byAccount, byIp] = await Promise.all([
+      SignInAttempt.count({ where: { email: normalized, succeeded: false, created_at: { [Op.gt]: accountSince } } }),
+      SignInAttempt.count({ where: { ip, succeeded: false, created_at: { [Op.gte]: since } } }),
+    ]);
+    return { byAccount, byIp };
+  });
+}
+
+/** Oldest failure still inside the window, to tell the user how long to wait. */
+export async function oldestFailureSince({
+  email,
+  ip,
+  since,
+  by,
+}: {
+  email: string;
+  ip: string;
+  since: Date;
+  by: 'account' | 'ip';
+}): Promise<Date | null> {
+  return db('oldestFailureSince', async () => {
+    const where = by === 'account' ? { email: normalizeEmail(email) } : { ip };
+    const v = (await SignInAttempt.min('created_at', {
+      where: { ...where, succeeded: false, created_at: { [Op.gte]: since } },
+    })) as Date | null;
+    return v ? new Date(v) : null;
+  });
+}
+
+export async function recordSignInAttempt({
+  email,
+  ip,
+  succeeded,
+}: {
+  email: string;
+  ip: string;
+  succeeded: boolean;
+}): Promise<void> {
+  await db('recordSignInAttempt', async () => {
+    await SignInAttempt.create({ email: normalizeEmail(email).slice(0, 254), ip: ip.slice(0, 64), succeeded });
+  });
+}
+
+export async function markSignedIn({ userId }: { userId: number }): Promise<void> {
+  await db('markSignedIn', async () => {
+    await User.update({ last_sign_in_at: new Date() }, { where: { id: userId } });
+  });
+}
+
+// USERS //
+
+export async function getUserById({ userId }: { userId: number }): Promise<UserDto | null> {
+  return db('getUserById', async () => {
+    const u = (await User.findByPk(userId, { include: userIncludes() })) as UserWithRoles | null;
+    return u ? toUserDto(u) : null;
+  });
+}
+
+export async function getUserByEmail({ email }: { email: string }): Promise<UserDto | null> {
+  return db('getUserByEmail', async () => {
+    const u = (await User.findOne({
+      where: { email: normalizeEmail(email) },
+      include: userIncludes(),
+    })) as UserWithRoles | null;
+    return u ? toUserDto(u) : null;
+  });
+}
+
+export async function listUsers(): Promise<UserDto[]> {
+  return db('listUsers', async () => {
+    const users = (await User.findAll({ include: userIncludes(), order: [['email', 'ASC']] })) as UserWithRoles[];
+    return users.map(toUserDto);
+  });
+}
+
+export async function setUserPassword(
+  { userId, passwordHash }: { userId: number; passwordHash: string },
+  t?: Transaction,
+): Promise<void> {
+  await User.update({ password_hash: passwordHash }, { where: { id: userId }, transaction: t });
+}
+
+export async function setUserActive({ userId, isActive }: { userId: number; isActive: boolean }): Promise<boolean> {
+  return db('setUserActive', async () => {
+    const [n] = await User.update({ is_active: isActive }, { where: { id: userId } });
+    return n > 0;
+  });
+}
+
+// TEAMS //
+
+export async function listTeams({ ids }: { ids?: number[] } = {}): Promise<TeamDto[]> {
+  return db('listTeams', async () => {
+    const where = ids ? { id: { [Op.in]: ids.length ? ids : [0] } } : {};
+    const teams = await Team.findAll({ where, order: [['name', 'ASC']] });
+    const counts = (await Membership.count({
+      where: { team_id: { [Op.in]: teams.map((t) => t.id).concat(0) } },
+      group: ['team_id'],
+    })) as unknown as { team_id: number; count: number }[];
+    const byTeam = new Map(counts.map((c) => [Number(c.team_id), Number(c.count)]));
+    return teams.map((t) => ({
+      id: t.id,
+      slug: t.slug,
+      name: t.name,
+      description: t.description,
+      memberCount: byTeam.get(t.id) ?? 0,
+    }));
+  });
+}
+
+export async function getTeamById({ teamId }: { teamId: number }): Promise<TeamDto | null> {
+  const [team] = await listTeams({ ids: [teamId] });
+  return team ?? null;
+}
+
+export async function teamExists({ teamId }: { teamId: number }): Promise<boolean> {
+  return db('teamExists', async () => (await Team.count({ where: { id: teamId } })) > 0);
+}
+
+// AUDIT CONTEXT //
+
+/** Who does a change, for the audit rows written with it. */
+export interface By {
+  userId: number | null;
+  email: string | null;
+  ip: string;
+}
+
+const auditBy = (by: By) => ({ actorId: by.userId, actorEmail: by.email, ip: by.ip });
+
+// TEAMS (ADMIN) //
+
+export async function createTeam(
+  input: { slug: string; name: string; description: string | null },
+  by: By,
+): Promise<{ id: number }> {
+  return db('createTeam', async () => {
+    try {
+      return await getDb().transaction(async (t) => {
+        const team = await Team.create(input, { transaction: t });
+        await recordAudit(
+          { action: 'team.created', ...auditBy(by), teamId: team.id, targetType: 'team', targetId: team.id, details: input },
+          { transaction: t },
+        );
+        return { id: team.id };
+      });
+    } catch (err) {
+      if (err instanceof UniqueConstraintError) {
+        throw new AppError('conflict:team', {
+          message: 'A team with this short name already exists.',
+          details: ['slug: A team with this short name already exists.'],
+        });
+      }
+      throw err;
+    }
+  });
+}
+
+// MEMBERSHIPS AND FACILITY ROLES (ADMIN) //
+
+/** Adds a membership, or changes the role when the user is already in the team. */
+export async function upsertMembership(
+  input: { userId: number; teamId: number; role: TeamRole },
+  by: By,
+  t?: Transaction,
+): Promise<{ changed: 'added' | 'changed' | 'unchanged'; previousRole: TeamRole | null }> {
+  const run = async (tx: Transaction) => {
+    const existing = await Membership.findOne({
+      where: { user_id: input.userId, team_id: input.teamId },
+      transaction: tx,
+      lock: tx.LOCK.UPDATE,
+    });
+    if (existing && existing.role === input.role) return { changed: 'unchanged' as const, previousRole: existing.role };
+    if (existing) {
+      const previousRole = existing.role;
+      await existing.update({ role: input.role }, { transaction: tx });
+      await recordAudit(
+        {
+          action: 'membership.changed',
+          ...auditBy(by),
+          teamId: input.teamId,
+          targetType: 'user',
+          targetId: input.userId,
+          details: { from: previousRole, to: input.role },
+        },
+        { transaction: tx },
+      );
+      return { changed: 'changed' as const, previousRole };
+    }
+    await Membership.create({ user_id: input.userId, team_id: input.teamId, role: input.role }, { transaction: tx });
+    await recordAudit(
+      {
+        action: 'membership.added',
+        ...auditBy(by),
+        teamId: input.teamId,
+        targetType: 'user',
+        targetId: input.userId,
+        details: { role: input.role },
+      },
+      { transaction: tx },
+    );
+    return { changed: 'added' as const, previousRole: null };
+  };
+  if (t) return run(t);
+  return db('upsertMembership', () => getDb().transaction(run));
+}
+
+export async function removeMembership(input: { userId: number; teamId: number }, by: By): Promise<boolean> {
+  return db('removeMembership', () =>
+    getDb().transaction(async (t) => {
+      const existing = await Membership.findOne({
+        where: { user_id: input.userId, team_id: input.teamId },
+        transaction: t,
+        lock: t.LOCK.UPDATE,
+      });
+      if (!existing) return false;
+      await existing.destroy({ transaction: t });
+      await recordAudit(
+        {
+          action: 'membership.removed',
+          ...auditBy(by),
+          teamId: input.teamId,
+          targetType: 'user',
+          targetId: input.userId,
+          details: { role: existing.role },
+        },
+        { transaction: t },
+      );
+      return true;
+    }),
+  );
+}
+
+export async function grantFacilityRole(
+  input: { userId: number; role: FacilityRole },
+  by: By,
+  t?: Transaction,
+): Promise<boolean> {
+  const run = async (tx: Transaction) => {
+    const existing = await FacilityRoleGrant.findOne({
+      where: { user_id: input.userId, role: input.role },
+      transaction: tx,
+    });
+    if (existing) return false;
+    await FacilityRoleGrant.create({ user_id: input.userId, role: input.role }, { transaction: tx });
+    await recordAudit(
+      {
+        action: 'facility_role.granted',
+        ...auditBy(by),
+        targetType: 'user',
+        targetId: input.userId,
+        details: { role: input.role },
+      },
+      { transaction: tx },
+    );
+    return true;
+  };
+  if (t) return run(t);
+  return db('grantFacilityRole', () => getDb().transaction(run));
+}
+
+export async function revokeFacilityRole(input: { userId: number; role: FacilityRole }, by: By): Promise<boolean> {
+  return db('revokeFacilityRole', () =>
+    getDb().transaction(async (t) => {
+      const n = await FacilityRoleGrant.destroy({ where: { user_id: input.userId, role: input.role }, transaction: t });
+      if (n === 0) return false;
+      await recordAudit(
+        {
+          action: 'facility_role.revoked',
+          ...auditBy(by),
+          targetType: 'user',
+          targetId: input.userId,
+          details: { role: input.role },
+        },
+        { transaction: t },
+      );
+      return true;
+    }),
+  );
+}
+
+export async function countAdmins(): Promise<number> {
+  return db('countAdmins', async () =>
+    FacilityRoleGrant.count({
+      where: { role: 'admin' },
+      include: [{ model: User, as: 'user', where: { is_active: true }, attributes: [] }],
+    }),
+  );
+}
+
+export async function setUserActiveAudited(input: { userId: number; isActive: boolean }, by: By): Promise<boolean> {
+  return db('setUserActiveAudited', () =>
+    getDb().transaction(async (t) => {
+      const user = await User.findByPk(input.userId, { transaction: t, lock: t.LOCK.UPDATE });
+      if (!user) return false;
+      if (!!user.is_active === input.isActive) return true;
+      await user.update({ is_active: input.isActive }, { transaction: t });
+      await recordAudit(
+        {
+          action: input.isActive ? 'user.updated' : 'user.deactivated',
+          ...auditBy(by),
+          targetType: 'user',
+          targetId: input.userId,
+          details: input.isActive ? { reactivated: true } : { email: user.email },
+        },
+        { transaction: t },
+      );
+      return true;
+    }),
+  );
+}
+
+// INVITATIONS //
+
+export interface InvitationDto {
+  id: number;
+  email: string;
+  name: string | null;
+  teamId: number | null;
+  teamName: string | null;
+  role: TeamRole | null;
+  facilityRole: FacilityRole | null;
+  expiresAt: string;
+  acceptedAt: string | null;
+  revokedAt: string | null;
+  createdAt: string;
+}
+
+function toInvitationDto(i: Invitation & { team?: Team | null }): InvitationDto {
+  return {
+    id: i.id,
+    email: i.email,
+    name: i.name,
+    teamId: i.team_id,
+    teamName: i.team?.name ?? null,
+    role: i.role,
+    facilityRole: i.facility_role,
+    expiresAt: iso(i.expires_at) ?? '',
+    acceptedAt: iso(i.accepted_at),
+    revokedAt: iso(i.revoked_at),
+    createdAt: iso(i.created_at) ?? '',
+  };
+}
+
+export async function insertInvitation(
+  input: {
+    email: string;
+    name: string | null;
+    teamId: number | null;
+    role: TeamRole | null;
+    facilityRole: FacilityRole | null;
+    tokenHash: string;
+    expiresAt: Date;
+  },
+  by: By,
+): Promise<{ id: number }> {
+  return db('insertInvitation', () =>
+    getDb().transaction(async (t) => {
+      const inv = await Invitation.create(
+        {
+          email: normalizeEmail(input.email),
+          name: input.name,
+          team_id: input.teamId,
+          role: input.role,
+          facility_role: input.facilityRole,
+          token_hash: input.tokenHash,
+          invited_by: by.userId,
+          expires_at: input.expiresAt,
+          accepted_at: null,
+          revoked_at: null,
+        },
+        { transaction: t },
+      );
+      await recordAudit(
+        {
+          action: 'invitation.created',
+          ...auditBy(by),
+          teamId: input.teamId,
+          targetType: 'invitation',
+          targetId: inv.id,
+          details: { email: normalizeEmail(input.email), role: input.role, facilityRole: input.facilityRole },
+        },
+        { transaction: t },
+      );
+      return { id: inv.id };
+    }),
+  );
+}
+
+export async function listPendingInvitations(): Promise<InvitationDto[]> {
+  return db('listPendingInvitations', async () => {
+    const rows = await Invitation.findAll({
+      where: { accepted_at: null, revoked_at: null, expires_at: { [Op.gt]: new Date() } },
+      include: [{ model: Team, as: 'team' }],
+      order: [['created_at', 'DESC']],
+      limit: 200,
+    });
+    return rows.map(toInvitationDto);
+  });
+}
+
+export async function revokeInvitation({ invitationId }: { invitationId: number }, by: By): Promise<boolean> {
+  return db('revokeInvitation', () =>
+    getDb().transaction(async (t) => {
+      const inv = await Invitation.findByPk(invitationId, { transaction: t, lock: t.LOCK.UPDATE });
+      if (!inv || inv.accepted_at || inv.revoked_at) return false;
+      await inv.update({ revoked_at: new Date() }, { transaction: t });
+      await recordAudit(
+        {
+          action: 'invitation.revoked',
+          ...auditBy(by),
+          teamId: inv.team_id,
+          targetType: 'invitation',
+          targetId: inv.id,
+          details: { email: inv.email },
+        },
+        { transaction: t },
+      );
+      return true;
+    }),
+  );
+}
+
+export type StoredTokenState = 'valid' | 'expired' | 'used' | 'revoked' | 'unknown';
+
+function invitationState(inv: Invitation | null, now = Date.now()): StoredTokenState {
+  if (!inv) return 'unknown';
+  if (inv.accepted_at) return 'used';
+  if (inv.revoked_at) return 'revoked';
+  if (new Date(inv.expires_at).getTime() <= now) return 'expired';
+  return 'valid';
+}
+
+export async function findInvitationByHash({
+  tokenHash,
+}: {
+  tokenHash: string;
+}): Promise<{ state: StoredTokenState; invitation: InvitationDto | null }> {
+  return db('findInvitationByHash', async () => {
+    const inv = await Invitation.findOne({ where: { token_hash: tokenHash }, include: [{ model: Team, as: 'team' }] });
+    return { state: invitationState(inv), invitation: inv ? toInvitationDto(inv) : null };
+  });
+}
+
+/**
+ * Accepts an invitation in one transaction (the row is locked, so a token works exactly once): creates the user or
+ * sets the password of an account that has none, adds the membership or facility role, marks the invitation used.
+ */
+export async function acceptInvitationRecord(
+  input: { tokenHash: string; name: string; passwordHash: string },
+  ip: string,
+): Promise<{ ok: true; userId: number; email: string } | { ok: false; state: StoredTokenState; email: string | null }> {
+  return db('acceptInvitationRecord', () =>
+    getDb().transaction(async (t) => {
+      const inv = await Invitation.findOne({
+        where: { token_hash: input.tokenHash },
+        transaction: t,
+        lock: t.LOCK.UPDATE,
+      });
+      const state = invitationState(inv);
+      if (!inv || state !== 'valid') return { ok: false as const, state, email: inv?.email ?? null };
+      let user = await User.findOne({ where: { email: inv.email }, transaction: t, lock: t.LOCK.UPDATE });
+      if (user?.password_hash) {
+        // An account that already has a password is never taken over through an invitation link.
+        return { ok: false as const, state: 'used' as const, email: inv.email };
+      }
+      const by: By = { userId: null, email: inv.email, ip };
+      if (!user) {
+        user = await User.create(
+          {
+            email: inv.email,
+            name: input.name,
+            password_hash: input.passwordHash,
+            notification_prefs: null,
+            last_sign_in_at: null,
+          },
+          { transaction: t },
+        );
+        await recordAudit(
+          {
+            action: 'user.created',
+            actorId: user.id,
+            actorEmail: inv.email,
+            ip,
+            targetType: 'user',
+            targetId: user.id,
+            details: { via: 'invitation', invitationId: inv.id },
+          },
+          { transaction: t },
+        );
+      } else {
+        await user.update({ name: input.name, password_hash: input.passwordHash, is_active: true }, { transaction: t });
+      }
+      const self: By = { ...by, userId: user.id };
+      if (inv.team_id && inv.role) {
+        await upsertMembership({ userId: user.id, teamId: inv.team_id, role: inv.role }, self, t);
+      }
+      if (inv.facility_role) await grantFacilityRole({ userId: user.id, role: inv.facility_role }, self, t);
+      await inv.update({ accepted_at: new Date() }, { transaction: t });
+      await recordAudit(
+        {
+          action: 'invitation.accepted',
+          actorId: user.id,
+          actorEmail: inv.email,
+          teamId: inv.team_id,
+          ip,
+          targetType: 'invitation',
+          targetId: inv.id,
+        },
+        { transaction: t },
+      );
+      return { ok: true as const, userId: user.id, email: inv.email };
+    }),
+  );
+}
+
+// PASSWORD RESETS //
+
+export async function countRecentResetTokens({ userId, since }: { userId: number; since: Date }): Promise<number> {
+  return db('countRecentResetTokens', async () =>
+    PasswordResetToken.count({ where: { user_id: userId, created_at: { [Op.gte]: since } } }),
+  );
+}
+
+export async function insertResetToken(input: { userId: number; tokenHash: string; expiresAt: Date }): Promise<void> {
+  await db('insertResetToken', async () => {
+    await PasswordResetToken.create({
+      user_id: input.userId,
+      token_hash: input.tokenHash,
+      expires_at: input.expiresAt,
+      used_at: null,
+    });
+  });
+}
+
+function resetState(row: PasswordResetToken | null, now = Date.now()): StoredTokenState {
+  if (!row) return 'unknown';
+  if (row.used_at) return 'used';
+  if (new Date(row.expires_at).getTime() <= now) return 'expired';
+  return 'valid';
+}
+
+export async function findResetByHash({
+  tokenHash,
+}: {
+  tokenHash: string;
+}): Promise<{ state: StoredTokenState; userId: number | null; email: string | null }> {
+  return db('findResetByHash', async () => {
+    const row = await PasswordResetToken.findOne({
+      where: { token_hash: tokenHash },
+      include: [{ model: User, as: 'user' }],
+    });
+    const user = (row as (PasswordResetToken & { user?: User }) | null)?.user;
+    const state = user && !user.is_active ? 'revoked' : resetState(row);
+    return { state, userId: row?.user_id ?? null, email: user?.email ?? null };
+  });
+}
+
+/** Sets the new password and uses up the token (and every other open token of the account) in one transaction. */
+export async function completeResetRecord(
+  input: { tokenHash: string; passwordHash: string },
+  ip: string,
+): Promise<{ ok: true; userId: number; email: string } | { ok: false; state: StoredTokenState; userId: number | null }> {
+  return db('completeResetRecord', () =>
+    getDb().transaction(async (t) => {
+      const row = await PasswordResetToken.findOne({
+        where: { token_hash: input.tokenHash },
+        transaction: t,
+        lock: t.LOCK.UPDATE,
+      });
+      let state = resetState(row);
+      const user = row ? await User.findByPk(row.user_id, { transaction: t, lock: t.LOCK.UPDATE }) : null;
+      if (state === 'valid' && (!user || !user.is_active)) state = 'revoked';
+      if (!row || !user || state !== 'valid') return { ok: false as const, state, userId: row?.user_id ?? null };
+      const now = new Date();
+      await user.update({ password_hash: input.passwordHash }, { transaction: t });
+      await PasswordResetToken.update(
+        { used_at: now },
+        { where: { user_id: user.id, used_at: null }, transaction: t },
+      );
+      await recordAudit(
+        {
+          action: 'auth.password_reset',
+          actorId: user.id,
+          actorEmail: user.email,
+          ip,
+          targetType: 'user',
+          targetId: user.id,
+        },
+        { transaction: t },
+      );
+      return { ok: true as const, userId: user.id, email: user.email };
+    }),
+  );
+}
+
+// AUDIT TRAIL (READ) //
+
+export interface AuditEventDto {
+  id: number;
+  at: string;
+  action: string;
+  actorId: number | null;
+  actorEmail: string | null;
+  teamId: number | null;
+  teamName: string | null;
+  targetType: string | null;
+  targetId: string | null;
+  ip: string | null;
+  outcome: 'ok' | 'refused' | 'failed';
+  details: Record<string, unknown> | null;
+}
+
+/** Audit events, newest first. `teamIds: 'all'` for facility readers; otherwise only events of those teams. */
+export async function listAuditEvents(input: {
+  teamIds: number[] | 'all';
+  teamId?: number;
+  action?: string;
+  actor?: string;
+  outcome?: 'ok' | 'refused' | 'failed';
+  page: number;
+  pageSize: number;
+}): Promise<{ events: AuditEventDto[]; total: number }> {
+  return db('listAuditEvents', async () => {
+    const where: Record<string | symbol, unknown> = {};
+    if (input.teamIds !== 'all') where.team_id = { [Op.in]: input.teamIds.length ? input.teamIds : [0] };
+    if (input.teamId) {
+      where.team_id =
+        input.teamIds === 'all' || input.teamIds.includes(input.teamId) ? input.teamId : { [Op.in]: [0] };
+    }
+    if (input.action) where.action = { [Op.like]: `${input.action.replace(/[%_\\]/g, '\\$&')}%` };
+    if (input.actor) where.actor_email = { [Op.like]: `%${input.actor.replace(/[%_\\]/g, '\\$&')}%` };
+    if (input.outcome) where.outcome = input.outcome;
+    const { rows, count } = await AuditEvent.findAndCountAll({
+      where,
+      order: [
+        ['at', 'DESC'],
+        ['id', 'DESC'],
+      ],
+      limit: input.pageSize,
+      offset: (input.page - 1) * input.pageSize,
+    });
+    const teamIds = [...new Set(rows.map((r) => r.team_id).filter((x): x is number => x != null))];
+    const teams = teamIds.length ? await Team.findAll({ where: { id: { [Op.in]: teamIds } }, raw: true }) : [];
+    const names = new Map(teams.map((t) => [t.id, t.name]));
+    return {
+      total: count,
+      events: rows.map((r) => ({
+        id: Number(r.id),
+        at: iso(r.at) ?? '',
+        action: r.action,
+        actorId: r.actor_id,
+        actorEmail: r.actor_email,
+        teamId: r.team_id,
+        teamName: r.team_id != null ? (names.get(r.team_id) ?? null) : null,
+        targetType: r.target_type,
+        targetId: r.target_id,
+        ip: r.ip,
+        outcome: r.outcome,
+        details: r.details,
+      })),
+    };
+  });
+}

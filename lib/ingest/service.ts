@@ -1,0 +1,734 @@
+/**
+ * The end-of-shift ingest (C2) as server operations: start or resume an upload, hand out presigned URLs, verify and
+ * catalogue a completed object, cancel, close a shift with its receipt, keep the shift log, release quarantined
+ * files. Every operation takes the actor and checks access through lib/policy.ts first. Node only.
+ */
+import { randomUUID } from 'node:crypto';
+import { UniqueConstraintError } from 'sequelize';
+import { recordAudit } from '@/lib/audit';
+import { getDb } from '@/lib/db';
+import {
+  ABANDONED_AT_CLOSE,
+  closeShiftRow,
+  findRawFileBySha256,
+  findResumableUpload,
+  getRawFileRecord,
+  getShiftRecord,
+  getUploadRecord,
+  insertLogEntry,
+  insertRawFileAndScan,
+  insertScan,
+  insertUpload,
+  listAbandonedUploads,
+  listOpenUploadRecords,
+  listShiftFiles,
+  listShiftLog,
+  listTeamAnalystEmails,
+  listUnfinishedUploads,
+  markRawFileReplaced,
+  markReceiptSent,
+  releaseRawFileRows,
+  type ShiftRecord,
+  setUploadOutcome,
+  transitionUpload,
+  type UploadRecord,
+} from '@/lib/db/queries/ingest';
+import { getEnv } from '@/lib/env';
+import { AppError } from '@/lib/errors';
+import { log } from '@/lib/log';
+import { sendMail } from '@/lib/mail/transport';
+import { type Actor, authorize, can } from '@/lib/policy';
+import {
+  abortMultipart,
+  buckets,
+  completeMultipart,
+  createMultipart,
+  deleteObject,
+  headObject,
+  listParts,
+  presignPut,
+  presignUploadPart,
+} from '@/lib/storage/s3';
+import { onScanAccepted } from './on-scan-accepted';
+import { PRESIGN_SECONDS, partRange, planUpload } from './plan';
+import { buildReceipt, type Receipt, receiptHtml, receiptText } from './receipt';
+import type { LogEntryBody, ReleaseBody, StartUploadBody } from './schemas';
+import type { LogEntryDto, PartUrlDto, ShiftViewDto, UploadOutcomeDto, UploadTicketDto } from './types';
+import { downloadAndHash, scratchDir, validateScanPath } from './verify';
+
+const ilog = log.child({ surface: 'upload' });
+
+// ACCESS HELPERS //
+
+async function loadShift(actor: Actor, shiftId: number): Promise<ShiftRecord> {
+  const shift = await getShiftRecord({ shiftId });
+  // Someone outside the team learns nothing about the shift, not even that it exists.
+  if (!shift || !can(actor, 'shift.view', { teamId: shift.teamId })) throw new AppError('not_found:shift');
+  return shift;
+}
+
+function requireOpen(shift: ShiftRecord): void {
+  if (shift.status !== 'open') {
+    throw new AppError('conflict:shift', {
+      message: 'This shift is closed; it takes no more uploads or log entries. Open a new shift to continue.',
+    });
+  }
+}
+
+/** The upload, if the actor may work on it: same team with upload rights, and the user who started it. */
+async function loadOwnUpload(actor: Actor, uploadId: number): Promise<UploadRecord> {
+  const upload = await getUploadRecord({ uploadId });
+  if (!upload) throw new AppError('not_found:upload', { message: 'There is no such upload.' });
+  authorize(actor, 'upload.create', { teamId: upload.teamId, surface: 'upload' });
+  if (upload.userId !== actor.userId) {
+    throw new AppError('forbidden:upload', {
+      message: 'This upload was started by someone else; only they can continue or cancel it.',
+      context: { action: 'upload.create', teamId: upload.teamId, userId: actor.userId },
+    });
+  }
+  return upload;
+}
+
+const expiresAt = () => new Date(Date.now() + PRESIGN_SECONDS * 1000).toISOString();
+
+// VIEW //
+
+export async function getShiftView(actor: Actor, shiftId: number): Promise<ShiftViewDto> {
+  const shift = await loadShift(actor, shiftId);
+  authorize(actor, 'shift.view', { teamId: shift.teamId, surface: 'shift' });
+  const [files, unfinished, entries] = await Promise.all([
+    listShiftFiles({ shiftId }),
+    listUnfinishedUploads({ shiftId }),
+    listShiftLog({ shiftId }),
+  ]);
+  const teamId = shift.teamId;
+  const open = shift.status === 'open';
+  return {
+    shift: shift.header,
+    files,
+    unfinished,
+    log: entries,
+    permissions: {
+      upload: open && can(actor, 'upload.create', { teamId }),
+      log: open && can(actor, 'shift.log', { teamId }),
+      close: open && can(actor, 'shift.close', { teamId }),
+      release: can(actor, 'quarantine.release', { teamId }),
+    },
+  };
+}
+
+// START / RESUME //
+
+export async function startUpload(actor: Actor, body: StartUploadBody): Promise<UploadTicketDto> {
+  const shift = await loadShift(actor, body.shiftId);
+  authorize(actor, 'upload.create', { teamId: shift.teamId, surface: 'upload' });
+  requireOpen(shift);
+
+  let replaces: number | null = null;
+  if (body.replacesRawFileId !== undefined) {
+    const old = await getRawFileRecord({ rawFileId: body.replacesRawFileId });
+    if (!old || old.teamId !== shift.teamId) {
+      throw new AppError('bad_request:upload', { details: ['replacesRawFileId: there is no such file in this team.'] });
+    }
+    if (old.status !== 'quarantined') {
+      throw new AppError('bad_request:upload', {
+        details: ['replacesRawFileId: only a quarantined file can be replaced by a new upload.'],
+      });
+    }
+    replaces = old.id;
+  }
+
+  const plan = planUpload(body.sizeBytes);
+  const existing = await findResumableUpload({
+    userId: actor.userId,
+    shiftId: shift.id,
+    fileName: body.fileName,
+    sizeBytes: body.sizeBytes,
+    lastModifiedMs: body.lastModifiedMs,
+  });
+  if (existing) return ticketFor(existing, true);
+
+  const key = `raw/${shift.teamSlug}/${shift.id}/${randomUUID()}.h5`;
+  const bucket = buckets().raw;
+  let multipartUploadId: string | null = null;
+  if (plan.mode === 'multipart') {
+    multipartUploadId = (await createMultipart({ bucket, key, contentType: 'application/x-hdf5' })).uploadId;
+  }
+  const upload = await insertUpload({
+    teamId: shift.teamId,
+    shiftId: shift.id,
+    userId: actor.userId,
+    bucket,
+    objectKey: key,
+    fileName: body.fileName,
+    sizeBytes: body.sizeBytes,
+    lastModifiedMs: body.lastModifiedMs,
+    precheck: body.precheck ?? null,
+    multipartUploadId,
+    partSize: plan.mode === 'multipart' ? plan.partSize : null,
+    partCount: plan.mode === 'multipart' ? plan.partCount : null,
+    replacesRawFileId: replaces,
+  });
+  return ticketFor(upload, false);
+}
+
+async function ticketFor(upload: UploadRecord, resumed: boolean): Promise<UploadTicketDto> {
+  if (!upload.multipartUploadId || !upload.partSize || !upload.partCount) {
+    const url = await presignPut({
+      bucket: upload.bucket,
+      key: upload.objectKey,
+      contentLength: upload.sizeBytes,
+      expiresIn: PRESIGN_SECONDS,
+    });
+    return { uploadId: upload.id, mode: 'single', sizeBytes: upload.sizeBytes, url, expiresAt: expiresAt(), resumed };
+  }
+  const done = resumed ? await goodParts(upload) : [];
+  return {
+    uploadId: upload.id,
+    mode: 'multipart',
+    sizeBytes: upload.sizeBytes,
+    partSize: upload.partSize,
+    partCount: upload.partCount,
+    partsDone: done.map((p) => ({ partNumber: p.partNumber, size: p.size })),
+    resumed,
+  };
+}
+
+/** Parts in the store whose size is what the plan says (a part of the wrong size is sent again). */
+async function goodParts(upload: UploadRecord) {
+  const parts = await listParts({ bucket: upload.bucket, key: upload.objectKey, uploadId: upload.multipartUploadId! });
+  return parts.filter((p) => {
+    if (p.partNumber > upload.partCount!) return false;
+    return p.size === partRange(upload.sizeBytes, upload.partSize!, p.partNumber).length;
+  });
+}
+
+// PARTS //
+
+export async function presignParts(actor: Actor, uploadId: number, partNumbers: number[]): Promise<PartUrlDto[]> {
+  const upload = await loadOwnUpload(actor, uploadId);
+  if (upload.status !== 'open') {
+    throw new AppError('conflict:upload', { message: `This upload is ${upload.status}; it takes no more parts.` });
+  }
+  const shift = await loadShift(actor, upload.shiftId);
+  requireOpen(shift);
+  if (!upload.multipartUploadId || !upload.partSize || !upload.partCount) {
+    throw new AppError('bad_request:upload', { details: ['This file goes in one piece; it has no parts.'] });
+  }
+  const wrong = partNumbers.filter((n) => n > upload.partCount!);
+  if (wrong.length) {
+    throw new AppError('bad_request:upload', {
+      details: [`partNumbers: the file has ${upload.partCount} parts; ${wrong.join(', ')} do not exist.`],
+    });
+  }
+  const at = expiresAt();
+  return Promise.all(
+    [...new Set(partNumbers)].map(async (partNumber) => {
+      const size = partRange(upload.sizeBytes, upload.partSize!, partNumber).length;
+      const url = await presignUploadPart({
+        bucket: upload.bucket,
+        key: upload.objectKey,
+        uploadId: upload.multipartUploadId!,
+        partNumber,
+        contentLength: size,
+        expiresIn: PRESIGN_SECONDS,
+      });
+      return { partNumber, url, size, expiresAt: at };
+    }),
+  );
+}
+
+export async function listUploadedParts(actor: Actor, uploadId: number) {
+  const upload = await loadOwnUpload(actor, uploadId);
+  if (!upload.multipartUploadId) return { parts: [] };
+  if (upload.status !== 'open') return { parts: [] };
+  return { parts: (await goodParts(upload)).map((p) => ({ partNumber: p.partNumber, size: p.size })) };
+}
+
+// ABORT //
+
+export async function abortUpload(actor: Actor, uploadId: number, ip?: string): Promise<{ status: string }> {
+  const upload = await loadOwnUpload(actor, uploadId);
+  if (upload.status !== 'open') return { status: upload.status };
+  await discardUpload(upload, 'Cancelled by the operator.');
+  await recordAudit({
+    action: 'file.uploaded',
+    actorId: actor.userId,
+    actorEmail: actor.email,
+    teamId: upload.teamId,
+    targetType: 'upload',
+    targetId: upload.id,
+    ip,
+    outcome: 'failed',
+    details: { cancelled: true, fileName: upload.fileName },
+  });
+  return { status: 'aborted' };
+}
+
+async function discardUpload(upload: UploadRecord, why: string): Promise<void> {
+  if (!(await transitionUpload({ uploadId: upload.id, from: ['open'], to: 'aborted', error: why }))) return;
+  try {
+    if (upload.multipartUploadId) {
+      await abortMultipart({ bucket: upload.bucket, key: upload.objectKey, uploadId: upload.multipartUploadId });
+    } else {
+      await deleteObject(upload.bucket, upload.objectKey);
+    }
+  } catch (err) {
+    // The row already says aborted; leftover parts are only storage, never a catalogued file.
+    ilog.warn('could not remove the parts of an aborted upload', { uploadId: upload.id, err });
+  }
+}
+
+// COMPLETE AND VERIFY //
+
+function outcomeFrom(upload: UploadRecord, o: Omit<UploadOutcomeDto, 'uploadId'>): UploadOutcomeDto {
+  return { uploadId: upload.id, ...o };
+}
+
+async function failUpload(upload: UploadRecord, sentence: string, removeObject: boolean): Promise<never> {
+  await transitionUpload({ uploadId: upload.id, from: ['verifying'], to: 'failed', error: sentence });
+  if (removeObject) await deleteObject(upload.bucket, upload.objectKey).catch(() => undefined);
+  throw new AppError('bad_request:upload', {
+    message: 'The stored file does not match the file you sent.',
+    details: [sentence],
+  });
+}
+
+export async function completeUpload(
+  actor: Actor,
+  uploadId: number,
+  clientSha256: string | undefined,
+  ip?: string,
+): Promise<UploadOutcomeDto> {
+  const upload = await loadOwnUpload(actor, uploadId);
+  if (upload.status === 'completed') return previousOutcome(actor, upload);
+  if (upload.status !== 'open') {
+    throw new AppError('conflict:upload', {
+      message:
+        upload.status === 'verifying'
+          ? 'This file is being verified right now.'
+          : `This upload is ${upload.status}${upload.error ? `: ${upload.error}` : ''}. Drop the file again to start over.`,
+    });
+  }
+  const shift = await loadShift(actor, upload.shiftId);
+  requireOpen(shift);
+
+  if (upload.multipartUploadId) {
+    const parts = await goodParts(upload);
+    const have = new Set(parts.map((p) => p.partNumber));
+    const missing: number[] = [];
+    for (let n = 1; n <= upload.partCount!; n++) if (!have.has(n)) missing.push(n);
+    if (missing.length) {
+      throw new AppError('conflict:upload', {
+        message: `${missing.length} of ${upload.partCount} parts have not arrived yet.`,
+        details: [`missing parts: ${missing.slice(0, 20).join(', ')}${missing.length > 20 ? ', …' : ''}`],
+      });
+    }
+    if (!(await transitionUpload({ uploadId, from: ['open'], to: 'verifying' }))) {
+      throw new AppError('conflict:upload', { message: 'This file is being verified right now.' });
+    }
+    try {
+      await completeMultipart({
+        bucket: upload.bucket,
+        key: upload.objectKey,
+        uploadId: upload.multipartUploadId,
+        parts: parts.map((p) => ({ partNumber: p.partNumber, etag: p.etag })),
+      });
+    } catch (err) {
+      await transitionUpload({ uploadId, from: ['verifying'], to: 'open' });
+      throw err;
+    }
+  } else if (!(await transitionUpload({ uploadId, from: ['open'], to: 'verifying' }))) {
+    throw new AppError('conflict:upload', { message: 'This file is being verified right now.' });
+  }
+
+  const scratch = await scratchDir();
+  try {
+    let head: Awaited<ReturnType<typeof headObject>>;
+    try {
+      head = await headObject(upload.bucket, upload.objectKey);
+    } catch (err) {
+      if (err instanceof AppError && err.code === 'not_found:storage') {
+        await transitionUpload({ uploadId, from: ['verifying'], to: 'open' });
+        throw new AppError('conflict:upload', { message: 'The file has not arrived in storage yet; send it first.' });
+      }
+      throw err;
+    }
+    if (head.size !== upload.sizeBytes) {
+      await failUpload(
+        upload,
+        `The stored object has ${head.size} bytes but the file has ${upload.sizeBytes}; it was not stored. Drop the file again.`,
+        true,
+      );
+    }
+    const local = scratch.file('object.h5');
+    const { sha256, bytes } = await downloadAndHash(upload.bucket, upload.objectKey, local);
+    if (bytes !== upload.sizeBytes) {
+      await failUpload(upload, `Reading the stored object gave ${bytes} bytes, not ${upload.sizeBytes}.`, true);
+    }
+    if (clientSha256 && clientSha256 !== sha256) {
+      await failUpload(
+        upload,
+        `The SHA-256 of the stored object (${sha256}) differs from the one your browser computed (${clientSha256}); the transfer was damaged and nothing was stored. Drop the file again.`,
+        true,
+      );
+    }
+    const outcome = await catalogue(actor, upload, shift, sha256, local, clientSha256 ?? null, ip);
+    if (outcome.outcome !== 'quarantined' && outcome.reasons.length === 0) await onScanAccepted(outcome.scanId);
+    return outcome;
+  } catch (err) {
+    // An infrastructure failure (database, storage) leaves the upload open so the browser can complete it again.
+    if (!(err instanceof AppError && err.surface === 'upload')) {
+      await transitionUpload({ uploadId, from: ['verifying'], to: 'open' }).catch(() => undefined);
+    }
+    throw err;
+  } finally {
+    await scratch.remove();
+  }
+}
+
+async function catalogue(
+  actor: Actor,
+  upload: UploadRecord,
+  shift: ShiftRecord,
+  sha256: string,
+  localPath: string,
+  clientSha256: string | null,
+  ip: string | undefined,
+): Promise<UploadOutcomeDto> {
+  const duplicate = await findRawFileBySha256({ sha256 });
+  if (duplicate && duplicate.storageKey !== upload.objectKey) {
+    return linkDuplicate(actor, upload, shift, duplicate, clientSha256, ip);
+  }
+  const validation = await validateScanPath(localPath);
+  const status = validation.ok ? 'accepted' : 'quarantined';
+  const replaces = (upload.precheck as { replacesRawFileId?: unknown } | null)?.replacesRawFileId;
+  try {
+    const ids = await getDb().transaction(async (transaction) => {
+      const created = await insertRawFileAndScan({
+        upload,
+        campaignId: shift.campaignId,
+        sha256,
+        status,
+        reasons: validation.problems,
+        metadata: validation.metadata,
+        transaction,
+      });
+      await setUploadOutcome({ uploadId: upload.id, ...created, clientSha256, transaction });
+      const base = { actorId: actor.userId, actorEmail: actor.email, teamId: upload.teamId, ip };
+      await recordAudit(
+        {
+          ...base,
+          action: 'file.uploaded',
+          targetType: 'raw_file',
+          targetId: created.rawFileId,
+          details: {
+            fileName: upload.fileName,
+            sizeBytes: upload.sizeBytes,
+            sha256,
+            shiftId: shift.id,
+            scanId: created.scanId,
+          },
+        },
+        { transaction },
+      );
+      if (status === 'quarantined') {
+        await recordAudit(
+          {
+            ...base,
+            action: 'file.quarantined',
+            targetType: 'raw_file',
+            targetId: created.rawFileId,
+            details: { reasons: validation.problems },
+          },
+          { transaction },
+        );
+      }
+      if (typeof replaces === 'number' && status === 'accepted') {
+        await markRawFileReplaced({ rawFileId: replaces, replacedById: created.rawFileId, transaction });
+        await recordAudit(
+          {
+            ...base,
+            action: 'file.replaced',
+            targetType: 'raw_file',
+            targetId: replaces,
+            details: { replacedBy: created.rawFileId },
+          },
+          { transaction },
+        );
+      }
+      return created;
+    });
+    return outcomeFrom(upload, {
+      outcome: status,
+      ...ids,
+      sha256,
+      sizeBytes: upload.sizeBytes,
+      reasons: validation.problems,
+      message:
+        status === 'accepted'
+          ? 'Verified and catalogued.'
+          : 'Stored, but quarantined: the file breaks the scan-file rules listed below.',
+    });
+  } catch (err) {
+    // Two identical files completed at the same moment: the second becomes a linked duplicate.
+    if (err instanceof UniqueConstraintError) {
+      const now = await findRawFileBySha256({ sha256 });
+      if (now && now.storageKey !== upload.objectKey) return linkDuplicate(actor, upload, shift, now, clientSha256, ip);
+    }
+    throw err;
+  }
+}
+
+async function linkDuplicate(
+  actor: Actor,
+  upload: UploadRecord,
+  shift: ShiftRecord,
+  existing: NonNullable<Awaited<ReturnType<typeof findRawFileBySha256>>>,
+  clientSha256: string | null,
+  ip: string | undefined,
+): Promise<UploadOutcomeDto> {
+  const quarantined = existing.status === 'quarantined' || existing.status === 'replaced';
+  const scanId = await getDb().transaction(async (transaction) => {
+    const id = await insertScan({
+      upload,
+      campaignId: shift.campaignId,
+      rawFileId: existing.id,
+      metadata: existing.metadata,
+      status: quarantined ? 'quarantined' : 'uploaded',
+      statusMessage: quarantined ? (existing.quarantineReasons[0] ?? 'quarantined') : null,
+      transaction,
+    });
+    await setUploadOutcome({ uploadId: upload.id, rawFileId: existing.id, scanId: id, clientSha256, transaction });
+    await recordAudit(
+      {
+        action: 'file.duplicate_linked',
+        actorId: actor.userId,
+        actorEmail: actor.email,
+        teamId: upload.teamId,
+        targetType: 'raw_file',
+        targetId: existing.id,
+        ip,
+        details: {
+          fileName: upload.fileName,
+          sha256: existing.sha256,
+          scanId: id,
+          shiftId: shift.id,
+          sameTeam: existing.teamId === upload.teamId,
+        },
+      },
+      { transaction },
+    );
+    return id;
+  });
+  // The second copy is not kept: the catalogue now points at the stored original.
+  await deleteObject(upload.bucket, upload.objectKey).catch((err) =>
+    ilog.warn('could not delete the object of a duplicate upload', { uploadId: upload.id, err }),
+  );
+  return outcomeFrom(upload, {
+    outcome: 'duplicate',
+    scanId,
+    rawFileId: existing.id,
+    sha256: existing.sha256,
+    sizeBytes: existing.sizeBytes,
+    reasons: quarantined ? existing.quarantineReasons : [],
+    message: quarantined
+      ? 'Identical to a file already stored (and quarantined); linked to it instead of storing a second copy.'
+      : 'Identical to a file already stored; linked to it instead of storing a second copy.',
+  });
+}
+
+async function previousOutcome(actor: Actor, upload: UploadRecord): Promise<UploadOutcomeDto> {
+  const files = await listShiftFiles({ shiftId: upload.shiftId });
+  const f = files.find((x) => x.rawFileId === upload.rawFileId);
+  if (!f) throw new AppError('conflict:upload', { message: 'This upload was already completed.' });
+  void actor;
+  return outcomeFrom(upload, {
+    outcome: f.duplicateLinked ? 'duplicate' : f.rawStatus === 'quarantined' ? 'quarantined' : 'accepted',
+    scanId: f.scanId,
+    rawFileId: f.rawFileId,
+    sha256: f.sha256,
+    sizeBytes: f.sizeBytes,
+    reasons: f.reasons,
+    message: 'This upload was already completed.',
+  });
+}
+
+// CLOSE AND RECEIPT //
+
+export async function closeShift(
+  actor: Actor,
+  shiftId: number,
+  options: { abandonUnfinished?: boolean },
+  ip?: string,
+): Promise<{ view: ShiftViewDto; receipt: Receipt; mailed: boolean }> {
+  const shift = await loadShift(actor, shiftId);
+  authorize(actor, 'shift.close', { teamId: shift.teamId, surface: 'shift' });
+  if (shift.status === 'open') {
+    const open = await listOpenUploadRecords({ shiftId });
+    if (open.some((u) => u.status === 'verifying')) {
+      throw new AppError('conflict:shift', {
+        message: 'A file is being verified right now; close the shift when it is done.',
+      });
+    }
+    if (open.length && !options.abandonUnfinished) {
+      throw new AppError('conflict:shift', {
+        message: `${open.length} upload${open.length === 1 ? ' has' : 's have'} not finished. Finish ${open.length === 1 ? 'it' : 'them'} first, or close anyway to abandon ${open.length === 1 ? 'it' : 'them'}.`,
+        details: open.map((u) => `${u.fileName}: not finished`),
+      });
+    }
+    for (const u of open) await discardUpload(u, ABANDONED_AT_CLOSE);
+    if (await closeShiftRow({ shiftId, userId: actor.userId })) {
+      await recordAudit({
+        action: 'shift.closed',
+        actorId: actor.userId,
+        actorEmail: actor.email,
+        teamId: shift.teamId,
+        targetType: 'shift',
+        targetId: shiftId,
+        ip,
+        details: { abandoned: open.map((u) => u.fileName) },
+      });
+    }
+  }
+  const after = await loadShift(actor, shiftId);
+  const view = await getShiftView(actor, shiftId);
+  const receipt = buildReceipt(view, getEnv().APP_ORIGIN, await listAbandonedUploads({ shiftId }));
+  let mailed = !!after.header.receiptSentAt;
+  if (!mailed) {
+    const analysts = await listTeamAnalystEmails({ teamId: shift.teamId });
+    const to = [...new Set([actor.email, ...analysts].map((e) => e.toLowerCase()))];
+    try {
+      await sendMail({ to, subject: receipt.subject, text: receiptText(receipt), html: receiptHtml(receipt) });
+      await markReceiptSent({ shiftId });
+      mailed = true;
+    } catch (err) {
+      // The shift stays closed; the page offers to send the receipt again.
+      ilog.error('shift receipt could not be sent', { shiftId, err });
+    }
+  }
+  return { view: await getShiftView(actor, shiftId), receipt, mailed };
+}
+
+export async function getShiftReceipt(actor: Actor, shiftId: number): Promise<Receipt> {
+  const view = await getShiftView(actor, shiftId);
+  return buildReceipt(view, getEnv().APP_ORIGIN, await listAbandonedUploads({ shiftId }));
+}
+
+// LOG //
+
+export async function addLogEntry(
+  actor: Actor,
+  shiftId: number,
+  body: LogEntryBody,
+  ip?: string,
+): Promise<LogEntryDto> {
+  const shift = await loadShift(actor, shiftId);
+  authorize(actor, 'shift.log', { teamId: shift.teamId, surface: 'shift' });
+  requireOpen(shift);
+  const v = body.detectorVoltages;
+  const voltages = v && Object.values(v).some((x) => x !== undefined) ? (v as Record<string, number>) : null;
+  const entry = await insertLogEntry({
+    shiftId,
+    authorId: actor.userId,
+    notedAt: body.notedAt ? new Date(body.notedAt) : new Date(),
+    text: body.text,
+    target: body.target ?? null,
+    wavelengthNm: body.wavelengthNm ?? null,
+    pulseEnergyUj: body.pulseEnergyUj ?? null,
+    ellipticity: body.ellipticity ?? null,
+    detectorVoltages: voltages,
+  });
+  await recordAudit({
+    action: 'shift.log_added',
+    actorId: actor.userId,
+    actorEmail: actor.email,
+    teamId: shift.teamId,
+    targetType: 'shift',
+    targetId: shiftId,
+    ip,
+    details: { entryId: entry.id },
+  });
+  return entry;
+}
+
+// RELEASE //
+
+export async function releaseRawFile(
+  actor: Actor,
+  rawFileId: number,
+  body: ReleaseBody,
+  ip?: string,
+): Promise<{ rawFileId: number; scanIds: number[]; status: 'released' }> {
+  const raw = await getRawFileRecord({ rawFileId });
+  if (!raw || !can(actor, 'rawfile.view', { teamId: raw.teamId })) {
+    throw new AppError('not_found:upload', {
+      message: 'There is no such file, or it belongs to a team you are not a member of.',
+    });
+  }
+  authorize(actor, 'quarantine.release', { teamId: raw.teamId, surface: 'upload' });
+  if (raw.status !== 'quarantined') {
+    throw new AppError('conflict:upload', {
+      message: `This file is ${raw.status}, not quarantined; there is nothing to release.`,
+    });
+  }
+  let metadata = null;
+  let note: string;
+  if (body.mode === 'revalidate') {
+    const scratch = await scratchDir();
+    try {
+      const local = scratch.file('object.h5');
+      const { sha256 } = await downloadAndHash(raw.bucket, raw.storageKey, local);
+      if (sha256 !== raw.sha256) {
+        throw new AppError('conflict:upload', {
+          message:
+            'The stored bytes no longer match their recorded SHA-256; the file was not released. Tell the data steward.',
+        });
+      }
+      const v = await validateScanPath(local, body.metadataOverride);
+      if (!v.ok) {
+        throw new AppError('bad_request:upload', {
+          message: 'With the corrected metadata the file is still refused.',
+          details: v.problems,
+        });
+      }
+      metadata = v.metadata;
+    } finally {
+      await scratch.remove();
+    }
+    note = body.note?.trim() || `Metadata corrected: ${Object.keys(body.metadataOverride).join(', ')}.`;
+  } else {
+    note = body.reason;
+  }
+  const scanIds = await getDb().transaction(async (transaction) => {
+    const ids = await releaseRawFileRows({
+      rawFileId,
+      userId: actor.userId,
+      metadata,
+      override: body.mode === 'revalidate' ? body.metadataOverride : null,
+      note,
+      transaction,
+    });
+    await recordAudit(
+      {
+        action: 'file.released',
+        actorId: actor.userId,
+        actorEmail: actor.email,
+        teamId: raw.teamId,
+        targetType: 'raw_file',
+        targetId: rawFileId,
+        ip,
+        details: {
+          mode: body.mode,
+          note,
+          override: body.mode === 'revalidate' ? body.metadataOverride : null,
+          reasonsBefore: raw.quarantineReasons,
+        },
+      },
+      { transaction },
+    );
+    return ids;
+  });
+  for (const id of scanIds) await onScanAccepted(id);
+  return { rawFileId, scanIds, status: 'released' };
+}

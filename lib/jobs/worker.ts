@@ -1,0 +1,90 @@
+// The BullMQ consumer of `lobeline-reduction`. Any number of these may run, on any machine that reaches the same
+// MariaDB, Redis and S3. A worker killed mid-job (SIGKILL, power loss) stops renewing its lock; after
+// `lockDuration` another worker's stalled-job check moves the job back to waiting and it runs again (STACK.md:
+// recovery worked here with lockDuration = stalledInterval = 5000 ms).
+import { type Job, UnrecoverableError, Worker } from 'bullmq';
+import { log } from '@/lib/log';
+import { createRedisConnection } from '@/lib/queue/connection';
+import {
+  REDUCTION_ATTEMPTS,
+  REDUCTION_QUEUE,
+  type ReductionJobData,
+  type ReductionJobOutcome,
+  reductionJobDataSchema,
+} from '@/lib/queue/reduction-queue';
+import { ReductionRefusedError } from './failure';
+import { markReductionFailed, processReduction } from './reduce-scan';
+
+const wlog = log.child({ surface: 'reduction', part: 'worker' });
+
+export const WORKER_LOCK_MS = 5_000;
+export const WORKER_STALLED_INTERVAL_MS = 5_000;
+/** Times a job may be found stalled (its worker died) before it is failed for good. */
+export const WORKER_MAX_STALLED = 2;
+
+export interface ReductionWorkerOptions {
+  /** Jobs run at once in this process (default 1: a reduction is CPU-bound). */
+  concurrency?: number;
+  /** Shown in BullMQ and the log. */
+  name?: string;
+}
+
+async function handle(job: Job<ReductionJobData, ReductionJobOutcome>): Promise<ReductionJobOutcome> {
+  const parsed = reductionJobDataSchema.safeParse(job.data);
+  if (!parsed.success) throw new UnrecoverableError(`malformed job payload for ${job.id}`);
+  try {
+    return await processReduction(parsed.data, {
+      attemptsMade: job.attemptsMade,
+      maxAttempts: job.opts.attempts ?? REDUCTION_ATTEMPTS,
+      updateProgress: (p) => job.updateProgress(p),
+    });
+  } catch (err) {
+    // Permanent problems must not be retried: BullMQ skips the remaining attempts for UnrecoverableError.
+    if (err instanceof ReductionRefusedError) throw new UnrecoverableError(err.message);
+    throw err;
+  }
+}
+
+/** Starts a worker in this process; `close()` waits for the running job and ends its Redis connections. */
+export function startReductionWorker(options: ReductionWorkerOptions = {}): {
+  worker: Worker<ReductionJobData, ReductionJobOutcome>;
+  close: () => Promise<void>;
+} {
+  const connection = createRedisConnection('worker');
+  const worker = new Worker<ReductionJobData, ReductionJobOutcome>(REDUCTION_QUEUE, handle, {
+    connection,
+    concurrency: options.concurrency ?? 1,
+    name: options.name,
+    lockDuration: WORKER_LOCK_MS,
+    stalledInterval: WORKER_STALLED_INTERVAL_MS,
+    maxStalledCount: WORKER_MAX_STALLED,
+  });
+  worker.on('failed', (job, err) => {
+    if (!job) return;
+    // A job that stalled too often never reached our catch block: record it here (no-op when already recorded).
+    if (/stalled/i.test(err?.message ?? '')) {
+      const data = reductionJobDataSchema.safeParse(job.data);
+      if (data.success) {
+        void markReductionFailed({
+          reductionJobId: data.data.reductionJobId,
+          scanId: data.data.scanId,
+          message:
+            'The worker reducing this scan stopped several times in the middle of the job (it crashed or ran out of ' +
+            'memory). Check the worker machines; then reduce the scan again.',
+          attempts: job.attemptsMade + 1,
+        });
+      }
+    }
+  });
+  worker.on('error', (err) => wlog.warn('worker error', { err }));
+  let closed = false;
+  return {
+    worker,
+    close: async () => {
+      if (closed) return;
+      closed = true;
+      await worker.close();
+      await connection.quit().catch(() => connection.disconnect());
+    },
+  };
+}

@@ -1,0 +1,123 @@
+// Asking for a reduction: one reduction_jobs row per request (reused while an identical request is still open) and
+// one BullMQ job with the deterministic id `scan-<id>-cal-<c>-set-<s>`, so that duplicate requests collapse.
+// Called by the ingest after a file is catalogued, by the scan page ("reduce again") and by campaign batches.
+import { Op } from 'sequelize';
+import { getDb } from '@/lib/db';
+import { AppError } from '@/lib/errors';
+import { log } from '@/lib/log';
+import { AnalysisSettingsVersion, Campaign, DetectorCalibrationVersion, ReductionJob, Scan } from '@/models';
+import { getReductionQueue, reductionJobId } from './reduction-queue';
+
+export interface EnqueueOptions {
+  /** Calibration version (default: the campaign's current approved one). */
+  calibrationId?: number;
+  /** Analysis-settings version (default: the campaign's current approved one). */
+  settingsId?: number;
+  batchId?: number | null;
+  requestedBy?: number | null;
+}
+
+export type EnqueueOutcome =
+  | { queued: true; reductionJobId: number; queueJobId: string; calibrationId: number; settingsId: number }
+  | { queued: false; reason: string };
+
+/**
+ * Queues the reduction of one scan with a calibration and settings version of its campaign.
+ *
+ * Returns `{ queued: false, reason }` (and leaves the scan `uploaded` with the reason as its status message) when
+ * the campaign has no approved calibration or settings yet; throws AppError for a missing scan, a quarantined
+ * file, versions of another campaign, or an unreachable queue.
+ */
+export async function enqueueReductionForScan(scanId: number, options: EnqueueOptions = {}): Promise<EnqueueOutcome> {
+  const db = getDb();
+  const scan = await Scan.findByPk(scanId);
+  if (!scan) throw new AppError('not_found:scan');
+  if (scan.status === 'quarantined') {
+    throw new AppError('conflict:reduction', {
+      message: 'This scan’s file is quarantined; release it (or replace the file) before reducing it.',
+    });
+  }
+  const campaign = await Campaign.findByPk(scan.campaign_id);
+  if (!campaign) throw new AppError('not_found:campaign');
+  const calibrationId = options.calibrationId ?? campaign.current_calibration_id;
+  const settingsId = options.settingsId ?? campaign.current_settings_id;
+  if (calibrationId == null || settingsId == null) {
+    const reason =
+      'Not reduced yet: the campaign has no approved detector calibration and analysis settings. ' +
+      'An analyst creates them on the calibration page and the PI approves them.';
+    if (scan.status === 'uploaded') await scan.update({ status_message: reason });
+    return { queued: false, reason };
+  }
+  const [calibration, settings] = await Promise.all([
+    DetectorCalibrationVersion.findByPk(calibrationId, { attributes: ['id', 'campaign_id'] }),
+    AnalysisSettingsVersion.findByPk(settingsId, { attributes: ['id', 'campaign_id'] }),
+  ]);
+  if (!calibration || calibration.campaign_id !== scan.campaign_id) {
+    throw new AppError('not_found:calibration', {
+      message: 'That calibration version does not belong to this campaign.',
+    });
+  }
+  if (!settings || settings.campaign_id !== scan.campaign_id) {
+    throw new AppError('not_found:settings', { message: 'Those analysis settings do not belong to this campaign.' });
+  }
+
+  const queueJobId = reductionJobId(scan.id, calibrationId, settingsId);
+  const row = await db.transaction(async (transaction) => {
+    // Lock the scan row first: concurrent requests for one scan then queue up behind each other here instead of
+    // taking gap locks on reduction_jobs in opposite order (which MariaDB reports as a deadlock).
+    await Scan.findByPk(scan.id, { attributes: ['id'], transaction, lock: transaction.LOCK.UPDATE });
+    const open = await ReductionJob.findOne({
+      where: {
+        scan_id: scan.id,
+        calibration_id: calibrationId,
+        settings_id: settingsId,
+        status: { [Op.in]: ['queued', 'running'] },
+      },
+      order: [['id', 'DESC']],
+      transaction,
+      lock: transaction.LOCK.UPDATE,
+    });
+    const job =
+      open ??
+      (await ReductionJob.create(
+        {
+          scan_id: scan.id,
+          calibration_id: calibrationId,
+          settings_id: settingsId,
+          batch_id: options.batchId ?? null,
+          requested_by: options.requestedBy ?? null,
+          queue_job_id: queueJobId,
+          error_message: null,
+          started_at: null,
+          finished_at: null,
+        },
+        { transaction },
+      ));
+    if (open && options.batchId != null && open.batch_id == null)
+      await open.update({ batch_id: options.batchId }, { transaction });
+    if (scan.status !== 'reducing') {
+      await Scan.update({ status: 'queued', status_message: null }, { where: { id: scan.id }, transaction });
+    }
+    return job;
+  });
+
+  try {
+    await getReductionQueue().add(
+      'reduce-scan',
+      { scanId: scan.id, calibrationId, settingsId, reductionJobId: row.id },
+      { jobId: queueJobId },
+    );
+  } catch (err) {
+    log.error('could not add the reduction job to the queue', { scanId, queueJobId, err });
+    await ReductionJob.update(
+      { status: 'failed', error_message: 'The job queue was not reachable; the reduction was not started.' },
+      { where: { id: row.id, status: 'queued' } },
+    );
+    await Scan.update(
+      { status: 'uploaded', status_message: 'The job queue was not reachable; ask for the reduction again.' },
+      { where: { id: scan.id, status: 'queued' } },
+    );
+    throw new AppError('unavailable:queue', { cause: err });
+  }
+  return { queued: true, reductionJobId: row.id, queueJobId, calibrationId, settingsId };
+}

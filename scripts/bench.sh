@@ -1,0 +1,32 @@
+#!/usr/bin/env bash
+# npm run bench — Lobeline's speed and memory targets (PRODUCT.md N1–N6), measured here, never in timed tests.
+# Each section is one entry of SECTIONS: a name and the command that prints its table. Other issues add N3–N5 by
+# appending to the list. `npm run bench -- N2` runs only the named sections.
+set -euo pipefail
+cd "$(dirname "$0")/.."
+
+SECTIONS=(
+  "N1|npx tsx scripts/bench/n1-phase.ts"
+  "N2|npx tsx scripts/bench/n2-angular.ts"
+)
+
+want=("$@")
+status=0
+for entry in "${SECTIONS[@]}"; do
+  name="${entry%%|*}"
+  cmd="${entry#*|}"
+  if [ "${#want[@]}" -gt 0 ] && [[ ! " ${want[*]} " =~ " ${name} " ]]; then continue; fi
+  echo "== ${name} =="
+  if ! eval "$cmd"; then
+    echo "  (section ${name} failed)"
+    status=1
+  fi
+  echo
+done
+
+echo "== machine =="
+echo "  nproc: $(nproc)"
+echo "  cpu: $(grep -m1 'model name' /proc/cpuinfo | cut -d: -f2- | sed 's/^ *//')"
+echo "  node: $(node --version)"
+echo "  python: $(/usr/bin/python3 -c 'import sys, numpy, h5py; print(sys.version.split()[0], "numpy", numpy.__version__, "h5py", h5py.__version__)')"
+exit $status

@@ -1,0 +1,75 @@
+// `npm run worker`: one reduction worker process. Run as many as you like, on this or other machines, against the
+// same MariaDB, Redis and S3 (the environment of lib/env.ts). Stops cleanly on SIGINT/SIGTERM after the running job.
+//
+//   tsx scripts/worker.ts [--concurrency N]
+// Reads `.env` from the repo root for variables not already set (skipped when LOBELINE_INSTANCE=test).
+import { existsSync, readFileSync } from 'node:fs';
+import { hostname } from 'node:os';
+import path from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { parseArgs, parseEnv as parseDotEnv } from 'node:util';
+
+const REPO_ROOT = path.resolve(fileURLToPath(new URL('..', import.meta.url)));
+
+function loadDotEnv(): void {
+  if (process.env.LOBELINE_INSTANCE === 'test') return;
+  const file = path.join(REPO_ROOT, '.env');
+  if (!existsSync(file)) return;
+  for (const [k, v] of Object.entries(parseDotEnv(readFileSync(file, 'utf8')))) {
+    if (process.env[k] === undefined) process.env[k] = v;
+  }
+}
+
+async function main(): Promise<number> {
+  const { values } = parseArgs({ options: { concurrency: { type: 'string' } } });
+  const concurrency = values.concurrency === undefined ? 1 : Number(values.concurrency);
+  if (!Number.isInteger(concurrency) || concurrency < 1 || concurrency > 16) {
+    console.error('--concurrency must be a whole number from 1 to 16');
+    return 2;
+  }
+  loadDotEnv();
+  const { EnvError, getEnv } = await import('@/lib/env');
+  try {
+    getEnv();
+  } catch (err) {
+    if (err instanceof EnvError) {
+      console.error(err.message);
+      return 2;
+    }
+    throw err;
+  }
+  const { startReductionWorker } = await import('@/lib/jobs/worker');
+  const { closeSequelize } = await import('@/lib/db');
+  const { closeS3Client } = await import('@/lib/storage/s3');
+  const { closeMailTransport } = await import('@/lib/mail/transport');
+  const { log } = await import('@/lib/log');
+  const name = `${hostname()}:${process.pid}`;
+  const { worker, close } = startReductionWorker({ concurrency, name });
+  await worker.waitUntilReady();
+  log.info('reduction worker ready', { name, concurrency });
+  console.log(`Lobeline reduction worker ${name} is waiting for jobs (concurrency ${concurrency}). Ctrl-C stops it.`);
+  await new Promise<void>((resolve) => {
+    let stopping = false;
+    const stop = (signal: string) => {
+      if (stopping) return;
+      stopping = true;
+      console.log(`${signal}: finishing the running job, then stopping…`);
+      resolve();
+    };
+    process.once('SIGINT', () => stop('SIGINT'));
+    process.once('SIGTERM', () => stop('SIGTERM'));
+  });
+  await close();
+  await closeSequelize();
+  closeS3Client();
+  closeMailTransport();
+  return 0;
+}
+
+main().then(
+  (code) => process.exit(code),
+  (err) => {
+    console.error(err);
+    process.exit(1);
+  },
+);
