@@ -1,13 +1,13 @@
 // The texts of the account e-mails (invitation, password reset, added to a team). Plain text plus simple HTML.
 import { getEnv } from '@/lib/env';
 
-const escape = (s: string) =>
+const escapeHtml = (s: string) =>
   s.replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c] ?? c);
 
 function html(paragraphs: string[], link?: { href: string; label: string }): string {
-  const body = paragraphs.map((p) => `<p style="margin:0 0 12px">${escape(p)}</p>`).join('');
+  const body = paragraphs.map((p) => `<p style="margin:0 0 12px">${escapeHtml(p)}</p>`).join('');
   const button = link
-    ? `<p style="margin:18px 0"><a href="${escape(link.href)}" style="background:#0f8077;color:#fff;padding:10px 16px;border-radius:6px;text-decoration:none">${escape(link.label)}</a></p><p style="margin:0 0 12px;color:#5a6b80;font-size:13px">Or open this address: ${escape(link.href)}</p>`
+    ? `<p style="margin:18px 0"><a href="${escapeHtml(link.href)}" style="background:#0f8077;color:#fff;padding:10px 16px;border-radius:6px;text-decoration:none">${escapeHtml(link.label)}</a></p><p style="margin:0 0 12px;color:#5a6b80;font-size:13px">Or open this address: ${escapeHtml(link.href)}</p>`
     : '';
   return `<div style="font-family:system-ui,sans-serif;color:#172031;font-size:15px;line-height:1.5">${body}${button}<p style="color:#5a6b80;font-size:12px">Lobeline · Harbor Point Ultrafast Lab</p></div>`;
 }

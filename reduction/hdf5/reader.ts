@@ -426,7 +426,7 @@ function scanFrame(a: Float64Array): { nonFinite: number; negative: number; nega
   let negatives = 0;
   for (let i = 0; i < a.length; i++) {
     const v = a[i] as number;
-    if (v !== v || v === Number.POSITIVE_INFINITY || v === Number.NEGATIVE_INFINITY) {
+    if (!Number.isFinite(v)) {
       if (nonFinite < 0) nonFinite = i;
     } else if (v < 0) {
       negatives++;

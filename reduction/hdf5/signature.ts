@@ -65,7 +65,8 @@ export function checkHdf5Signature(read: ByteReader, size: number): SignatureChe
       `not an HDF5 file: the 8-byte HDF5 signature was not found at byte 0, 512, 1024, … ${kind ? `(the file looks like ${kind})` : ''}`.trim(),
     );
   }
-  const sb = read(offset + 8, SUPERBLOCK_PROBE_BYTES);
+  // Never look past the end of the file, whatever the reader returns there.
+  const sb = read(offset + 8, SUPERBLOCK_PROBE_BYTES).subarray(0, Math.max(0, size - offset - 8));
   const version = sb[0];
   if (version === undefined) return fail('truncated HDF5 file: it ends right after the signature');
   const parsed = parseSuperblockEof(sb, offset);

@@ -55,8 +55,10 @@ describe('truth', () => {
   it('bicircular, r = 1, 2e14 W/cm² total: |p_SM| = 0.331368 a.u., lobes at −90°, 30°, 150° + offset (SCIENCE.md §5.4)', () => {
     const s = planScan({ kind: 'bicircular', steps: 1, intensityMinWcm2: 2e14, fieldRatio: 1, offsetDeg: 5 }).steps[0]!;
     expect(Math.abs((s.radius_au as number) - 0.331368)).toBeLessThan(2e-6);
-    s.lobes.forEach((l, i) => expect(Math.abs((l.expected_deg as number) - [-90, 30, 150][i]!)).toBeLessThan(1e-9));
-    s.lobes.forEach((l, i) => expect(Math.abs(l.angle_deg - [-85, 35, 155][i]!)).toBeLessThan(1e-9));
+    s.lobes.forEach((l, i) => {
+      expect(Math.abs((l.expected_deg as number) - [-90, 30, 150][i]!)).toBeLessThan(1e-9);
+      expect(Math.abs(l.angle_deg - [-85, 35, 155][i]!)).toBeLessThan(1e-9);
+    });
   });
   it('rendered frames hold the requested expected counts', () => {
     const plan = planScan({ kind: 'bicircular', size: 96, steps: 1, counts: 5e4, distort: true });

@@ -146,7 +146,9 @@ describe('ResultFileWriter', () => {
     expect(d['/entry/result/phase/phase_of_max']?.attrs.units).toBe('rad');
     const pom = d['/entry/result/phase/phase_of_max']?.data as number[];
     // float32 storage: |error| ≤ 2^-24 · |value| (IEEE 754 single precision)
-    pom.forEach((v, i) => expect(Math.abs(v - (-Math.PI + i * 0.5))).toBeLessThanOrEqual(4 * 2 ** -24));
+    pom.forEach((v, i) => {
+      expect(Math.abs(v - (-Math.PI + i * 0.5))).toBeLessThanOrEqual(4 * 2 ** -24);
+    });
 
     const s = d['/entry/result/summary'];
     expect(JSON.parse(s?.data as string)).toEqual(summary());

@@ -94,7 +94,9 @@ describe('compression filters', () => {
     const r = openScanFile(rt, path.join(H5PY_DIR, 'as_uint16_lzf.h5'));
     if (!r.ok) throw new Error(r.problems[0]?.message);
     expect(r.scan.meta.countsFilters).toEqual(['LZF']);
-    want.forEach((f, k) => expect(Array.from(r.scan.readFrame(k))).toEqual(f.flat()));
+    want.forEach((f, k) => {
+      expect(Array.from(r.scan.readFrame(k))).toEqual(f.flat());
+    });
     r.scan.close();
   });
 
