@@ -8,6 +8,9 @@ cd "$(dirname "$0")/.."
 SECTIONS=(
   "N1|npx tsx scripts/bench/n1-phase.ts"
   "N2|npx tsx scripts/bench/n2-angular.ts"
+  "N3|npx tsx scripts/bench/n3-sha256.ts"
+  "N4|npx tsx scripts/bench/n4-multipart.ts"
+  "N5|npx tsx scripts/bench/n5-scan-table.ts"
 )
 
 want=("$@")

@@ -81,7 +81,7 @@ test('an uploaded scan is reduced and its offsets agree with the generator truth
     '--steps',
     '3',
     '--size',
-    '160',
+    '512', // the demo detector (seed calibration v1 is centred on a 512-pixel frame)
     '--offset-deg',
     '7',
     '--seed',
@@ -141,7 +141,7 @@ test('a two-colour phase scan shows its phase maps and a drawn region’s yield 
     '--steps',
     '12',
     '--size',
-    '128',
+    '512', // the demo detector (seed calibration v1 is centred on a 512-pixel frame)
     '--seed',
     '5',
   ]);
