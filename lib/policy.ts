@@ -216,6 +216,32 @@ export function authorize(
   });
 }
 
+/** Surfaces of objects addressed by id (their `not_found:*` code is the answer for callers who may not see them). */
+export type ObjectSurface = 'campaign' | 'shift' | 'scan' | 'upload' | 'calibration' | 'settings';
+
+/**
+ * `authorize` for an object of team `scope.teamId` that the caller addressed by its id. Someone who may not even
+ * see that team's objects (no membership, no facility role that reads every team's metadata) gets the same 404 as
+ * for an id that does not exist, so another team's ids reveal nothing; everyone else gets authorize's answer
+ * (401 without a session, 403 when the object is visible but the action is not allowed).
+ */
+export function authorizeObject(
+  actor: Actor | null,
+  action: Action,
+  scope: { teamId: number; surface: ObjectSurface },
+): asserts actor is Actor {
+  if (actor && !can(actor, 'team.view', { teamId: scope.teamId })) {
+    // `hiddenRefusal`: lib/api/route.ts records it in the audit trail like a 403.
+    throw new AppError(`not_found:${scope.surface}`, {
+      context: { action, teamId: scope.teamId, userId: actor.userId, hiddenRefusal: true },
+    });
+  }
+  authorize(actor, action, {
+    teamId: scope.teamId,
+    surface: scope.surface === 'calibration' || scope.surface === 'settings' ? 'campaign' : scope.surface,
+  });
+}
+
 const ACTION_WORDS: Partial<Record<Action, string>> = {
   'shift.open': 'opening a shift',
   'shift.close': 'closing a shift',

@@ -8,12 +8,10 @@ import {
   type Sequelize,
 } from 'sequelize';
 
-/** Roles held per team membership (PRODUCT.md "Who uses it"). */
-export const TEAM_ROLES = ['operator', 'analyst', 'pi'] as const;
-export type TeamRole = (typeof TEAM_ROLES)[number];
-/** Roles held facility-wide. */
-export const FACILITY_ROLES = ['steward', 'admin'] as const;
-export type FacilityRole = (typeof FACILITY_ROLES)[number];
+import { FACILITY_ROLES, type FacilityRole, TEAM_ROLES, type TeamRole } from '@/lib/policy';
+
+// The role names are defined once, in lib/policy.ts (client-safe); re-exported here for the data layer.
+export { FACILITY_ROLES, type FacilityRole, TEAM_ROLES, type TeamRole };
 
 export class User extends Model<InferAttributes<User>, InferCreationAttributes<User>> {
   declare id: CreationOptional<number>;
@@ -177,6 +175,13 @@ export function initAccountModels(sequelize: Sequelize): void {
       succeeded: { type: DataTypes.BOOLEAN, allowNull: false },
       created_at: DataTypes.DATE(3),
     },
-    { sequelize, tableName: 'sign_in_attempts', underscored: true, timestamps: true, createdAt: 'created_at', updatedAt: false },
+    {
+      sequelize,
+      tableName: 'sign_in_attempts',
+      underscored: true,
+      timestamps: true,
+      createdAt: 'created_at',
+      updatedAt: false,
+    },
   );
 }

@@ -68,14 +68,36 @@ export function AuditTrail({ scopeNote }: { scopeNote: string }) {
       flush
       actions={
         <div className="flex items-center gap-2">
-          <label htmlFor="audit-action" className="sr-only">Kind of event</label>
-          <select id="audit-action" value={action} onChange={(e) => { setAction(e.target.value); setPage(1); }} className={`${inputClass()} h-8 py-0 text-small`}>
+          <label htmlFor="audit-action" className="sr-only">
+            Kind of event
+          </label>
+          <select
+            id="audit-action"
+            value={action}
+            onChange={(e) => {
+              setAction(e.target.value);
+              setPage(1);
+            }}
+            className={`${inputClass()} h-8 py-0 text-small`}
+          >
             {ACTION_GROUPS.map((g) => (
-              <option key={g.value} value={g.value}>{g.label}</option>
+              <option key={g.value} value={g.value}>
+                {g.label}
+              </option>
             ))}
           </select>
-          <label htmlFor="audit-outcome" className="sr-only">Outcome</label>
-          <select id="audit-outcome" value={outcome} onChange={(e) => { setOutcome(e.target.value); setPage(1); }} className={`${inputClass()} h-8 py-0 text-small`}>
+          <label htmlFor="audit-outcome" className="sr-only">
+            Outcome
+          </label>
+          <select
+            id="audit-outcome"
+            value={outcome}
+            onChange={(e) => {
+              setOutcome(e.target.value);
+              setPage(1);
+            }}
+            className={`${inputClass()} h-8 py-0 text-small`}
+          >
             <option value="">Any outcome</option>
             <option value="ok">Done</option>
             <option value="failed">Failed</option>
@@ -85,7 +107,9 @@ export function AuditTrail({ scopeNote }: { scopeNote: string }) {
       }
     >
       {q.isError ? (
-        <div className="px-5 py-4"><ErrorState message={q.error.message} onRetry={() => void q.refetch()} /></div>
+        <div className="px-5 py-4">
+          <ErrorState message={q.error.message} onRetry={() => void q.refetch()} />
+        </div>
       ) : (
         <DataTable
           data-testid="audit-table"
@@ -112,7 +136,8 @@ export function AuditTrail({ scopeNote }: { scopeNote: string }) {
               key: 'target',
               header: 'Object',
               className: 'whitespace-nowrap',
-              render: (r) => (r.targetType ? `${r.targetType} ${r.targetId ?? ''}` : <span className="text-ink-400">—</span>),
+              render: (r) =>
+                r.targetType ? `${r.targetType} ${r.targetId ?? ''}` : <span className="text-ink-400">—</span>,
             },
             {
               key: 'outcome',
@@ -123,7 +148,12 @@ export function AuditTrail({ scopeNote }: { scopeNote: string }) {
                 </Badge>
               ),
             },
-            { key: 'details', header: 'Details', className: 'max-w-[22rem] text-ink-600', render: (r) => summarize(r.details) },
+            {
+              key: 'details',
+              header: 'Details',
+              className: 'max-w-[22rem] text-ink-600',
+              render: (r) => summarize(r.details),
+            },
           ]}
         />
       )}

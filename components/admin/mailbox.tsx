@@ -2,11 +2,11 @@
 
 import { useQuery } from '@tanstack/react-query';
 import { useState } from 'react';
+import { cx } from '@/components/ui/cx';
 import { EmptyState } from '@/components/ui/empty-state';
 import { ErrorState } from '@/components/ui/error-state';
 import { LoadingBlock } from '@/components/ui/loading-block';
 import { Panel } from '@/components/ui/panel';
-import { cx } from '@/components/ui/cx';
 import { apiFetch } from '@/lib/api/client';
 
 interface Summary {
@@ -57,11 +57,17 @@ export function Mailbox() {
     <div className="grid gap-6 lg:grid-cols-[24rem_minmax(0,1fr)]">
       <Panel title="Caught messages" flush>
         {list.isPending ? (
-          <div className="px-5 py-4"><LoadingBlock /></div>
+          <div className="px-5 py-4">
+            <LoadingBlock />
+          </div>
         ) : list.isError ? (
-          <div className="px-5 py-4"><ErrorState message={list.error.message} onRetry={() => void list.refetch()} /></div>
+          <div className="px-5 py-4">
+            <ErrorState message={list.error.message} onRetry={() => void list.refetch()} />
+          </div>
         ) : list.data.messages.length === 0 ? (
-          <div className="px-5 py-4"><EmptyState title="No mail yet">Invitations and reset links sent here appear within seconds.</EmptyState></div>
+          <div className="px-5 py-4">
+            <EmptyState title="No mail yet">Invitations and reset links sent here appear within seconds.</EmptyState>
+          </div>
         ) : (
           <ul className="divide-y divide-ink-100" data-testid="mail-list">
             {list.data.messages.map((m) => (

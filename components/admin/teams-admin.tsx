@@ -20,7 +20,10 @@ interface TeamRow {
 
 export function TeamsAdmin() {
   const qc = useQueryClient();
-  const teams = useQuery({ queryKey: ['admin', 'teams'], queryFn: () => apiFetch<{ teams: TeamRow[] }>('/api/admin/teams') });
+  const teams = useQuery({
+    queryKey: ['admin', 'teams'],
+    queryFn: () => apiFetch<{ teams: TeamRow[] }>('/api/admin/teams'),
+  });
   const [pending, setPending] = useState(false);
   const [fields, setFields] = useState<Record<string, string>>({});
   const [notice, setNotice] = useState<{ tone: 'ok' | 'error'; text: string } | null>(null);
@@ -29,7 +32,11 @@ export function TeamsAdmin() {
     e.preventDefault();
     const form = e.currentTarget;
     const f = new FormData(form);
-    const body = { slug: String(f.get('slug') ?? ''), name: String(f.get('name') ?? ''), description: String(f.get('description') ?? '') };
+    const body = {
+      slug: String(f.get('slug') ?? ''),
+      name: String(f.get('name') ?? ''),
+      description: String(f.get('description') ?? ''),
+    };
     setPending(true);
     setFields({});
     setNotice(null);
@@ -41,7 +48,8 @@ export function TeamsAdmin() {
     } catch (err) {
       const byField = detailsByField(err);
       setFields(byField);
-      if (!Object.keys(byField).length) setNotice({ tone: 'error', text: err instanceof ApiError ? err.message : 'Not created.' });
+      if (!Object.keys(byField).length)
+        setNotice({ tone: 'error', text: err instanceof ApiError ? err.message : 'Not created.' });
     } finally {
       setPending(false);
     }
@@ -51,11 +59,17 @@ export function TeamsAdmin() {
     <div className="grid gap-6 lg:grid-cols-[minmax(0,1fr)_22rem]">
       <Panel title="Teams" flush>
         {teams.isPending ? (
-          <div className="px-5 py-4"><LoadingBlock /></div>
+          <div className="px-5 py-4">
+            <LoadingBlock />
+          </div>
         ) : teams.isError ? (
-          <div className="px-5 py-4"><ErrorState message={teams.error.message} onRetry={() => void teams.refetch()} /></div>
+          <div className="px-5 py-4">
+            <ErrorState message={teams.error.message} onRetry={() => void teams.refetch()} />
+          </div>
         ) : teams.data.teams.length === 0 ? (
-          <div className="px-5 py-4"><EmptyState title="No team yet">Create the first team with the form.</EmptyState></div>
+          <div className="px-5 py-4">
+            <EmptyState title="No team yet">Create the first team with the form.</EmptyState>
+          </div>
         ) : (
           <ul className="divide-y divide-ink-100" data-testid="teams-list">
             {teams.data.teams.map((t) => (
@@ -78,7 +92,11 @@ export function TeamsAdmin() {
           {notice ? (
             <p
               role={notice.tone === 'error' ? 'alert' : 'status'}
-              className={notice.tone === 'error' ? 'text-small text-fault-700' : 'rounded-md bg-lobe-50 px-3 py-2 text-small text-lobe-800'}
+              className={
+                notice.tone === 'error'
+                  ? 'text-small text-fault-700'
+                  : 'rounded-md bg-lobe-50 px-3 py-2 text-small text-lobe-800'
+              }
             >
               {notice.text}
             </p>

@@ -40,8 +40,10 @@ interface TeamRow {
 
 const ROLE: Record<TeamRole, string> = { operator: 'Operator', analyst: 'Analyst', pi: 'PI' };
 const FACILITY: Record<FacilityRole, string> = { steward: 'Data steward', admin: 'Administrator' };
+const PAGE = 40;
 const msg = (e: unknown) => (e instanceof Error ? e.message : 'Something went wrong.');
-const day = (iso: string | null) => (iso ? new Date(iso).toLocaleDateString('en-GB', { day: 'numeric', month: 'short', year: 'numeric' }) : '—');
+const day = (iso: string | null) =>
+  iso ? new Date(iso).toLocaleDateString('en-GB', { day: 'numeric', month: 'short', year: 'numeric' }) : '—';
 
 export function UsersAdmin({ selfId }: { selfId: number }) {
   const qc = useQueryClient();
@@ -54,6 +56,8 @@ export function UsersAdmin({ selfId }: { selfId: number }) {
     queryFn: () => apiFetch<{ teams: TeamRow[] }>('/api/admin/teams'),
   });
   const [notice, setNotice] = useState<{ tone: 'ok' | 'error'; text: string } | null>(null);
+  const [filter, setFilter] = useState('');
+  const [showAll, setShowAll] = useState(false);
 
   const act = useMutation({
     mutationFn: (a: { url: string; method: 'POST' | 'DELETE'; json?: unknown; done: string }) =>
@@ -65,10 +69,24 @@ export function UsersAdmin({ selfId }: { selfId: number }) {
     onError: (e) => setNotice({ tone: 'error', text: msg(e) }),
   });
 
-  if (users.isPending || teams.isPending) return <Panel><LoadingBlock label="Loading users…" /></Panel>;
+  if (users.isPending || teams.isPending)
+    return (
+      <Panel>
+        <LoadingBlock label="Loading users…" />
+      </Panel>
+    );
   if (users.isError) return <ErrorState message={msg(users.error)} onRetry={() => void users.refetch()} />;
   if (teams.isError) return <ErrorState message={msg(teams.error)} onRetry={() => void teams.refetch()} />;
   const teamList = teams.data.teams;
+  const needle = filter.trim().toLowerCase();
+  const matching = users.data.users.filter(
+    (u) =>
+      !needle ||
+      u.email.includes(needle) ||
+      u.name.toLowerCase().includes(needle) ||
+      u.memberships.some((m) => m.teamName.toLowerCase().includes(needle)),
+  );
+  const shown = showAll ? matching : matching.slice(0, PAGE);
 
   return (
     <div className="space-y-6">
@@ -86,26 +104,71 @@ export function UsersAdmin({ selfId }: { selfId: number }) {
           {notice.text}
         </p>
       ) : null}
-      <Panel title="Accounts" description={`${users.data.users.length} accounts`} flush>
+      <Panel
+        title="Accounts"
+        description={
+          needle
+            ? `${matching.length} of ${users.data.users.length} accounts match`
+            : `${users.data.users.length} accounts`
+        }
+        actions={
+          <>
+            <label htmlFor="user-filter" className="sr-only">
+              Find an account
+            </label>
+            <input
+              id="user-filter"
+              type="search"
+              value={filter}
+              onChange={(e) => setFilter(e.target.value)}
+              placeholder="Find by name, e-mail or team"
+              className={`${inputClass()} h-8 w-64 py-0 text-small`}
+            />
+          </>
+        }
+        flush
+      >
         <div className="overflow-x-auto">
           <table className="min-w-full text-small" data-testid="users-table">
             <thead className="bg-ink-50 text-left text-micro font-semibold tracking-wide text-ink-500 uppercase">
               <tr>
-                <th scope="col" className="px-4 py-2">Person</th>
-                <th scope="col" className="px-4 py-2">Team roles</th>
-                <th scope="col" className="px-4 py-2">Facility roles</th>
-                <th scope="col" className="px-4 py-2">Last sign-in</th>
-                <th scope="col" className="px-4 py-2 text-right">Account</th>
+                <th scope="col" className="px-4 py-2">
+                  Person
+                </th>
+                <th scope="col" className="px-4 py-2">
+                  Team roles
+                </th>
+                <th scope="col" className="px-4 py-2">
+                  Facility roles
+                </th>
+                <th scope="col" className="px-4 py-2">
+                  Last sign-in
+                </th>
+                <th scope="col" className="px-4 py-2 text-right">
+                  Account
+                </th>
               </tr>
             </thead>
             <tbody className="divide-y divide-ink-100 align-top">
-              {users.data.users.map((u) => (
-                <tr key={u.id} data-testid={`user-row-${u.email}`} className={u.isActive ? '' : 'bg-ink-50/70 text-ink-500'}>
+              {shown.map((u) => (
+                <tr
+                  key={u.id}
+                  data-testid={`user-row-${u.email}`}
+                  className={u.isActive ? '' : 'bg-ink-50/70 text-ink-500'}
+                >
                   <td className="px-4 py-3">
                     <p className="font-medium text-ink-900">{u.name}</p>
                     <p className="text-ink-500">{u.email}</p>
-                    {!u.isActive ? <Badge tone="bad" className="mt-1">deactivated</Badge> : null}
-                    {!u.hasPassword ? <Badge tone="warn" className="mt-1">not activated</Badge> : null}
+                    {!u.isActive ? (
+                      <Badge tone="bad" className="mt-1">
+                        deactivated
+                      </Badge>
+                    ) : null}
+                    {!u.hasPassword ? (
+                      <Badge tone="warn" className="mt-1">
+                        not activated
+                      </Badge>
+                    ) : null}
                   </td>
                   <td className="px-4 py-3">
                     <ul className="space-y-1.5">
@@ -197,7 +260,7 @@ export function UsersAdmin({ selfId }: { selfId: number }) {
                               })
                             }
                           >
-                            + {r}
+                            Grant {r}
                           </Button>
                         ))}
                     </div>
@@ -229,6 +292,18 @@ export function UsersAdmin({ selfId }: { selfId: number }) {
             </tbody>
           </table>
         </div>
+        {matching.length > shown.length ? (
+          <div className="border-t border-ink-100 px-4 py-2.5 text-small text-ink-600">
+            Showing {shown.length} of {matching.length}.{' '}
+            <button
+              type="button"
+              className="font-medium text-lobe-700 hover:underline"
+              onClick={() => setShowAll(true)}
+            >
+              Show all
+            </button>
+          </div>
+        ) : null}
       </Panel>
       <Panel title="Pending invitations" data-testid="invitations">
         {users.data.invitations.length === 0 ? (
@@ -242,7 +317,8 @@ export function UsersAdmin({ selfId }: { selfId: number }) {
                   <span className="text-ink-500">
                     {' '}
                     · {i.teamName && i.role ? `${ROLE[i.role]} in ${i.teamName}` : ''}
-                    {i.facilityRole ? `${i.teamName ? ', ' : ''}${FACILITY[i.facilityRole]}` : ''} · expires {day(i.expiresAt)}
+                    {i.facilityRole ? `${i.teamName ? ', ' : ''}${FACILITY[i.facilityRole]}` : ''} · expires{' '}
+                    {day(i.expiresAt)}
                   </span>
                 </span>
                 <Button
@@ -292,7 +368,10 @@ function InviteForm({ teams, onDone }: { teams: TeamRow[]; onDone: (text: string
     setFields({});
     setError(null);
     try {
-      const r = await apiFetch<{ status: 'invited' | 'added' }>('/api/admin/users/invite', { method: 'POST', json: body });
+      const r = await apiFetch<{ status: 'invited' | 'added' }>('/api/admin/users/invite', {
+        method: 'POST',
+        json: body,
+      });
       onDone(
         r.status === 'invited'
           ? `An invitation was sent to ${body.email}. The link is valid for 7 days.`
@@ -313,7 +392,10 @@ function InviteForm({ teams, onDone }: { teams: TeamRow[]; onDone: (text: string
     <Panel title="Invite someone" description="They receive a single-use link to choose their password.">
       <form onSubmit={onSubmit} noValidate className="space-y-4" data-testid="invite-form">
         {error ? (
-          <p role="alert" className="rounded-md border border-fault-100 bg-fault-50 px-3 py-2 text-small text-fault-700">
+          <p
+            role="alert"
+            className="rounded-md border border-fault-100 bg-fault-50 px-3 py-2 text-small text-fault-700"
+          >
             {error}
           </p>
         ) : null}
@@ -324,7 +406,13 @@ function InviteForm({ teams, onDone }: { teams: TeamRow[]; onDone: (text: string
         <div className="grid gap-4 md:grid-cols-3">
           <Field label="Team" error={fields.teamId}>
             {({ id, invalid, describedBy }) => (
-              <select id={id} name="teamId" aria-describedby={describedBy} className={inputClass(invalid)} defaultValue="">
+              <select
+                id={id}
+                name="teamId"
+                aria-describedby={describedBy}
+                className={inputClass(invalid)}
+                defaultValue=""
+              >
                 <option value="">No team</option>
                 {teams.map((t) => (
                   <option key={t.id} value={t.id}>
@@ -336,7 +424,13 @@ function InviteForm({ teams, onDone }: { teams: TeamRow[]; onDone: (text: string
           </Field>
           <Field label="Role in the team" error={fields.role}>
             {({ id, invalid, describedBy }) => (
-              <select id={id} name="role" aria-describedby={describedBy} className={inputClass(invalid)} defaultValue="operator">
+              <select
+                id={id}
+                name="role"
+                aria-describedby={describedBy}
+                className={inputClass(invalid)}
+                defaultValue="operator"
+              >
                 {(Object.keys(ROLE) as TeamRole[]).map((r) => (
                   <option key={r} value={r}>
                     {ROLE[r]}
@@ -347,7 +441,13 @@ function InviteForm({ teams, onDone }: { teams: TeamRow[]; onDone: (text: string
           </Field>
           <Field label="Facility role" error={fields.facilityRole}>
             {({ id, invalid, describedBy }) => (
-              <select id={id} name="facilityRole" aria-describedby={describedBy} className={inputClass(invalid)} defaultValue="">
+              <select
+                id={id}
+                name="facilityRole"
+                aria-describedby={describedBy}
+                className={inputClass(invalid)}
+                defaultValue=""
+              >
                 <option value="">None</option>
                 <option value="steward">Data steward</option>
                 <option value="admin">Administrator</option>

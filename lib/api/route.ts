@@ -7,11 +7,12 @@
 //     return { campaign };
 //   });
 //
-// Access is decided inside the handler through lib/policy.ts; a `forbidden:*` refusal is audited here.
+// Access is decided inside the handler through lib/policy.ts; a `forbidden:*` refusal is audited here, and so is
+// the 404 that answers an id of a team the caller may not see (context.hiddenRefusal, see authorizeObject).
 import { z } from 'zod';
+import { recordAudit } from '@/lib/audit';
 import { getActor } from '@/lib/auth/actor';
 import { ipFromHeaders } from '@/lib/auth/sign-in';
-import { recordAudit } from '@/lib/audit';
 import { AppError, toAppError } from '@/lib/errors';
 import { log } from '@/lib/log';
 import type { Actor } from '@/lib/policy';
@@ -35,7 +36,7 @@ export interface RouteContext<P, Q, B, A> {
   query: Q;
   body: B;
   request: Request;
-  /** Client address (first hop of x-forwarded-for), for the audit trail. */
+  /** Client address (see ipFromHeaders in lib/auth/sign-in.ts), for the audit trail. */
   ip: string;
 }
 
@@ -99,7 +100,7 @@ export function apiRoute(
       return jsonResponse(result ?? { ok: true });
     } catch (err) {
       const appError = toAppError(normalizeError(err));
-      if (appError.type === 'forbidden') {
+      if (appError.type === 'forbidden' || appError.context?.hiddenRefusal === true) {
         await recordAudit({
           action: 'auth.access_refused',
           actorId: actor?.userId ?? null,

@@ -3,8 +3,8 @@
 // by e-mail (an invitation link never replaces the password of an account that has one).
 import { recordAudit } from '@/lib/audit';
 import {
-  type By,
   acceptInvitationRecord,
+  type By,
   findInvitationByHash,
   getTeamById,
   getUserByEmail,
@@ -40,7 +40,11 @@ export async function inviteUser(input: InviteInput, by: By & { name: string }):
   let what: string;
   if (input.teamId && input.role) {
     const team = await getTeamById({ teamId: input.teamId });
-    if (!team) throw new AppError('not_found:team', { message: 'There is no such team.', details: ['teamId: There is no such team.'] });
+    if (!team)
+      throw new AppError('not_found:team', {
+        message: 'There is no such team.',
+        details: ['teamId: There is no such team.'],
+      });
     what = `${ROLE_WORDS[input.role]} in ${team.name}`;
   } else if (input.facilityRole) {
     what = `${FACILITY_WORDS[input.facilityRole]} of the facility`;
@@ -53,7 +57,8 @@ export async function inviteUser(input: InviteInput, by: By & { name: string }):
 
   const existing = await getUserByEmail({ email });
   if (existing?.isActive && existing.hasPassword) {
-    if (input.teamId && input.role) await upsertMembership({ userId: existing.id, teamId: input.teamId, role: input.role }, by);
+    if (input.teamId && input.role)
+      await upsertMembership({ userId: existing.id, teamId: input.teamId, role: input.role }, by);
     if (input.facilityRole) await grantFacilityRole({ userId: existing.id, role: input.facilityRole }, by);
     await sendMail({ to: email, ...addedMail({ name: existing.name, invitedBy: by.name, what }) });
     return { status: 'added', userId: existing.id };
@@ -134,7 +139,10 @@ export async function acceptInvitation(input: {
     return { ok: false, state: 'unknown' };
   }
   const passwordHash = await hashPassword(input.password);
-  const r = await acceptInvitationRecord({ tokenHash: hashToken(input.token), name: input.name, passwordHash }, input.ip);
+  const r = await acceptInvitationRecord(
+    { tokenHash: hashToken(input.token), name: input.name, passwordHash },
+    input.ip,
+  );
   if (!r.ok) {
     await recordAudit({
       action: 'invitation.accepted',

@@ -2,13 +2,18 @@
 // The JWT carries the user id and a snapshot of the memberships taken at sign-in; the server never trusts that
 // snapshot for access decisions: lib/auth/actor.ts re-reads memberships and facility roles on every call.
 import type { NextAuthOptions } from 'next-auth';
-import CredentialsProvider from 'next-auth/providers/credentials';
+import CredentialsImport from 'next-auth/providers/credentials';
 import { z } from 'zod';
 import { recordAudit } from '@/lib/audit';
 import { getActorByUserId } from '@/lib/db/queries/accounts';
 import { getEnv } from '@/lib/env';
 import { log } from '@/lib/log';
 import { attemptSignIn, ipFromHeaders } from './sign-in';
+
+// next-auth's provider modules are CommonJS with `exports.default`. Next's bundler unwraps that default; Node's own ESM
+// loader (tsx scripts, benchmarks) hands over the whole module object instead, so take `.default` when it is there.
+const CredentialsProvider =
+  (CredentialsImport as unknown as { default?: typeof CredentialsImport }).default ?? CredentialsImport;
 
 export const SESSION_MAX_AGE_SECONDS = 12 * 60 * 60;
 

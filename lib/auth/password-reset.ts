@@ -24,7 +24,9 @@ export async function requestPasswordReset(input: { email: string; ip: string })
   let outcome: 'sent' | 'unknown_account' | 'deactivated' | 'too_many' | 'mail_failed' = 'sent';
   if (!user) outcome = 'unknown_account';
   else if (!user.isActive) outcome = 'deactivated';
-  else if ((await countRecentResetTokens({ userId: user.id, since: new Date(Date.now() - 3600_000) })) >= RESETS_PER_HOUR) {
+  else if (
+    (await countRecentResetTokens({ userId: user.id, since: new Date(Date.now() - 3600_000) })) >= RESETS_PER_HOUR
+  ) {
     outcome = 'too_many';
   } else {
     const { token, hash } = newToken();

@@ -87,7 +87,12 @@ export async function attemptSignIn(input: { email: string; password: string; ip
   return { ok: true, user: { id: user.id, email: user.email, name: user.name } };
 }
 
-/** Client address from the usual proxy headers (the first hop of x-forwarded-for), or 'unknown'. */
+/**
+ * Client address for the limits and the audit trail: the LAST entry of x-forwarded-for (the address the nearest
+ * proxy saw; a client can only prepend entries), else x-real-ip, else 'unknown'. Next sets x-forwarded-for to the
+ * socket address only when the request has none, so without a reverse proxy in front a client can choose this
+ * value: the per-account limit does not depend on it.
+ */
 export function ipFromHeaders(headers: Headers | Record<string, unknown> | undefined): string {
   const get = (name: string): string | undefined => {
     if (!headers) return undefined;
@@ -95,7 +100,7 @@ export function ipFromHeaders(headers: Headers | Record<string, unknown> | undef
     const v = headers[name];
     return Array.isArray(v) ? String(v[0]) : typeof v === 'string' ? v : undefined;
   };
-  const forwarded = get('x-forwarded-for')?.split(',')[0]?.trim();
+  const forwarded = get('x-forwarded-for')?.split(',').at(-1)?.trim();
   const ip = forwarded || get('x-real-ip')?.trim() || 'unknown';
   return ip.slice(0, 64);
 }

@@ -23,7 +23,8 @@ export type TokenState = 'valid' | 'expired' | 'used' | 'revoked' | 'unknown';
 
 export const TOKEN_STATE_MESSAGES: Record<Exclude<TokenState, 'valid'>, { invitation: string; reset: string }> = {
   expired: {
-    invitation: 'This invitation has expired (invitations are valid for 7 days). Ask an administrator to send a new one.',
+    invitation:
+      'This invitation has expired (invitations are valid for 7 days). Ask an administrator to send a new one.',
     reset: 'This reset link has expired (reset links are valid for 1 hour). Ask for a new link below.',
   },
   used: {

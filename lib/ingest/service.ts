@@ -37,7 +37,7 @@ import { getEnv } from '@/lib/env';
 import { AppError } from '@/lib/errors';
 import { log } from '@/lib/log';
 import { sendMail } from '@/lib/mail/transport';
-import { type Actor, authorize, can } from '@/lib/policy';
+import { type Actor, authorize, authorizeObject, can } from '@/lib/policy';
 import {
   abortMultipart,
   buckets,
@@ -62,8 +62,13 @@ const ilog = log.child({ surface: 'upload' });
 
 async function loadShift(actor: Actor, shiftId: number): Promise<ShiftRecord> {
   const shift = await getShiftRecord({ shiftId });
-  // Someone outside the team learns nothing about the shift, not even that it exists.
-  if (!shift || !can(actor, 'shift.view', { teamId: shift.teamId })) throw new AppError('not_found:shift');
+  // Someone outside the team learns nothing about the shift, not even that it exists (the refusal is audited).
+  if (!shift) throw new AppError('not_found:shift');
+  if (!can(actor, 'shift.view', { teamId: shift.teamId })) {
+    throw new AppError('not_found:shift', {
+      context: { action: 'shift.view', teamId: shift.teamId, userId: actor.userId, hiddenRefusal: true },
+    });
+  }
   return shift;
 }
 
@@ -79,7 +84,7 @@ function requireOpen(shift: ShiftRecord): void {
 async function loadOwnUpload(actor: Actor, uploadId: number): Promise<UploadRecord> {
   const upload = await getUploadRecord({ uploadId });
   if (!upload) throw new AppError('not_found:upload', { message: 'There is no such upload.' });
-  authorize(actor, 'upload.create', { teamId: upload.teamId, surface: 'upload' });
+  authorizeObject(actor, 'upload.create', { teamId: upload.teamId, surface: 'upload' });
   if (upload.userId !== actor.userId) {
     throw new AppError('forbidden:upload', {
       message: 'This upload was started by someone else; only they can continue or cancel it.',
@@ -661,12 +666,9 @@ export async function releaseRawFile(
   ip?: string,
 ): Promise<{ rawFileId: number; scanIds: number[]; status: 'released' }> {
   const raw = await getRawFileRecord({ rawFileId });
-  if (!raw || !can(actor, 'rawfile.view', { teamId: raw.teamId })) {
-    throw new AppError('not_found:upload', {
-      message: 'There is no such file, or it belongs to a team you are not a member of.',
-    });
-  }
-  authorize(actor, 'quarantine.release', { teamId: raw.teamId, surface: 'upload' });
+  if (!raw) throw new AppError('not_found:upload', { message: 'There is no such file.' });
+  // 404 for a team the actor may not see; a steward sees every team's raw files (C10) and is refused with 403.
+  authorizeObject(actor, 'quarantine.release', { teamId: raw.teamId, surface: 'upload' });
   if (raw.status !== 'quarantined') {
     throw new AppError('conflict:upload', {
       message: `This file is ${raw.status}, not quarantined; there is nothing to release.`,

@@ -7,7 +7,16 @@ import { getDb } from '@/lib/db';
 import { AppError } from '@/lib/errors';
 import type { Actor, FacilityRole, TeamRole } from '@/lib/policy';
 import { FACILITY_ROLES, TEAM_ROLES } from '@/lib/policy';
-import { AuditEvent, FacilityRoleGrant, Invitation, Membership, PasswordResetToken, SignInAttempt, Team, User } from '@/models';
+import {
+  AuditEvent,
+  FacilityRoleGrant,
+  Invitation,
+  Membership,
+  PasswordResetToken,
+  SignInAttempt,
+  Team,
+  User,
+} from '@/models';
 
 // TYPES //
 
@@ -89,7 +98,7 @@ function toUserDto(u: UserWithRoles): UserDto {
 export async function getActorByUserId({ userId }: { userId: number }): Promise<Actor | null> {
   return db('getActorByUserId', async () => {
     const user = (await User.findByPk(userId, { include: userIncludes() })) as UserWithRoles | null;
-    if (!user || !user.is_active) return null;
+    if (!user?.is_active) return null;
     const dto = toUserDto(user);
     return {
       userId: dto.id,
@@ -115,7 +124,9 @@ export interface SignInUser {
 export async function getUserForSignIn({ email }: { email: string }): Promise<SignInUser | null> {
   return db('getUserForSignIn', async () => {
     const u = await User.findOne({ where: { email: normalizeEmail(email) } });
-    return u ? { id: u.id, email: u.email, name: u.name, isActive: !!u.is_active, passwordHash: u.password_hash } : null;
+    return u
+      ? { id: u.id, email: u.email, name: u.name, isActive: !!u.is_active, passwordHash: u.password_hash }
+      : null;
   });
 }
 
@@ -276,7 +287,14 @@ export async function createTeam(
       return await getDb().transaction(async (t) => {
         const team = await Team.create(input, { transaction: t });
         await recordAudit(
-          { action: 'team.created', ...auditBy(by), teamId: team.id, targetType: 'team', targetId: team.id, details: input },
+          {
+            action: 'team.created',
+            ...auditBy(by),
+            teamId: team.id,
+            targetType: 'team',
+            targetId: team.id,
+            details: input,
+          },
           { transaction: t },
         );
         return { id: team.id };
@@ -560,12 +578,20 @@ export async function revokeInvitation({ invitationId }: { invitationId: number 
 
 export type StoredTokenState = 'valid' | 'expired' | 'used' | 'revoked' | 'unknown';
 
-function invitationState(inv: Invitation | null, now = Date.now()): StoredTokenState {
-  if (!inv) return 'unknown';
-  if (inv.accepted_at) return 'used';
-  if (inv.revoked_at) return 'revoked';
-  if (new Date(inv.expires_at).getTime() <= now) return 'expired';
+/** The state of a stored single-use link (invitation or reset token); used wins over revoked over expired. */
+function tokenState(
+  row: { usedAt: Date | null; revokedAt: Date | null; expiresAt: Date } | null,
+  now = Date.now(),
+): StoredTokenState {
+  if (!row) return 'unknown';
+  if (row.usedAt) return 'used';
+  if (row.revokedAt) return 'revoked';
+  if (new Date(row.expiresAt).getTime() <= now) return 'expired';
   return 'valid';
+}
+
+function invitationState(inv: Invitation | null): StoredTokenState {
+  return tokenState(inv && { usedAt: inv.accepted_at, revokedAt: inv.revoked_at, expiresAt: inv.expires_at });
 }
 
 export async function findInvitationByHash({
@@ -670,11 +696,8 @@ export async function insertResetToken(input: { userId: number; tokenHash: strin
   });
 }
 
-function resetState(row: PasswordResetToken | null, now = Date.now()): StoredTokenState {
-  if (!row) return 'unknown';
-  if (row.used_at) return 'used';
-  if (new Date(row.expires_at).getTime() <= now) return 'expired';
-  return 'valid';
+function resetState(row: PasswordResetToken | null): StoredTokenState {
+  return tokenState(row && { usedAt: row.used_at, revokedAt: null, expiresAt: row.expires_at });
 }
 
 export async function findResetByHash({
@@ -697,7 +720,9 @@ export async function findResetByHash({
 export async function completeResetRecord(
   input: { tokenHash: string; passwordHash: string },
   ip: string,
-): Promise<{ ok: true; userId: number; email: string } | { ok: false; state: StoredTokenState; userId: number | null }> {
+): Promise<
+  { ok: true; userId: number; email: string } | { ok: false; state: StoredTokenState; userId: number | null }
+> {
   return db('completeResetRecord', () =>
     getDb().transaction(async (t) => {
       const row = await PasswordResetToken.findOne({
@@ -707,14 +732,11 @@ export async function completeResetRecord(
       });
       let state = resetState(row);
       const user = row ? await User.findByPk(row.user_id, { transaction: t, lock: t.LOCK.UPDATE }) : null;
-      if (state === 'valid' && (!user || !user.is_active)) state = 'revoked';
+      if (state === 'valid' && !user?.is_active) state = 'revoked';
       if (!row || !user || state !== 'valid') return { ok: false as const, state, userId: row?.user_id ?? null };
       const now = new Date();
       await user.update({ password_hash: input.passwordHash }, { transaction: t });
-      await PasswordResetToken.update(
-        { used_at: now },
-        { where: { user_id: user.id, used_at: null }, transaction: t },
-      );
+      await PasswordResetToken.update({ used_at: now }, { where: { user_id: user.id, used_at: null }, transaction: t });
       await recordAudit(
         {
           action: 'auth.password_reset',
@@ -762,8 +784,7 @@ export async function listAuditEvents(input: {
     const where: Record<string | symbol, unknown> = {};
     if (input.teamIds !== 'all') where.team_id = { [Op.in]: input.teamIds.length ? input.teamIds : [0] };
     if (input.teamId) {
-      where.team_id =
-        input.teamIds === 'all' || input.teamIds.includes(input.teamId) ? input.teamId : { [Op.in]: [0] };
+      where.team_id = input.teamIds === 'all' || input.teamIds.includes(input.teamId) ? input.teamId : { [Op.in]: [0] };
     }
     if (input.action) where.action = { [Op.like]: `${input.action.replace(/[%_\\]/g, '\\$&')}%` };
     if (input.actor) where.actor_email = { [Op.like]: `%${input.actor.replace(/[%_\\]/g, '\\$&')}%` };

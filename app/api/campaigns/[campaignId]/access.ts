@@ -11,15 +11,15 @@ import {
 } from '@/lib/db/queries/calibrations';
 import { getCampaignTeamId } from '@/lib/db/queries/scans';
 import { AppError } from '@/lib/errors';
-import { type Actor, authorize, can } from '@/lib/policy';
+import { type Action, type Actor, authorizeObject, can } from '@/lib/policy';
 
 export const campaignParams = z.object({ campaignId: idParam });
 export const versionParams = z.object({ campaignId: idParam, versionId: idParam });
 
-/** 404 for a missing campaign, then the policy check for the owning team. */
-export async function campaignFor(actor: Actor, campaignId: number, action: Parameters<typeof authorize>[1]) {
+/** 404 for a missing campaign or one of a team the actor may not see, then the policy check for the owning team. */
+export async function campaignFor(actor: Actor, campaignId: number, action: Action) {
   const teamId = await getCampaignTeamId({ campaignId });
-  authorize(actor, action, { teamId, surface: 'campaign' });
+  authorizeObject(actor, action, { teamId, surface: 'campaign' });
   return teamId;
 }
 
@@ -70,12 +70,12 @@ export function versionItemRoutes(kind: VersionKind) {
   return {
     GET: apiRoute({ params: versionParams }, async ({ actor, params }) => {
       const v = await versionInCampaign(kind, params.campaignId, params.versionId);
-      authorize(actor, 'calibration.view', { teamId: v.teamId });
+      authorizeObject(actor, 'calibration.view', { teamId: v.teamId, surface: kind });
       return { version: v.version };
     }),
     PATCH: apiRoute({ params: versionParams, body: versionBody }, async ({ actor, params, body }) => {
       const v = await versionInCampaign(kind, params.campaignId, params.versionId);
-      authorize(actor, 'calibration.edit', { teamId: v.teamId });
+      authorizeObject(actor, 'calibration.edit', { teamId: v.teamId, surface: kind });
       return { version: await updateDraft({ kind, versionId: params.versionId, body: body.body, note: body.note }) };
     }),
   };
@@ -85,7 +85,7 @@ export function versionItemRoutes(kind: VersionKind) {
 export function versionApproveRoute(kind: VersionKind) {
   return apiRoute({ params: versionParams }, async ({ actor, params, ip }) => {
     const v = await versionInCampaign(kind, params.campaignId, params.versionId);
-    authorize(actor, 'calibration.approve', { teamId: v.teamId });
+    authorizeObject(actor, 'calibration.approve', { teamId: v.teamId, surface: kind });
     return approveVersion({ kind, versionId: params.versionId, actor, ip });
   });
 }

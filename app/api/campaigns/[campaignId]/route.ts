@@ -2,12 +2,12 @@
 // the caller may do on it.
 import { apiRoute } from '@/lib/api/route';
 import { getCampaignOverview, getCampaignTeamId, listCampaignTargets } from '@/lib/db/queries/scans';
-import { authorize } from '@/lib/policy';
+import { authorizeObject } from '@/lib/policy';
 import { campaignAbilities, campaignParams } from './access';
 
 export const GET = apiRoute({ params: campaignParams }, async ({ actor, params }) => {
   const teamId = await getCampaignTeamId({ campaignId: params.campaignId });
-  authorize(actor, 'campaign.view', { teamId, surface: 'campaign' });
+  authorizeObject(actor, 'campaign.view', { teamId, surface: 'campaign' });
   const [campaign, targets] = await Promise.all([
     getCampaignOverview({ campaignId: params.campaignId }),
     listCampaignTargets({ campaignId: params.campaignId }),

@@ -3,15 +3,15 @@ import { z } from 'zod';
 import { idParam } from '@/lib/api/route';
 import { getScanResult, getScanTeamId } from '@/lib/db/queries/scans';
 import { AppError } from '@/lib/errors';
-import { type Actor, authorize } from '@/lib/policy';
+import { type Action, type Actor, authorizeObject } from '@/lib/policy';
 
 export const scanParams = z.object({ scanId: idParam });
 export const resultQuery = z.object({ resultId: idParam.optional() });
 
-/** 404 for a missing scan, then the policy check for the owning team. */
-export async function scanFor(actor: Actor, scanId: number, action: Parameters<typeof authorize>[1]) {
+/** 404 for a missing scan or one of a team the actor may not see, then the policy check for the owning team. */
+export async function scanFor(actor: Actor, scanId: number, action: Action) {
   const teamId = await getScanTeamId({ scanId });
-  authorize(actor, action, { teamId, surface: 'scan' });
+  authorizeObject(actor, action, { teamId, surface: 'scan' });
   return teamId;
 }
 

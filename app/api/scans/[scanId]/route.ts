@@ -2,13 +2,13 @@
 // caller may do. A steward (metadata reader) gets the scan and file without results and jobs.
 import { apiRoute } from '@/lib/api/route';
 import { getScanDetail, getScanTeamId } from '@/lib/db/queries/scans';
-import { authorize, can } from '@/lib/policy';
+import { authorizeObject, can } from '@/lib/policy';
 import { scanParams } from './access';
 
 export const GET = apiRoute({ params: scanParams }, async ({ actor, params }) => {
   const teamId = await getScanTeamId({ scanId: params.scanId });
   const full = can(actor, 'scan.view', { teamId });
-  if (!full) authorize(actor, 'scan.metadata', { teamId, surface: 'scan' });
+  if (!full) authorizeObject(actor, 'scan.metadata', { teamId, surface: 'scan' });
   const detail = await getScanDetail({ scanId: params.scanId });
   const viewResults = can(actor, 'result.view', { teamId });
   return {

@@ -5,7 +5,7 @@
 import { z } from 'zod';
 import { apiRoute, idParam } from '@/lib/api/route';
 import { recordAudit } from '@/lib/audit';
-import { getCampaignOverview, createBatch, listBatches, listReducibleScanIds } from '@/lib/db/queries/scans';
+import { createBatch, getCampaignOverview, listBatches, listReducibleScanIds } from '@/lib/db/queries/scans';
 import { AppError } from '@/lib/errors';
 import { log } from '@/lib/log';
 import { enqueueReductionForScan } from '@/lib/queue/enqueue';

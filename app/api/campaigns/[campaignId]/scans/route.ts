@@ -3,14 +3,14 @@
 // (metadata reader) gets the same rows without them.
 import { apiRoute } from '@/lib/api/route';
 import { getCampaignTeamId, listCampaignScans } from '@/lib/db/queries/scans';
-import { authorize, can } from '@/lib/policy';
+import { authorizeObject, can } from '@/lib/policy';
 import { campaignParams } from '../access';
 import { scanListQuery } from './schema';
 
 export const GET = apiRoute({ params: campaignParams, query: scanListQuery }, async ({ actor, params, query }) => {
   const teamId = await getCampaignTeamId({ campaignId: params.campaignId });
   const full = can(actor, 'scan.view', { teamId });
-  if (!full) authorize(actor, 'scan.metadata', { teamId, surface: 'scan' });
+  if (!full) authorizeObject(actor, 'scan.metadata', { teamId, surface: 'campaign' });
   const { rows, total } = await listCampaignScans({
     campaignId: params.campaignId,
     page: query.page,

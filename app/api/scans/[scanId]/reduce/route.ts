@@ -3,8 +3,8 @@
 import { z } from 'zod';
 import { apiRoute, idParam } from '@/lib/api/route';
 import { recordAudit } from '@/lib/audit';
-import { enqueueReductionForScan } from '@/lib/queue/enqueue';
 import { AppError } from '@/lib/errors';
+import { enqueueReductionForScan } from '@/lib/queue/enqueue';
 import { scanFor, scanParams } from '../access';
 
 const body = z.object({ calibrationId: idParam.optional(), settingsId: idParam.optional() });

@@ -18,6 +18,9 @@ export const POST = apiRoute({ params: userIdParams, body: userStatusBody }, asy
   if (!body.isActive && user.facilityRoles.includes('admin') && (await countAdmins()) <= 1) {
     throw new AppError('conflict:user', { message: 'This is the last active administrator; add another one first.' });
   }
-  await setUserActiveAudited({ userId: user.id, isActive: body.isActive }, { userId: actor.userId, email: actor.email, ip });
+  await setUserActiveAudited(
+    { userId: user.id, isActive: body.isActive },
+    { userId: actor.userId, email: actor.email, ip },
+  );
   return { user: await getUserById({ userId: user.id }) };
 });
