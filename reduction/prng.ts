@@ -131,12 +131,8 @@ export class Xoshiro128 implements Prng {
       return x;
     }
     // PTRS (Hörmann 1993)
-    const slam = Math.sqrt(mean);
     const loglam = Math.log(mean);
-    const b = 0.931 + 2.53 * slam;
-    const a = -0.059 + 0.024_83 * b;
-    const invalpha = 1.1239 + 1.1328 / (b - 3.4);
-    const vr = 0.9277 - 3.6224 / (b - 2);
+    const { a, b, invalpha, vr } = ptrsConstants(mean);
     for (;;) {
       const u = this.uniform() - 0.5;
       const v = (this.nextUint32() + 1) * TWO_POW_M32;
@@ -153,6 +149,12 @@ export class Xoshiro128 implements Prng {
   state(): Uint32Array {
     return Uint32Array.of(this.s0 >>> 0, this.s1 >>> 0, this.s2 >>> 0, this.s3 >>> 0);
   }
+}
+
+/** The constants of Hörmann's PTRS sampler for a mean μ ≥ 10 (b, a, 1/α and v_r of the paper's step 0). */
+function ptrsConstants(mu: number): { a: number; b: number; invalpha: number; vr: number } {
+  const b = 0.931 + 2.53 * Math.sqrt(mu);
+  return { a: -0.059 + 0.024_83 * b, b, invalpha: 1.1239 + 1.1328 / (b - 3.4), vr: 0.9277 - 3.6224 / (b - 2) };
 }
 
 /**
@@ -228,12 +230,11 @@ export function createPoissonTable(means: ArrayLike<number>): PoissonTable {
       t.c1[i] = F;
       t.c2[i] = mode;
     } else {
-      const slam = Math.sqrt(mu);
-      const b = 0.931 + 2.53 * slam;
-      t.c0[i] = b;
-      t.c1[i] = -0.059 + 0.024_83 * b;
-      t.c2[i] = Math.log(1.1239 + 1.1328 / (b - 3.4));
-      t.c3[i] = 0.9277 - 3.6224 / (b - 2);
+      const c = ptrsConstants(mu);
+      t.c0[i] = c.b;
+      t.c1[i] = c.a;
+      t.c2[i] = Math.log(c.invalpha);
+      t.c3[i] = c.vr;
       t.c4[i] = Math.log(mu);
     }
   }

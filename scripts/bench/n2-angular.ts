@@ -2,7 +2,7 @@
  * N2 — angular-streaking reduction of a 1024×1024 image with 200 bootstrap resamples through createScanReducer
  * (PRODUCT.md N2, target < 2000 ms on 2 cores). Median of several runs; the frame is read once beforehand.
  */
-import { existsSync, readFileSync } from 'node:fs';
+import { existsSync } from 'node:fs';
 import path from 'node:path';
 import { parseSettings } from '@/reduction/formats';
 import { loadH5wasmNode } from '@/reduction/hdf5/node';
@@ -15,7 +15,15 @@ import { BENCH_DIR, median, row, timeRuns } from './common';
 const REPS = 5;
 const file = path.join(BENCH_DIR, 'n2-angular-1x1024x1024.h5');
 const rt = await loadH5wasmNode();
-const plan = planScan({ kind: 'angular_streaking', steps: 1, size: 1024, counts: 1e6, distort: true, background: 'single', seed: 2 });
+const plan = planScan({
+  kind: 'angular_streaking',
+  steps: 1,
+  size: 1024,
+  counts: 1e6,
+  distort: true,
+  background: 'single',
+  seed: 2,
+});
 if (!existsSync(file)) writeSynthScan(rt, file, plan);
 const opened = openScanFile(rt, file);
 if (!opened.ok) throw new Error(opened.problems.map((p) => p.message).join('\n'));
@@ -37,10 +45,13 @@ const runs = timeRuns(REPS, () => {
 });
 const cores = (await import('node:os')).availableParallelism();
 process.stdout.write(
-  [
+  `${[
     `N2 angular streaking, 1 × 1024×1024, 200 bootstrap resamples (${REPS} reps after a warm-up, medians)`,
-    row('createScanReducer + addStep + finish', median(runs), `(target < 2000 ms; min ${Math.min(...runs).toFixed(0)}, max ${Math.max(...runs).toFixed(0)})`),
+    row(
+      'createScanReducer + addStep + finish',
+      median(runs),
+      `(target < 2000 ms; min ${Math.min(...runs).toFixed(0)}, max ${Math.max(...runs).toFixed(0)})`,
+    ),
     `  result: offset ${offset.toFixed(2)} ± ${err.toFixed(2)}° (truth ${plan.steps[0]?.offset_deg}°), ${cores} cores available`,
-  ].join('\n') + '\n',
+  ].join('\n')}\n`,
 );
-void readFileSync;

@@ -29,14 +29,8 @@ if (process.env.LOBELINE_N5_CHILD !== '1') {
   });
   process.exit(r.status ?? 1);
 }
-// It also unwraps the CommonJS default export of next-auth's provider modules, which Next's bundler does itself.
 const hook = `export async function resolve(s, c, next) {
   if (s === 'server-only') return { url: 'data:text/javascript,export{}', shortCircuit: true };
-  if (s.startsWith('next-auth/providers/')) {
-    const real = await next(s, c);
-    const src = 'import m from ' + JSON.stringify(real.url) + '; export default (m && m.default) || m;';
-    return { url: 'data:text/javascript,' + encodeURIComponent(src), shortCircuit: true };
-  }
   return next(s, c);
 }`;
 register(`data:text/javascript,${encodeURIComponent(hook)}`);
