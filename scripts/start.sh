@@ -165,22 +165,14 @@ fi
 phase "web server and worker ready"
 APP_PID=''
 WORKER_PID=''
-stop_group() {
-  local pid=$1
-  [ -n "$pid" ] || return 0
-  kill -TERM -- "-$pid" 2>/dev/null || kill -TERM "$pid" 2>/dev/null || return 0
-  for _ in $(seq 1 100); do
-    kill -0 "$pid" 2>/dev/null || return 0
-    sleep 0.1
-  done
-  kill -KILL -- "-$pid" 2>/dev/null || true
-}
+# shellcheck source=scripts/process-group.sh
+source "$ROOT/scripts/process-group.sh"
 cleanup() {
   trap - INT TERM EXIT
   echo
   echo "Stopping the web server and the worker (the services keep running; \`npm stop\` stops them too)."
-  stop_group "$WORKER_PID"
-  stop_group "$APP_PID"
+  stop_group "$WORKER_PID" || true
+  stop_group "$APP_PID" || true
   rm -f "$RUN_DIR/app.pid" "$RUN_DIR/worker.pid"
 }
 trap 'cleanup; exit 130' INT TERM

@@ -3,6 +3,8 @@
 set -euo pipefail
 cd "$(dirname "$0")/.."
 RUN_DIR=.data/dev/run
+# shellcheck source=scripts/process-group.sh
+source scripts/process-group.sh
 
 stop_pidfile() {
   local name=$1 marker=$2 file="$RUN_DIR/$1.pid" pid
@@ -13,17 +15,11 @@ stop_pidfile() {
     return 0
   fi
   # start.sh runs each in its own process group (pid = group id): stop the whole group.
-  kill -TERM -- "-$pid" 2>/dev/null || kill -TERM "$pid" 2>/dev/null || true
-  for _ in $(seq 1 150); do
-    if ! kill -0 "$pid" 2>/dev/null; then
-      echo "$name: stopped (pid $pid)"
-      rm -f "$file"
-      return 0
-    fi
-    sleep 0.1
-  done
-  echo "$name: did not stop within 15 s; killing (pid $pid)"
-  kill -KILL -- "-$pid" 2>/dev/null || kill -KILL "$pid" 2>/dev/null || true
+  if stop_group "$pid" 150; then
+    echo "$name: stopped (pid $pid)"
+  else
+    echo "$name: did not stop within 15 s; killed (pid $pid)"
+  fi
   rm -f "$file"
 }
 

@@ -59,22 +59,14 @@ skip_phase() {
 
 APP_PID=''
 WORKER_PID=''
-stop_group() {
-  local pid=$1
-  [ -n "$pid" ] || return 0
-  kill -TERM -- "-$pid" 2>/dev/null || kill -TERM "$pid" 2>/dev/null || return 0
-  for _ in $(seq 1 100); do
-    kill -0 "$pid" 2>/dev/null || return 0
-    sleep 0.1
-  done
-  kill -KILL -- "-$pid" 2>/dev/null || true
-}
+# shellcheck source=scripts/process-group.sh
+source "$ROOT/scripts/process-group.sh"
 cleanup() {
   trap - EXIT INT TERM
   echo
   echo "==> cleanup: stopping the test app, worker and services"
-  stop_group "$WORKER_PID"
-  stop_group "$APP_PID"
+  stop_group "$WORKER_PID" || true
+  stop_group "$APP_PID" || true
   "$BIN/tsx" scripts/services.ts stop --instance test || true
   summary
 }
@@ -196,7 +188,7 @@ e2e() {
   return $rc
 }
 
-run_phase "lint (biome)" "$BIN/biome" lint .
+run_phase "lint + format (biome)" "$BIN/biome" check .
 run_phase "typecheck (tsc)" "$BIN/tsc" --noEmit -p tsconfig.json
 services_ok=0
 if run_phase "services --fresh" bash -c '"$0" scripts/services.ts start --instance test --fresh && "$0" scripts/services.ts wait --instance test' "$BIN/tsx"; then
