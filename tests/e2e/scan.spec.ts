@@ -32,12 +32,16 @@ async function asUser(browser: Browser, email: string) {
   return { context, page, request: page.request };
 }
 
-async function firstCampaignId(request: APIRequestContext): Promise<number> {
+/**
+ * The seeded campaign of that name (scripts/seed.ts gives it approved calibration and settings versions). Found by
+ * name, not position: other specs (auth.spec.ts) create campaigns without approved versions in the same database.
+ */
+async function seededCampaignId(request: APIRequestContext, name = 'He 800 nm elliptical'): Promise<number> {
   const res = await request.get('/api/campaigns');
   expect(res.ok()).toBeTruthy();
-  const body = (await res.json()) as { campaigns?: { id: number }[]; items?: { id: number }[] };
-  const id = (body.campaigns ?? body.items ?? [])[0]?.id;
-  expect(id).toBeDefined();
+  const body = (await res.json()) as { campaigns?: { id: number; name: string }[] };
+  const id = (body.campaigns ?? []).find((c) => c.name === name)?.id;
+  expect(id, `seeded campaign "${name}"`).toBeDefined();
   return id as number;
 }
 
@@ -93,7 +97,7 @@ test('an uploaded scan is reduced and its offsets agree with the generator truth
   const calibration = JSON.parse(readFileSync(file.replace(/\.h5$/, '.calibration.json'), 'utf8')) as unknown;
 
   await signIn(page, 'operator@harbor-point.example');
-  const campaignId = await firstCampaignId(page.request);
+  const campaignId = await seededCampaignId(page.request);
   await uploadOnNewShift(page, campaignId, [file]);
   const uploadedAt = Date.now();
   const scanId = await scanIdByFile(page.request, campaignId, name);
@@ -146,7 +150,7 @@ test('a two-colour phase scan shows its phase maps and a drawn region’s yield 
     '5',
   ]);
   await signIn(page, 'operator@harbor-point.example');
-  const campaignId = await firstCampaignId(page.request);
+  const campaignId = await seededCampaignId(page.request);
   await uploadOnNewShift(page, campaignId, [file]);
   const scanId = await scanIdByFile(page.request, campaignId, name);
   await page.goto(`/scans/${scanId}`);
