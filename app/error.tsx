@@ -17,7 +17,10 @@ export default function ErrorPage({ error, reset }: { error: Error & { digest?: 
       </p>
       <div className="mt-6 flex justify-center gap-3">
         <Button onClick={reset}>Try again</Button>
-        <a href="/" className="inline-flex h-10 items-center rounded-md px-4 text-body font-medium text-ink-700 hover:bg-ink-100">
+        <a
+          href="/"
+          className="inline-flex h-10 items-center rounded-md px-4 text-body font-medium text-ink-700 hover:bg-ink-100"
+        >
           Go to the overview
         </a>
       </div>

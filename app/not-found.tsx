@@ -3,7 +3,10 @@ import { LogoMark } from '@/components/shell/logo';
 
 export default function NotFound() {
   return (
-    <div className="mx-auto flex min-h-[60vh] max-w-lg flex-col items-center justify-center px-4 text-center" data-testid="not-found">
+    <div
+      className="mx-auto flex min-h-[60vh] max-w-lg flex-col items-center justify-center px-4 text-center"
+      data-testid="not-found"
+    >
       <LogoMark className="size-10" />
       <h1 className="mt-4 text-title font-semibold text-ink-900">Nothing at this address</h1>
       <p className="mt-2 text-body text-ink-600">

@@ -11,8 +11,7 @@ function makeQueryClient(): QueryClient {
         staleTime: 15_000,
         refetchOnWindowFocus: false,
         // Refusals and bad requests do not get better by asking again.
-        retry: (count, error) =>
-          !(error instanceof ApiError && error.status >= 400 && error.status < 500) && count < 2,
+        retry: (count, error) => !(error instanceof ApiError && error.status >= 400 && error.status < 500) && count < 2,
       },
     },
   });

@@ -3,7 +3,15 @@
  * migrations/ are the only way the schema changes, so nothing here is ever synced.
  */
 import type { Sequelize } from 'sequelize';
-import { FacilityRoleGrant, initAccountModels, Invitation, Membership, PasswordResetToken, Team, User } from './accounts';
+import {
+  FacilityRoleGrant,
+  Invitation,
+  initAccountModels,
+  Membership,
+  PasswordResetToken,
+  Team,
+  User,
+} from './accounts';
 import { AuditEvent, DeletionRequest, FixityCheck, initAuditModels, SavedComparison } from './audit';
 import { Campaign, initCampaignModels, Shift, ShiftLogEntry } from './campaigns';
 import { initFileModels, RawFile, Scan, Upload } from './files';

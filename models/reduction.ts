@@ -6,7 +6,7 @@ import {
   Model,
   type Sequelize,
 } from 'sequelize';
-import type { AnalysisSettings, DetectorCalibration, LobeResult, LobelineResult } from '../reduction/formats';
+import type { AnalysisSettings, DetectorCalibration, LobelineResult, LobeResult } from '../reduction/formats';
 import { fk, modelOptions, pk, stampColumns } from './columns';
 
 export const VERSION_STATUSES = ['draft', 'approved', 'retired'] as const;

@@ -10,7 +10,7 @@
  */
 import type { PolarGrid } from './grids';
 import { findLobeCandidates } from './lobes';
-import { fitAngularPeak, fitRadialPeak, type PeakModel, PeakFitWorkspace } from './peak-fit';
+import { fitAngularPeak, fitRadialPeak, PeakFitWorkspace, type PeakModel } from './peak-fit';
 import { circularConvolveKernel, gaussianKernel } from './smoothing';
 import {
   angularDistributionKernel,

@@ -12,7 +12,13 @@ import { parseArgs } from 'node:util';
 import { EXPERIMENT_KINDS, type ExperimentKind } from '@/reduction/formats';
 import { loadH5wasmNode } from '@/reduction/hdf5/node';
 import { type BackgroundLayout, planScan, type SynthOptions } from '@/reduction/synth/model';
-import { BROKEN_KINDS, type BrokenKind, breakBytes, type SynthTruth, writeSynthScan } from '@/reduction/synth/scan-file';
+import {
+  BROKEN_KINDS,
+  type BrokenKind,
+  breakBytes,
+  type SynthTruth,
+  writeSynthScan,
+} from '@/reduction/synth/scan-file';
 
 const USAGE = `usage: npm run make-example -- --kind ${EXPERIMENT_KINDS.join('|')} --out FILE.h5
   [--target He] [--wavelength 800] [--ellipticity 0.87] [--helicity=1|--helicity=-1] [--steps 5] [--size 512]

@@ -92,7 +92,15 @@ export function formatResultTable(r: LobelineResult, fileName: string): string {
   lines.push(
     `${i.experiment_kind}, ${i.target}, ${i.wavelength_nm} nm${ell}${hel}${ratio}; counts ${i.shape.join('×')}; sha256 ${i.sha256 ?? '—'}`,
   );
-  const head = ['step', `${i.step_quantity} (${i.step_units})`, 'counts', 'offset (deg)', 'radius (a.u.)', 'I from radius (W/cm^2)', 'lobes (deg)'];
+  const head = [
+    'step',
+    `${i.step_quantity} (${i.step_units})`,
+    'counts',
+    'offset (deg)',
+    'radius (a.u.)',
+    'I from radius (W/cm^2)',
+    'lobes (deg)',
+  ];
   const rows = r.steps.map((s) => [
     String(s.index),
     Math.abs(s.value) >= 1e4 ? s.value.toExponential(3) : String(Number(s.value.toPrecision(6))),
@@ -103,7 +111,11 @@ export function formatResultTable(r: LobelineResult, fileName: string): string {
     s.lobes.map((l) => fmt(l.angle_deg, 1)).join(', ') || '—',
   ]);
   const widths = head.map((h, c) => Math.max(h.length, ...rows.map((row) => (row[c] ?? '').length)));
-  const line = (cells: string[]) => cells.map((cell, c) => cell.padEnd(widths[c] ?? 0)).join('  ').trimEnd();
+  const line = (cells: string[]) =>
+    cells
+      .map((cell, c) => cell.padEnd(widths[c] ?? 0))
+      .join('  ')
+      .trimEnd();
   lines.push('', line(head), line(widths.map((w) => '-'.repeat(w))), ...rows.map(line));
   if (r.phase !== null) {
     lines.push('', `phase analysis: ${r.phase.method}, ${r.phase.n_phases} phases over ${r.phase.periods} period(s)`);
@@ -130,16 +142,18 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
   let writer: ResultFileWriter | null = null;
   let partial: string | null = null;
   try {
-    let parsed: ReturnType<typeof parseArgs<{
-      options: {
-        calibration: { type: 'string' };
-        settings: { type: 'string' };
-        json: { type: 'boolean' };
-        out: { type: 'string' };
-        help: { type: 'boolean' };
-      };
-      allowPositionals: true;
-    }>>;
+    let parsed: ReturnType<
+      typeof parseArgs<{
+        options: {
+          calibration: { type: 'string' };
+          settings: { type: 'string' };
+          json: { type: 'boolean' };
+          out: { type: 'string' };
+          help: { type: 'boolean' };
+        };
+        allowPositionals: true;
+      }>
+    >;
     try {
       parsed = parseArgs({
         args: argv,
@@ -161,7 +175,8 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
       io.stdout(`${USAGE}\n`);
       return 0;
     }
-    if (positionals.length !== 1) throw new Refused([positionals.length === 0 ? 'no scan file given' : 'give exactly one scan file', USAGE]);
+    if (positionals.length !== 1)
+      throw new Refused([positionals.length === 0 ? 'no scan file given' : 'give exactly one scan file', USAGE]);
     const file = path.resolve(positionals[0] as string);
     if (!existsSync(file) || !statSync(file).isFile()) throw new Refused([`${positionals[0]}: no such file`]);
 

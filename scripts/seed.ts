@@ -366,14 +366,14 @@ async function main(): Promise<number> {
 // Run only as a script (importing this file for DEMO_USERS must not seed).
 if (process.argv[1] && import.meta.url === pathToFileURL(path.resolve(process.argv[1])).href) {
   main()
-  .then(async (code) => {
-    await closeSequelize();
-    process.exit(code);
-  })
-  .catch(async (err: unknown) => {
-    if (err instanceof EnvError) console.error(err.message);
-    else console.error(`Seeding failed: ${(err as Error)?.message ?? String(err)}`);
-    await closeSequelize().catch(() => undefined);
-    process.exit(1);
-  });
+    .then(async (code) => {
+      await closeSequelize();
+      process.exit(code);
+    })
+    .catch(async (err: unknown) => {
+      if (err instanceof EnvError) console.error(err.message);
+      else console.error(`Seeding failed: ${(err as Error)?.message ?? String(err)}`);
+      await closeSequelize().catch(() => undefined);
+      process.exit(1);
+    });
 }

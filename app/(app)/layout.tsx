@@ -19,7 +19,9 @@ export default async function AppLayout({ children }: { children: ReactNode }) {
       <footer className="border-t border-ink-200 bg-white">
         <div className="mx-auto flex max-w-7xl flex-wrap items-center justify-between gap-2 px-4 py-3 text-micro text-ink-500 sm:px-6">
           <span>Lobeline · Harbor Point Ultrafast Lab</span>
-          <span>Lobeline controls no hardware. Lasers, high voltage and vacuum follow your lab&apos;s safety rules.</span>
+          <span>
+            Lobeline controls no hardware. Lasers, high voltage and vacuum follow your lab&apos;s safety rules.
+          </span>
         </div>
       </footer>
     </div>

@@ -6,7 +6,10 @@ export default function AuthLayout({ children }: { children: ReactNode }) {
   return (
     <div className="flex min-h-screen flex-col bg-ink-950">
       <div className="pointer-events-none fixed inset-0 overflow-hidden" aria-hidden="true">
-        <svg className="absolute -top-40 left-1/2 h-[46rem] w-[46rem] -translate-x-1/2 opacity-[0.18]" viewBox="0 0 100 100">
+        <svg
+          className="absolute -top-40 left-1/2 h-[46rem] w-[46rem] -translate-x-1/2 opacity-[0.18]"
+          viewBox="0 0 100 100"
+        >
           <title>Lobeline backdrop</title>
           <g transform="rotate(-28 50 50)">
             <ellipse cx="33" cy="50" rx="24" ry="13" fill="none" stroke="#33bbac" strokeWidth="0.35" />

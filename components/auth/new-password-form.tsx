@@ -55,7 +55,11 @@ export function NewPasswordForm({
 
   return (
     <form onSubmit={onSubmit} noValidate className="space-y-5">
-      {error ? <FormMessage tone="error" testId="form-error">{error}</FormMessage> : null}
+      {error ? (
+        <FormMessage tone="error" testId="form-error">
+          {error}
+        </FormMessage>
+      ) : null}
       {email ? (
         <div>
           <p className="text-small font-medium text-ink-800">Account</p>

@@ -38,11 +38,22 @@ export function ResetRequestForm() {
           Enter the e-mail address of your account and we will send you a link to set a new password.
         </p>
       </div>
-      {done ? <FormMessage tone="ok" testId="reset-requested">{done}</FormMessage> : null}
+      {done ? (
+        <FormMessage tone="ok" testId="reset-requested">
+          {done}
+        </FormMessage>
+      ) : null}
       {error ? <FormMessage tone="error">{error}</FormMessage> : null}
       {!done ? (
         <>
-          <Field label="E-mail address" name="email" type="email" autoComplete="username" required error={fields.email} />
+          <Field
+            label="E-mail address"
+            name="email"
+            type="email"
+            autoComplete="username"
+            required
+            error={fields.email}
+          />
           <Button type="submit" className="w-full" isLoading={pending}>
             Send the link
           </Button>

@@ -22,7 +22,7 @@ function messageFor(code: string | null | undefined): string | null {
 
 /** Only same-site paths are followed after signing in. */
 function safeNext(next: string | null | undefined): string {
-  return next && next.startsWith('/') && !next.startsWith('//') && !next.startsWith('/sign-in') ? next : '/';
+  return next?.startsWith('/') && !next.startsWith('//') && !next.startsWith('/sign-in') ? next : '/';
 }
 
 export function SignInForm({
@@ -73,7 +73,11 @@ export function SignInForm({
         <p className="mt-1 text-small text-ink-500">Use the e-mail address your lab registered for you.</p>
       </div>
       {notice ? (
-        <p className="rounded-md bg-lobe-50 px-3 py-2 text-small text-lobe-800" role="status" data-testid="sign-in-notice">
+        <p
+          className="rounded-md bg-lobe-50 px-3 py-2 text-small text-lobe-800"
+          role="status"
+          data-testid="sign-in-notice"
+        >
           {notice}
         </p>
       ) : null}

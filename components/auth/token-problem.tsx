@@ -1,7 +1,15 @@
 import Link from 'next/link';
 
 /** The page shown for an expired, used, withdrawn or unknown link. */
-export function TokenProblem({ title, message, showResetLink }: { title: string; message: string; showResetLink?: boolean }) {
+export function TokenProblem({
+  title,
+  message,
+  showResetLink,
+}: {
+  title: string;
+  message: string;
+  showResetLink?: boolean;
+}) {
   return (
     <div className="space-y-4" data-testid="token-problem">
       <h1 className="text-title font-semibold text-ink-900">{title}</h1>

@@ -8,10 +8,10 @@ import { BatchesPanel } from '@/components/campaign/batches-panel';
 import type { CampaignResponse } from '@/components/campaign/types';
 import { formatNumber } from '@/components/plots/scales';
 import { formatDate } from '@/components/scans/format';
-import { parseCalibration, parseSettings } from '@/reduction/formats';
 import { Badge, Button, EmptyState, ErrorState, LoadingBlock, PageHeader, Panel } from '@/components/ui';
 import { apiFetch } from '@/lib/api/client';
 import type { VersionDto, VersionKind } from '@/lib/db/queries/calibrations';
+import { parseCalibration, parseSettings } from '@/reduction/formats';
 import { VersionEditor } from './version-editor';
 
 function summary(kind: VersionKind, body: unknown): string {

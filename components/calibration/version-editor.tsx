@@ -5,7 +5,7 @@ import { useMutation, useQueryClient } from '@tanstack/react-query';
 import { type ReactNode, useState } from 'react';
 import { Button } from '@/components/ui';
 import { inputClass } from '@/components/ui/input-class';
-import { apiFetch, type ApiError } from '@/lib/api/client';
+import { type ApiError, apiFetch } from '@/lib/api/client';
 import type { VersionDto, VersionKind } from '@/lib/db/queries/calibrations';
 import { parseCalibration, parseSettings } from '@/reduction/formats';
 import { calibrationToForm, type FormState, formToCalibration, formToSettings, settingsToForm } from './version-forms';

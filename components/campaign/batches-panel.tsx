@@ -1,9 +1,9 @@
 'use client';
 // Re-reducing the whole campaign with the current approved versions, and the progress of recent batches.
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
+import { formatDate } from '@/components/scans/format';
 import { Button, ErrorState } from '@/components/ui';
 import { apiFetch } from '@/lib/api/client';
-import { formatDate } from '@/components/scans/format';
 import type { BatchDto } from './types';
 
 export function BatchesPanel({

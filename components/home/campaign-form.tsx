@@ -54,7 +54,14 @@ export function CampaignForm({ teamId, teamName }: { teamId: number; teamName: s
       <p className="text-small text-ink-600">
         The campaign belongs to <strong className="font-semibold text-ink-800">{teamName}</strong>.
       </p>
-      <Field label="Name" name="name" required maxLength={160} placeholder="e.g. Ar 800 nm elliptical, spring run" error={fields.name} />
+      <Field
+        label="Name"
+        name="name"
+        required
+        maxLength={160}
+        placeholder="e.g. Ar 800 nm elliptical, spring run"
+        error={fields.name}
+      />
       <div className="grid gap-5 sm:grid-cols-2">
         <Field
           label="Target"

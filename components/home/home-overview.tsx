@@ -138,8 +138,21 @@ export function HomeOverview() {
 
 type CampaignsQuery = ReturnType<typeof useQuery<CampaignsResponse>>;
 
-function CampaignTable({ query, showTeam, emptyHint }: { query: CampaignsQuery; showTeam: boolean; emptyHint: string }) {
-  if (query.isPending) return <div className="px-5 py-4"><LoadingBlock label="Loading campaigns…" /></div>;
+function CampaignTable({
+  query,
+  showTeam,
+  emptyHint,
+}: {
+  query: CampaignsQuery;
+  showTeam: boolean;
+  emptyHint: string;
+}) {
+  if (query.isPending)
+    return (
+      <div className="px-5 py-4">
+        <LoadingBlock label="Loading campaigns…" />
+      </div>
+    );
   if (query.isError) {
     return (
       <div className="px-5 py-4">
@@ -161,20 +174,39 @@ function CampaignTable({ query, showTeam, emptyHint }: { query: CampaignsQuery; 
       <table className="min-w-full text-small" data-testid="campaign-table">
         <thead className="bg-ink-50">
           <tr>
-            <th scope="col" className={th}>Campaign</th>
-            {showTeam ? <th scope="col" className={th}>Team</th> : null}
-            <th scope="col" className={th}>Target</th>
-            <th scope="col" className={th}>Wavelength</th>
-            <th scope="col" className={th}>Kind</th>
-            <th scope="col" className={`${th} text-right`}>Shifts</th>
-            <th scope="col" className={`${th} text-right`}>Scans</th>
+            <th scope="col" className={th}>
+              Campaign
+            </th>
+            {showTeam ? (
+              <th scope="col" className={th}>
+                Team
+              </th>
+            ) : null}
+            <th scope="col" className={th}>
+              Target
+            </th>
+            <th scope="col" className={th}>
+              Wavelength
+            </th>
+            <th scope="col" className={th}>
+              Kind
+            </th>
+            <th scope="col" className={`${th} text-right`}>
+              Shifts
+            </th>
+            <th scope="col" className={`${th} text-right`}>
+              Scans
+            </th>
           </tr>
         </thead>
         <tbody className="divide-y divide-ink-100">
           {rows.map((c) => (
             <tr key={c.id} className="hover:bg-ink-50/60">
               <td className="px-4 py-2.5">
-                <Link href={`/campaigns/${c.id}`} className="font-medium text-ink-900 hover:text-lobe-700 hover:underline">
+                <Link
+                  href={`/campaigns/${c.id}`}
+                  className="font-medium text-ink-900 hover:text-lobe-700 hover:underline"
+                >
                   {c.name}
                 </Link>
                 {c.status === 'closed' ? <Badge className="ml-2">closed</Badge> : null}
@@ -183,9 +215,11 @@ function CampaignTable({ query, showTeam, emptyHint }: { query: CampaignsQuery; 
               <td className="px-4 py-2.5 font-medium text-ink-800">{c.target}</td>
               <td className="px-4 py-2.5 text-ink-700 tabular-nums">{formatWavelength(c.wavelengthNm)}</td>
               <td className="px-4 py-2.5 text-ink-700">{KIND_LABEL[c.experimentKind]}</td>
-              <td className="px-4 py-2.5 text-right text-ink-700 tabular-nums">
+              <td className="px-4 py-2.5 text-right whitespace-nowrap text-ink-700 tabular-nums">
                 {c.shiftCount}
-                {c.openShiftCount ? <span className="ml-1 text-micro text-flare-700">({c.openShiftCount} open)</span> : null}
+                {c.openShiftCount ? (
+                  <span className="ml-1 text-micro text-flare-700">({c.openShiftCount} open)</span>
+                ) : null}
               </td>
               <td className="px-4 py-2.5 text-right text-ink-700 tabular-nums">{c.scanCount}</td>
             </tr>

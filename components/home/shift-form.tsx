@@ -13,7 +13,13 @@ export interface CampaignChoice {
   label: string;
 }
 
-export function ShiftForm({ campaigns, defaultCampaignId }: { campaigns: CampaignChoice[]; defaultCampaignId?: number }) {
+export function ShiftForm({
+  campaigns,
+  defaultCampaignId,
+}: {
+  campaigns: CampaignChoice[];
+  defaultCampaignId?: number;
+}) {
   const router = useRouter();
   const queryClient = useQueryClient();
   const [pending, setPending] = useState(false);

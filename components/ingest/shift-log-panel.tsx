@@ -1,7 +1,7 @@
 'use client';
 
 import { useState } from 'react';
-import { Button, Field, Panel, inputClass } from '@/components/ui';
+import { Button, Field, inputClass, Panel } from '@/components/ui';
 import { ApiError, apiFetch } from '@/lib/api/client';
 import type { LogEntryDto } from '@/lib/ingest/types';
 import { formatTime } from './format';

@@ -1,7 +1,7 @@
 'use client';
 
 import { useRef, useState } from 'react';
-import { Badge, Button, EmptyState, Panel, inputClass } from '@/components/ui';
+import { Badge, Button, EmptyState, inputClass, Panel } from '@/components/ui';
 import { ApiError, apiFetch } from '@/lib/api/client';
 import { metadataOverrideSchema } from '@/lib/ingest/schemas';
 import type { ShiftFileDto } from '@/lib/ingest/types';

@@ -13,13 +13,15 @@ export function navItemsFor(actor: Actor, currentTeamId: number | null): NavItem
   const scope = { teamId: currentTeamId };
   const items: NavItem[] = [{ href: '/', label: 'Overview' }];
   if (currentTeamId && can(actor, 'shift.open', scope)) items.push({ href: '/shifts/new', label: 'Open a shift' });
-  if (currentTeamId && can(actor, 'campaign.create', scope)) items.push({ href: '/campaigns/new', label: 'New campaign' });
+  if (currentTeamId && can(actor, 'campaign.create', scope))
+    items.push({ href: '/campaigns/new', label: 'New campaign' });
   if (can(actor, 'audit.view') || can(actor, 'audit.view.all') || can(actor, 'admin.audit')) {
     items.push({ href: '/admin/audit', label: 'Audit trail' });
   }
   if (can(actor, 'admin.users')) items.push({ href: '/admin/users', label: 'Users' });
   if (can(actor, 'admin.teams')) items.push({ href: '/admin/teams', label: 'Teams' });
-  if (can(actor, 'admin.mailbox') && process.env.MAIL_CATCHER_DIR) items.push({ href: '/admin/mailbox', label: 'Mailbox' });
+  if (can(actor, 'admin.mailbox') && process.env.MAIL_CATCHER_DIR)
+    items.push({ href: '/admin/mailbox', label: 'Mailbox' });
   return items;
 }
 
@@ -37,7 +39,11 @@ export function AppHeader({ actor, currentTeamId }: { actor: Actor; currentTeamI
   return (
     <header className="sticky top-0 z-20 border-b border-ink-200 bg-white/95 backdrop-blur">
       <div className="mx-auto flex h-14 max-w-7xl items-center gap-4 px-4 sm:px-6">
-        <Link href="/" className="shrink-0 rounded-md focus-visible:outline-2 focus-visible:outline-lobe-500" aria-label="Lobeline overview">
+        <Link
+          href="/"
+          className="shrink-0 rounded-md focus-visible:outline-2 focus-visible:outline-lobe-500"
+          aria-label="Lobeline overview"
+        >
           <Wordmark />
         </Link>
         <div className="hidden h-6 w-px bg-ink-200 md:block" aria-hidden="true" />

@@ -15,7 +15,8 @@ export function NavLinks({ items }: { items: NavItem[] }) {
   return (
     <nav aria-label="Main" className="flex items-center gap-1 overflow-x-auto">
       {items.map((item) => {
-        const active = item.href === '/' ? pathname === '/' : pathname === item.href || pathname.startsWith(`${item.href}/`);
+        const active =
+          item.href === '/' ? pathname === '/' : pathname === item.href || pathname.startsWith(`${item.href}/`);
         return (
           <Link
             key={item.href}

@@ -33,8 +33,11 @@ export function TeamSwitcher({ teams, currentTeamId }: { teams: TeamOption[]; cu
 
   return (
     <div className="flex items-center gap-2">
-      <label htmlFor="team-switcher" className="sr-only">
-        Current team
+      <label
+        htmlFor="team-switcher"
+        className="hidden text-micro font-semibold tracking-wide text-ink-500 uppercase lg:block"
+      >
+        Team
       </label>
       <select
         id="team-switcher"
@@ -42,7 +45,7 @@ export function TeamSwitcher({ teams, currentTeamId }: { teams: TeamOption[]; cu
         value={currentTeamId ?? ''}
         disabled={pending}
         onChange={(e) => choose(Number(e.target.value))}
-        className="h-8 max-w-[16rem] rounded-md bg-white py-0 pr-8 pl-2.5 text-small font-medium text-ink-800 ring-1 ring-ink-200 ring-inset focus:ring-2 focus:ring-lobe-500 focus:outline-none"
+        className="h-8 max-w-[20rem] rounded-md bg-white py-0 pr-8 pl-2.5 text-small font-medium text-ink-800 ring-1 ring-ink-200 ring-inset focus:ring-2 focus:ring-lobe-500 focus:outline-none"
       >
         {teams.map((t) => (
           <option key={t.teamId} value={t.teamId}>

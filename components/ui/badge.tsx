@@ -11,7 +11,15 @@ const TONES: Record<BadgeTone, string> = {
   info: 'bg-ink-50 text-ink-800 ring-ink-300',
 };
 
-export function Badge({ tone = 'neutral', children, className }: { tone?: BadgeTone; children: ReactNode; className?: string }) {
+export function Badge({
+  tone = 'neutral',
+  children,
+  className,
+}: {
+  tone?: BadgeTone;
+  children: ReactNode;
+  className?: string;
+}) {
   return (
     <span
       className={cx(

@@ -130,7 +130,9 @@ export function DataTable<Row>({
         </table>
       </div>
       {isLoading && rows.length === 0 ? <LoadingBlock lines={4} /> : null}
-      {!isLoading && rows.length === 0 ? <div className="p-4">{empty ?? <EmptyState title="Nothing here yet" />}</div> : null}
+      {!isLoading && rows.length === 0 ? (
+        <div className="p-4">{empty ?? <EmptyState title="Nothing here yet" />}</div>
+      ) : null}
       {onPageChange && pageSize && total !== undefined && total > 0 ? (
         <nav aria-label="Pages" className="flex items-center justify-between gap-3 px-3 py-2.5 text-small text-ink-600">
           <span>

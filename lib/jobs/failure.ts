@@ -1,8 +1,9 @@
 // Why a reduction failed, in words a physicist understands, and whether trying again could help.
 // Problems of the file or of the chosen versions are permanent (no retry); problems of the services (S3, MariaDB,
 // Redis) are transient and retried with back-off.
-import { ScanFileRefusedError, ScanReadError } from '@/reduction/hdf5/problems';
+
 import { isAppError } from '@/lib/errors';
+import { ScanFileRefusedError, ScanReadError } from '@/reduction/hdf5/problems';
 
 /** A failure that another attempt cannot fix; the message is shown to users as it is. */
 export class ReductionRefusedError extends Error {

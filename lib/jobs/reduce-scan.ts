@@ -26,9 +26,9 @@ import {
   ScanResultStep,
   Team,
 } from '@/models';
+import { type LobelineResult, SOFTWARE_VERSION } from '@/reduction/formats';
 import { openScanPath } from '@/reduction/hdf5/node';
 import { ScanFileRefusedError } from '@/reduction/hdf5/problems';
-import { SOFTWARE_VERSION, type LobelineResult } from '@/reduction/formats';
 import { runReduction } from './engine';
 import { explainFailure, ReductionRefusedError } from './failure';
 import { notifyReductionFailure } from './notify';

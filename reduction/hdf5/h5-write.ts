@@ -14,7 +14,12 @@ export type NumericDtype = '<f' | '<d' | '<H' | '<B' | '<I' | '<h' | '<i';
 // FUNCTIONS //
 
 /** Creates a child group and sets its `NX_class` (and other string attributes). */
-export function createNxGroup(parent: Group, name: string, nxClass: string | null, attrs: Record<string, string> = {}): Group {
+export function createNxGroup(
+  parent: Group,
+  name: string,
+  nxClass: string | null,
+  attrs: Record<string, string> = {},
+): Group {
   const g = parent.create_group(name);
   if (nxClass !== null) g.create_attribute('NX_class', nxClass);
   for (const [k, v] of Object.entries(attrs)) g.create_attribute(k, v);
@@ -41,7 +46,12 @@ export function writeScalar(
 }
 
 /** Writes a 1-D float64 dataset with an optional `units` attribute. */
-export function writeVector(parent: Group, name: string, values: ArrayLike<number>, units: string | null = null): Dataset {
+export function writeVector(
+  parent: Group,
+  name: string,
+  values: ArrayLike<number>,
+  units: string | null = null,
+): Dataset {
   const d = parent.create_dataset({ name, data: Float64Array.from(values), dtype: '<d' });
   if (units !== null) d.create_attribute('units', units);
   return d;
@@ -85,7 +95,7 @@ export function frameForDtype(frame: Float64Array, dtype: NumericDtype): Float32
     const out = new Uint16Array(frame.length);
     for (let i = 0; i < frame.length; i++) {
       const v = Math.round(frame[i] as number);
-      out[i] = v < 0 ? 0 : v > 65535 ? 65535 : v;
+      out[i] = v < 0 ? 0 : Math.min(v, 65535);
     }
     return out;
   }

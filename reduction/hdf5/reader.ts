@@ -16,9 +16,9 @@ import {
   type ExperimentKind,
   INTENSITY_CONVENTIONS,
   SCAN_LIMITS,
+  type ScanMetadata,
   STEP_QUANTITIES,
   STEP_UNITS,
-  type ScanMetadata,
   type StepQuantity,
 } from '../formats';
 import { problem, ScanFileRefusedError, type ScanProblem, ScanReadError } from './problems';
@@ -775,7 +775,10 @@ function validate(
       )
     : null;
   if (ellipticity !== null && !(ellipticity >= 0 && ellipticity <= 1)) {
-    c.fail(`${SOURCE}/ellipticity`, `must be in [0, 1] (ε = F_minor/F_major; the sign goes in helicity), found ${ellipticity}`);
+    c.fail(
+      `${SOURCE}/ellipticity`,
+      `must be in [0, 1] (ε = F_minor/F_major; the sign goes in helicity), found ${ellipticity}`,
+    );
   }
   const needHel = kind === 'angular_streaking' || kind === 'bicircular';
   const helRaw = src
@@ -916,7 +919,7 @@ function validate(
       shots = shotsD
         ? c.vector(`${DATA}/shots`, shotsD, shape.nStep, 'laser shots per step', !is3d)
         : new Array<number>(shape.nStep).fill(1);
-      if (shots !== null && shots.some((s) => !(s > 0))) {
+      if (shots?.some((s) => !(s > 0))) {
         c.fail(`${DATA}/shots`, 'shots must be > 0');
         shots = null;
       }
@@ -966,7 +969,7 @@ function validate(
             const bs = c.dataset(bsPath, null, 'shots behind the background');
             let bShots: number[] | null = new Array<number>(nFrames).fill(1);
             if (bs !== null) bShots = c.vector(bsPath, bs, nFrames, 'shots behind the background', true);
-            if (bShots !== null && bShots.some((s) => !(s > 0))) {
+            if (bShots?.some((s) => !(s > 0))) {
               c.fail(bsPath, 'shots must be > 0');
               bShots = null;
             }

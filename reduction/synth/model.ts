@@ -112,7 +112,11 @@ export interface ScanPlan {
   steps: TruthStep[];
   phase: PhaseTruth | null;
   /** Dark counts per pixel per shot, and the detector's warm spot. */
-  detectorBackground: { darkPerShot: number; gradientPerShot: number; spot: { x: number; y: number; sigma: number; peakPerShot: number } };
+  detectorBackground: {
+    darkPerShot: number;
+    gradientPerShot: number;
+    spot: { x: number; y: number; sigma: number; peakPerShot: number };
+  };
 }
 
 // VARIABLES //
@@ -220,14 +224,20 @@ function linspace(a: number, b: number, n: number): number[] {
 export function planScan(partial: Partial<SynthOptions>): ScanPlan {
   const o: SynthOptions = { ...DEFAULT_SYNTH_OPTIONS, ...partial };
   if (o.kind === 'image') o.steps = 1;
-  if (!(Number.isInteger(o.steps) && o.steps >= 1 && o.steps <= 4096)) throw new RangeError(`steps must be 1…4096, got ${o.steps}`);
-  if (!(Number.isInteger(o.size) && o.size >= 32 && o.size <= 8192)) throw new RangeError(`size must be 32…8192, got ${o.size}`);
+  if (!(Number.isInteger(o.steps) && o.steps >= 1 && o.steps <= 4096))
+    throw new RangeError(`steps must be 1…4096, got ${o.steps}`);
+  if (!(Number.isInteger(o.size) && o.size >= 32 && o.size <= 8192))
+    throw new RangeError(`size must be 32…8192, got ${o.size}`);
   if (!(o.counts > 0)) throw new RangeError(`counts must be > 0, got ${o.counts}`);
   const calibration = synthCalibration(o);
   const n = o.steps;
   const shots = Array.from({ length: n }, (_, k) => 1000 + 100 * k);
   const backgroundShots =
-    o.background === 'single' ? [4000] : o.background === 'per_step' ? Array.from({ length: n }, (_, k) => 500 + 50 * k) : [];
+    o.background === 'single'
+      ? [4000]
+      : o.background === 'per_step'
+        ? Array.from({ length: n }, (_, k) => 500 + 50 * k)
+        : [];
   let stepQuantity: StepQuantity;
   let stepValues: number[];
   let phase: PhaseTruth | null = null;
@@ -236,7 +246,9 @@ export function planScan(partial: Partial<SynthOptions>): ScanPlan {
   let kappa = 1 / (15 * (Math.PI / 180)) ** 2; // σ_θ ≈ 15°
   if (o.kind === 'two_color_phase') {
     if (!(Number.isInteger(o.periods) && o.periods >= 1 && n >= 3 * o.periods)) {
-      throw new RangeError(`two_color_phase needs whole periods (≥ 1) and ≥ 3 steps per period, got ${n} steps over ${o.periods}`);
+      throw new RangeError(
+        `two_color_phase needs whole periods (≥ 1) and ≥ 3 steps per period, got ${n} steps over ${o.periods}`,
+      );
     }
     stepQuantity = 'relative_phase';
     const start = 0.25;

@@ -72,14 +72,20 @@ function poissonFrame(expected: Float64Array, rng: ReturnType<typeof createPrng>
  *
  * @param broken - optional broken variant (file-level kinds not_hdf5/truncated are applied by the caller on bytes)
  */
-export function writeSynthScan(rt: H5Runtime, path: string, plan: ScanPlan, broken: BrokenKind | null = null): SynthTruth {
+export function writeSynthScan(
+  rt: H5Runtime,
+  path: string,
+  plan: ScanPlan,
+  broken: BrokenKind | null = null,
+): SynthTruth {
   const o = plan.options;
   const n = o.size;
   const nStep = plan.steps.length;
   const is3d = o.kind !== 'image';
   const frameKinds: BrokenKind[] = ['nan_counts', 'negative_counts'];
   const dtype: NumericDtype = frameKinds.includes(broken as BrokenKind) || o.dtype === 'float32' ? '<f' : '<H';
-  const brokenStep = broken === 'nan_counts' ? Math.min(1, nStep - 1) : broken === 'negative_counts' ? Math.min(2, nStep - 1) : null;
+  const brokenStep =
+    broken === 'nan_counts' ? Math.min(1, nStep - 1) : broken === 'negative_counts' ? Math.min(2, nStep - 1) : null;
 
   const f = new rt.File(path, 'w');
   try {
@@ -88,8 +94,16 @@ export function writeSynthScan(rt: H5Runtime, path: string, plan: ScanPlan, brok
     f.create_attribute('file_time', new Date(Date.UTC(2026, 2, 14, 8, 30, 0)).toISOString());
     const entry = createNxGroup(f, 'entry', broken === 'missing_entry_class' ? null : 'NXentry', { default: 'data' });
     writeString(entry, 'experiment_kind', o.kind);
-    writeString(entry, 'start_time', broken === 'bad_start_time' ? 'yesterday after lunch' : '2026-03-14T09:30:00+01:00');
-    writeString(entry, 'title', `Harbor Point Ultrafast Lab synthetic ${o.kind} scan, ${o.target} at ${o.wavelengthNm} nm (seed ${o.seed})`);
+    writeString(
+      entry,
+      'start_time',
+      broken === 'bad_start_time' ? 'yesterday after lunch' : '2026-03-14T09:30:00+01:00',
+    );
+    writeString(
+      entry,
+      'title',
+      `Harbor Point Ultrafast Lab synthetic ${o.kind} scan, ${o.target} at ${o.wavelengthNm} nm (seed ${o.seed})`,
+    );
     const sample = createNxGroup(entry, 'sample', 'NXsample');
     writeString(sample, 'name', o.target);
     const instrument = createNxGroup(entry, 'instrument', 'NXinstrument');
@@ -177,8 +191,18 @@ export function writeSynthScan(rt: H5Runtime, path: string, plan: ScanPlan, brok
     } else {
       writeScalar(data, 'shots', plan.shots[0] as number);
     }
-    writeVector(data, 'x', Array.from({ length: n }, (_, i) => i), 'pixel');
-    writeVector(data, 'y', Array.from({ length: n }, (_, i) => i), 'pixel');
+    writeVector(
+      data,
+      'x',
+      Array.from({ length: n }, (_, i) => i),
+      'pixel',
+    );
+    writeVector(
+      data,
+      'y',
+      Array.from({ length: n }, (_, i) => i),
+      'pixel',
+    );
   } finally {
     f.close();
   }

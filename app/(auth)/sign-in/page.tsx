@@ -19,6 +19,12 @@ export default async function SignInPage({
   const sp = await searchParams;
   const one = (v: string | string[] | undefined) => (Array.isArray(v) ? v[0] : v) ?? null;
   if (await getActor()) redirect('/');
-  const notice = one(sp.signedOut) ? NOTICES.signedOut : one(sp.reset) ? NOTICES.reset : one(sp.invited) ? NOTICES.invited : null;
+  const notice = one(sp.signedOut)
+    ? NOTICES.signedOut
+    : one(sp.reset)
+      ? NOTICES.reset
+      : one(sp.invited)
+        ? NOTICES.invited
+        : null;
   return <SignInForm next={one(sp.next)} initialError={one(sp.error)} notice={notice ?? null} />;
 }

@@ -7,8 +7,8 @@ import { Op, type Transaction } from 'sequelize';
 import { recordAudit } from '@/lib/audit';
 import { getDb } from '@/lib/db';
 import { AppError } from '@/lib/errors';
-import { AnalysisSettingsVersion, Campaign, DetectorCalibrationVersion, ScanResult, User } from '@/models';
 import type { VersionStatus } from '@/models';
+import { AnalysisSettingsVersion, Campaign, DetectorCalibrationVersion, ScanResult, User } from '@/models';
 import { parseCalibration, parseSettings } from '@/reduction/formats';
 
 // TYPES //

@@ -1,7 +1,7 @@
 import 'server-only';
 // Campaigns and the opening of shifts (home page, /campaigns/new, /shifts/new). Plain DTOs out; no access checks
 // here: callers authorize with the teamId they get back (lib/policy.ts).
-import { fn, col, Op, UniqueConstraintError } from 'sequelize';
+import { col, fn, Op, UniqueConstraintError } from 'sequelize';
 import { recordAudit } from '@/lib/audit';
 import { getDb } from '@/lib/db';
 import { AppError } from '@/lib/errors';

@@ -5,6 +5,7 @@ import 'server-only';
 import { Op, QueryTypes } from 'sequelize';
 import { getDb } from '@/lib/db';
 import { AppError } from '@/lib/errors';
+import type { ScanStatus } from '@/models';
 import {
   AnalysisSettingsVersion,
   Campaign,
@@ -18,7 +19,6 @@ import {
   Shift,
   Team,
 } from '@/models';
-import type { ScanStatus } from '@/models';
 import type { LobelineResult } from '@/reduction/formats';
 
 // HELPERS //

@@ -42,9 +42,43 @@ beforeAll(async () => {
 
 describe('recovery of the truth through the CLI code path', () => {
   it.each([
-    ['angular_streaking', ['--kind', 'angular_streaking', '--steps', '3', '--size', '256', '--offset-deg', '7', '--seed', '3', '--mirror']],
-    ['angular_streaking h = −1', ['--kind', 'angular_streaking', '--steps', '2', '--size', '256', '--helicity=-1', '--seed', '5', '--shrink', '0.02']],
-    ['bicircular', ['--kind', 'bicircular', '--steps', '3', '--size', '256', '--offset-deg', '4', '--seed', '8', '--dtype', 'uint16']],
+    [
+      'angular_streaking',
+      ['--kind', 'angular_streaking', '--steps', '3', '--size', '256', '--offset-deg', '7', '--seed', '3', '--mirror'],
+    ],
+    [
+      'angular_streaking h = −1',
+      [
+        '--kind',
+        'angular_streaking',
+        '--steps',
+        '2',
+        '--size',
+        '256',
+        '--helicity=-1',
+        '--seed',
+        '5',
+        '--shrink',
+        '0.02',
+      ],
+    ],
+    [
+      'bicircular',
+      [
+        '--kind',
+        'bicircular',
+        '--steps',
+        '3',
+        '--size',
+        '256',
+        '--offset-deg',
+        '4',
+        '--seed',
+        '8',
+        '--dtype',
+        'uint16',
+      ],
+    ],
     ['image', ['--kind', 'image', '--size', '256', '--seed', '9', '--compression', 'none']],
   ])('%s', async (name, args) => {
     const { file, truth, cal } = await generate(name.replace(/\W+/g, '_'), args);
@@ -63,20 +97,29 @@ describe('recovery of the truth through the CLI code path', () => {
         const err = l.angle_err_deg as number;
         expect(err).toBeGreaterThan(0);
         // lobe angle within 3σ of the bootstrap (σ also includes nothing else: the model is exact)
-        expect(Math.abs(wrapDeg(l.angle_deg - tl.angle_deg)), `step ${k} lobe ${j}: ${l.angle_deg} vs ${tl.angle_deg} ± ${err}`).toBeLessThanOrEqual(3 * err);
+        expect(
+          Math.abs(wrapDeg(l.angle_deg - tl.angle_deg)),
+          `step ${k} lobe ${j}: ${l.angle_deg} vs ${tl.angle_deg} ± ${err}`,
+        ).toBeLessThanOrEqual(3 * err);
         if (tl.expected_deg !== null) {
           expect(Math.abs(wrapDeg((l.expected_deg as number) - tl.expected_deg))).toBeLessThan(1e-6);
-          expect(Math.abs((l.offset_deg as number) - (tl.offset_deg as number))).toBeLessThanOrEqual(3 * (l.offset_err_deg as number));
+          expect(Math.abs((l.offset_deg as number) - (tl.offset_deg as number))).toBeLessThanOrEqual(
+            3 * (l.offset_err_deg as number),
+          );
         }
       }
       if (t.offset_deg !== null) {
-        expect(Math.abs((s.offset_deg as number) - t.offset_deg), `step ${k} offset ${s.offset_deg} ± ${s.offset_err_deg}`).toBeLessThanOrEqual(
-          3 * (s.offset_err_deg as number),
-        );
+        expect(
+          Math.abs((s.offset_deg as number) - t.offset_deg),
+          `step ${k} offset ${s.offset_deg} ± ${s.offset_err_deg}`,
+        ).toBeLessThanOrEqual(3 * (s.offset_err_deg as number));
       }
       // radius: 3σ of the bootstrap plus a quarter of the 0.01 a.u. grid cell (peak location on a discrete grid)
       const rErr = (s.radius_err_au as number) * 3 + 0.0025;
-      expect(Math.abs((s.radius_au as number) - (t.radius_au as number)), `step ${k} radius ${s.radius_au} vs ${t.radius_au}`).toBeLessThanOrEqual(rErr);
+      expect(
+        Math.abs((s.radius_au as number) - (t.radius_au as number)),
+        `step ${k} radius ${s.radius_au} vs ${t.radius_au}`,
+      ).toBeLessThanOrEqual(rErr);
       if (t.intensity_from_radius_Wcm2 !== null) {
         // I ∝ p² ⇒ relative error 2 Δp/p
         const rel = Math.abs((s.intensity_from_radius_Wcm2 as number) / t.intensity_from_radius_Wcm2 - 1);
@@ -87,7 +130,18 @@ describe('recovery of the truth through the CLI code path', () => {
 
   it('two_color_phase: φ₀ map in high-count cells matches the truth within 3σ; result file written', async () => {
     const { file, truth, cal } = await generate('two_color_phase', [
-      '--kind', 'two_color_phase', '--steps', '12', '--periods', '2', '--size', '256', '--counts', '2e6', '--seed', '2',
+      '--kind',
+      'two_color_phase',
+      '--steps',
+      '12',
+      '--periods',
+      '2',
+      '--size',
+      '256',
+      '--counts',
+      '2e6',
+      '--seed',
+      '2',
     ]);
     const settings = path.join(DIR, 'pp.settings.json');
     writeFileSync(settings, JSON.stringify({ grid: { p_max_au: 2, n: 201 }, phase: { min_counts: 50, harmonics: 2 } }));
@@ -101,7 +155,8 @@ describe('recovery of the truth through the CLI code path', () => {
     expect(res.phase?.periods).toBe(2);
     // read the maps back from the result file
     const f = new rt.File(out, 'r');
-    const get = (p: string) => Array.from((f.get(p) as InstanceType<H5Runtime['Dataset']>).value as Float32Array | Float64Array);
+    const get = (p: string) =>
+      Array.from((f.get(p) as InstanceType<H5Runtime['Dataset']>).value as Float32Array | Float64Array);
     const mean = get('/entry/result/phase/mean');
     const amp = get('/entry/result/phase/amplitude');
     const phi = get('/entry/result/phase/phase_of_max');
@@ -138,7 +193,15 @@ describe('the recovery checks can fail', () => {
     const truth = JSON.parse(readFileSync(path.join(DIR, 'angular_streaking.truth.json'), 'utf8')) as SynthTruth;
     const wrong = path.join(DIR, 'wrong.calibration.json');
     // the right scale and centre but no rotation/ellipticity/mirror correction
-    writeFileSync(wrong, JSON.stringify({ ...truth.calibration, rotation_deg: 0, mirror: false, detector_ellipticity: { ratio: 1, axis_deg: 0 } }));
+    writeFileSync(
+      wrong,
+      JSON.stringify({
+        ...truth.calibration,
+        rotation_deg: 0,
+        mirror: false,
+        detector_ellipticity: { ratio: 1, axis_deg: 0 },
+      }),
+    );
     const r = await run([file, '--calibration', wrong, '--json']);
     expect(r.code).toBe(0);
     const s = (JSON.parse(r.stdout) as LobelineResult).steps[0]!;
@@ -149,16 +212,40 @@ describe('the recovery checks can fail', () => {
 describe('refusals and exit codes', () => {
   it('a broken file: exit 2, every problem on stderr, one per line, nothing on stdout', async () => {
     const file = path.join(DIR, 'many.h5');
-    await makeExample(['--kind', 'angular_streaking', '--out', file, '--size', '64', '--steps', '2', '--broken', 'missing_wavelength']);
+    await makeExample([
+      '--kind',
+      'angular_streaking',
+      '--out',
+      file,
+      '--size',
+      '64',
+      '--steps',
+      '2',
+      '--broken',
+      'missing_wavelength',
+    ]);
     const r = await run([file, '--json']);
     expect(r.code).toBe(2);
     expect(r.stdout).toBe('');
-    expect(r.stderr).toBe('/entry/instrument/source/wavelength: required for every scan (fundamental wavelength in nm) but missing\n');
+    expect(r.stderr).toBe(
+      '/entry/instrument/source/wavelength: required for every scan (fundamental wavelength in nm) but missing\n',
+    );
   });
 
   it('a NaN frame: exit 2 naming the step', async () => {
     const file = path.join(DIR, 'nan.h5');
-    await makeExample(['--kind', 'bicircular', '--out', file, '--size', '64', '--steps', '3', '--broken', 'nan_counts']);
+    await makeExample([
+      '--kind',
+      'bicircular',
+      '--out',
+      file,
+      '--size',
+      '64',
+      '--steps',
+      '3',
+      '--broken',
+      'nan_counts',
+    ]);
     const r = await run([file]);
     expect(r.code).toBe(2);
     expect(r.stderr).toMatch(/^\/entry\/data\/counts: step 1: pixel \(x \d+, y \d+\) is NaN; counts must be finite\n$/);
@@ -179,7 +266,9 @@ describe('refusals and exit codes', () => {
     const lines = r.stderr.trimEnd().split('\n');
     expect(lines.length).toBeGreaterThanOrEqual(3);
     expect(lines.some((l) => l.includes('calibration.center_px'))).toBe(true);
-    expect(lines.some((l) => l.includes('calibration.momentum_per_pixel_au') && l.includes('must be positive'))).toBe(true);
+    expect(lines.some((l) => l.includes('calibration.momentum_per_pixel_au') && l.includes('must be positive'))).toBe(
+      true,
+    );
     expect(lines.some((l) => l.includes('colour'))).toBe(true);
     const badSet = path.join(DIR, 'badset.json');
     writeFileSync(badSet, JSON.stringify({ grid: { n: 3 } }));
@@ -202,7 +291,10 @@ describe('refusals and exit codes', () => {
   it('as a subprocess (npx tsx scripts/reduce.ts): exit 0 with JSON only on stdout, exit 2 with no stack trace', () => {
     const file = path.join(DIR, 'ok.h5');
     const cal = path.join(DIR, 'ok.calibration.json');
-    const ok = spawnSync('npx', ['tsx', 'scripts/reduce.ts', file, '--calibration', cal, '--json'], { cwd: ROOT, encoding: 'utf8' });
+    const ok = spawnSync('npx', ['tsx', 'scripts/reduce.ts', file, '--calibration', cal, '--json'], {
+      cwd: ROOT,
+      encoding: 'utf8',
+    });
     expect(ok.status).toBe(0);
     expect(JSON.parse(ok.stdout).format).toBe('lobeline.result');
     const bad = path.join(DIR, 'many.h5');
@@ -215,7 +307,9 @@ describe('refusals and exit codes', () => {
     writeFileSync(notH5, 'shift notes, not a scan\n');
     const n2 = spawnSync('npx', ['tsx', 'scripts/reduce.ts', notH5], { cwd: ROOT, encoding: 'utf8' });
     expect(n2.status).toBe(2);
-    expect(n2.stderr).toBe('(file): not an HDF5 file: the 8-byte HDF5 signature was not found at byte 0, 512, 1024, … (the file looks like a text file)\n');
+    expect(n2.stderr).toBe(
+      '(file): not an HDF5 file: the 8-byte HDF5 signature was not found at byte 0, 512, 1024, … (the file looks like a text file)\n',
+    );
   }, 120_000);
 
   it('result file from --out is read by h5py (NeXus default chain) and the partial file is gone', () => {

@@ -7,8 +7,8 @@
 import path from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { calibrationMatrix, pixelToMomentumAu } from '@/reduction/calibration';
-import { openScanFile } from '@/reduction/hdf5/reader';
 import { ScanReadError } from '@/reduction/hdf5/problems';
+import { openScanFile } from '@/reduction/hdf5/reader';
 import type { H5Runtime } from '@/reduction/hdf5/runtime';
 import { momentumToPixel, pixelToMomentum, planScan, renderSignal, synthCalibration } from '@/reduction/synth/model';
 import { BROKEN_KINDS, writeSynthScan } from '@/reduction/synth/scan-file';
@@ -24,7 +24,12 @@ describe('calibration maps', () => {
   const cal = { ...synthCalibration({ ...planScan({ size: 128 }).options, distort: true }), mirror: true };
   it('pixel → momentum equals reduction/calibration.ts (FORMATS §2 order: mirror, ellipticity, rotation, scale)', () => {
     const map = calibrationMatrix(cal);
-    for (const [x, y] of [[0, 0], [127, 3], [40.5, 99.25], [64, 64]] as const) {
+    for (const [x, y] of [
+      [0, 0],
+      [127, 3],
+      [40.5, 99.25],
+      [64, 64],
+    ] as const) {
       const mine = pixelToMomentum(cal, x, y);
       const theirs = pixelToMomentumAu(map, x, y);
       expect(Math.abs(mine[0] - (theirs[0] as number))).toBeLessThan(1e-12);
@@ -32,7 +37,11 @@ describe('calibration maps', () => {
     }
   });
   it('momentumToPixel inverts pixelToMomentum', () => {
-    for (const [x, y] of [[1, 2], [120.5, 7], [64, 80]] as const) {
+    for (const [x, y] of [
+      [1, 2],
+      [120.5, 7],
+      [64, 80],
+    ] as const) {
       const [px, py] = pixelToMomentum(cal, x, y);
       const [bx, by] = momentumToPixel(cal, px, py);
       expect(Math.abs(bx - x)).toBeLessThan(1e-9);
@@ -43,7 +52,13 @@ describe('calibration maps', () => {
 
 describe('truth', () => {
   it('He, 800 nm, ε = 0.87, 4e14 W/cm²: radius 1.230356 a.u., lobes at −90° and 90° + offset (SCIENCE.md §4.2, §4.3)', () => {
-    const plan = planScan({ kind: 'angular_streaking', steps: 3, intensityMinWcm2: 2e14, intensityMaxWcm2: 4e14, offsetDeg: 6 });
+    const plan = planScan({
+      kind: 'angular_streaking',
+      steps: 3,
+      intensityMinWcm2: 2e14,
+      intensityMaxWcm2: 4e14,
+      offsetDeg: 6,
+    });
     const s = plan.steps[2]!;
     expect(s.intensity_Wcm2).toBe(4e14);
     expect(Math.abs((s.radius_au as number) - 1.230356)).toBeLessThan(2e-6);
@@ -76,8 +91,24 @@ describe('make-example files', () => {
   it('writes FORMATS §1 that h5py reads: layout, dtype, one gzip chunk per frame, background, truth files', async () => {
     const dir = generatedDir('generator');
     const out = path.join(dir, 'as.h5');
-    const truth = await makeExample(['--kind', 'angular_streaking', '--out', out, '--steps', '3', '--size', '64',
-      '--counts', '3e4', '--dtype', 'uint16', '--background', '--distort', '--seed', '4']);
+    const truth = await makeExample([
+      '--kind',
+      'angular_streaking',
+      '--out',
+      out,
+      '--steps',
+      '3',
+      '--size',
+      '64',
+      '--counts',
+      '3e4',
+      '--dtype',
+      'uint16',
+      '--background',
+      '--distort',
+      '--seed',
+      '4',
+    ]);
     const d = python<Record<string, unknown>>(
       `import h5py, json, sys, numpy as np
 f = h5py.File(sys.argv[1], 'r'); c = f['/entry/data/counts']; b = f['/entry/background/counts']
@@ -152,7 +183,20 @@ describe('broken variants (--broken): each has its own specific message', () => 
 
   it.each([...BROKEN_KINDS])('%s', async (kind) => {
     const out = path.join(generatedDir('broken'), `${kind}.h5`);
-    await makeExample(['--kind', 'angular_streaking', '--out', out, '--steps', '3', '--size', '64', '--counts', '1e4', '--broken', kind]);
+    await makeExample([
+      '--kind',
+      'angular_streaking',
+      '--out',
+      out,
+      '--steps',
+      '3',
+      '--size',
+      '64',
+      '--counts',
+      '1e4',
+      '--broken',
+      kind,
+    ]);
     // lz4 is readable with the plugins: the refusal is checked without them
     const r = openScanFile(rt, out, kind === 'lz4_compressed' ? { acceptedPluginFilters: [] } : {});
     const want = expected[kind]!;

@@ -7,9 +7,9 @@
 import { readFileSync } from 'node:fs';
 import path from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
-import type { H5Runtime } from '@/reduction/hdf5/runtime';
-import { openScanFile } from '@/reduction/hdf5/reader';
 import { ScanReadError } from '@/reduction/hdf5/problems';
+import { openScanFile } from '@/reduction/hdf5/reader';
+import type { H5Runtime } from '@/reduction/hdf5/runtime';
 import { H5PY_DIR, runtime } from './helpers';
 
 interface FixtureFile {

@@ -38,7 +38,14 @@ print(json.dumps(out))`;
 
 type Dump = Record<
   string,
-  { attrs: Record<string, unknown>; shape?: number[]; dtype?: string; chunks?: number[] | null; compression?: string | null; data?: unknown }
+  {
+    attrs: Record<string, unknown>;
+    shape?: number[];
+    dtype?: string;
+    chunks?: number[] | null;
+    compression?: string | null;
+    data?: unknown;
+  }
 >;
 
 function summary(): LobelineResult {
@@ -131,15 +138,29 @@ describe('ResultFileWriter', () => {
     expect(d['/entry/result/calibrated/py']).toMatchObject({ data: py, attrs: { units: 'a.u.' } });
     expect(d['/entry/result/calibrated/step']?.attrs).toEqual({ quantity: 'relative_phase', units: 'rad' });
 
-    expect(d['/entry/result/angular']?.attrs).toMatchObject({ NX_class: 'NXdata', signal: 'yield', axes: ['step', 'theta'] });
+    expect(d['/entry/result/angular']?.attrs).toMatchObject({
+      NX_class: 'NXdata',
+      signal: 'yield',
+      axes: ['step', 'theta'],
+    });
     expect(d['/entry/result/angular/yield']).toMatchObject({ shape: [3, 4], dtype: 'float64' });
-    expect(d['/entry/result/angular/yield']?.data).toEqual([0, 1, 2].flatMap((k) => theta.map((_, i) => 10 * k + i + 0.5)));
+    expect(d['/entry/result/angular/yield']?.data).toEqual(
+      [0, 1, 2].flatMap((k) => theta.map((_, i) => 10 * k + i + 0.5)),
+    );
     expect(d['/entry/result/angular/theta']).toMatchObject({ data: theta, attrs: { units: 'deg' } });
-    expect(d['/entry/result/radial']?.attrs).toMatchObject({ NX_class: 'NXdata', signal: 'yield', axes: ['step', 'p'] });
+    expect(d['/entry/result/radial']?.attrs).toMatchObject({
+      NX_class: 'NXdata',
+      signal: 'yield',
+      axes: ['step', 'p'],
+    });
     expect(d['/entry/result/radial/yield']?.data).toEqual([0, 1, 2].flatMap((k) => p.map((_, i) => -k - i / 4)));
     expect(d['/entry/result/radial/p']).toMatchObject({ data: p, attrs: { units: 'a.u.' } });
 
-    expect(d['/entry/result/phase']?.attrs).toMatchObject({ NX_class: 'NXdata', signal: 'phase_of_max', axes: ['py', 'px'] });
+    expect(d['/entry/result/phase']?.attrs).toMatchObject({
+      NX_class: 'NXdata',
+      signal: 'phase_of_max',
+      axes: ['py', 'px'],
+    });
     for (const name of ['mean', 'amplitude', 'phase_of_max', 'contrast', 'harmonic_2_amplitude', 'harmonic_2_phase']) {
       expect(d[`/entry/result/phase/${name}`]?.shape, name).toEqual([3, 4]);
     }
@@ -165,8 +186,12 @@ describe('ResultFileWriter', () => {
       thetaDeg: [0],
       pAu: [0],
     });
-    expect(() => w.writeStep(1, { calibrated: [1, 2, 3, 4], angular: [1], radial: [1] })).toThrow('step 1 is outside 0…0');
-    expect(() => w.writeStep(0, { calibrated: [1, 2, 3], angular: [1], radial: [1] })).toThrow('calibrated has 3 values, expected 4');
+    expect(() => w.writeStep(1, { calibrated: [1, 2, 3, 4], angular: [1], radial: [1] })).toThrow(
+      'step 1 is outside 0…0',
+    );
+    expect(() => w.writeStep(0, { calibrated: [1, 2, 3], angular: [1], radial: [1] })).toThrow(
+      'calibrated has 3 values, expected 4',
+    );
     expect(w.missingSteps()).toEqual([0]);
     w.close();
     expect(() => w.writeSummary(summary())).toThrow('already closed');

@@ -60,7 +60,7 @@ describe('checkHdf5Signature', () => {
     const r = checkHdf5Signature(reader(half), half.length);
     expect(r.ok).toBe(false);
     expect(r.problem).toBe(
-      `truncated HDF5 file: the superblock records ${b.length} bytes but the file has 5000 (${((500000 / b.length)).toFixed(1)} %); the upload or copy was probably interrupted`,
+      `truncated HDF5 file: the superblock records ${b.length} bytes but the file has 5000 (${(500000 / b.length).toFixed(1)} %); the upload or copy was probably interrupted`,
     );
   });
 });
@@ -123,7 +123,9 @@ describe('compression filters', () => {
     g.scan.close();
     l.scan.close();
     const refusedLz4 = openScanFile(rt, path.join(dir, 'lz4.h5'), { acceptedPluginFilters: [] });
-    expect(refusedLz4.ok ? '' : refusedLz4.problems[0]?.message).toContain('unsupported compression: LZ4 (HDF5 filter 32004)');
+    expect(refusedLz4.ok ? '' : refusedLz4.problems[0]?.message).toContain(
+      'unsupported compression: LZ4 (HDF5 filter 32004)',
+    );
   });
 
   it('h5py (without plugins) cannot read the LZ4 file either: the filter really is LZ4, not gzip', async () => {
@@ -152,6 +154,8 @@ describe('the HDF5 library is never handed a broken file', () => {
     const b = readFileSync(file);
     writeFileSync(file, b.subarray(0, b.length - 100));
     const r = openScanFile(rt, file);
-    expect(r.ok ? '' : r.problems[0]?.message).toContain(`the superblock records ${b.length} bytes but the file has ${b.length - 100}`);
+    expect(r.ok ? '' : r.problems[0]?.message).toContain(
+      `the superblock records ${b.length} bytes but the file has ${b.length - 100}`,
+    );
   });
 });

@@ -12,7 +12,11 @@ export default async function AdminTeamsPage() {
   if (!can(actor, 'admin.teams')) return <Forbidden message="Only administrators create and manage teams." />;
   return (
     <>
-      <PageHeader eyebrow="Administration" title="Teams" description="Groups that own campaigns, shifts, files and results." />
+      <PageHeader
+        eyebrow="Administration"
+        title="Teams"
+        description="Groups that own campaigns, shifts, files and results."
+      />
       <TeamsAdmin />
     </>
   );

@@ -9,7 +9,8 @@ export const metadata: Metadata = { title: 'Users' };
 
 export default async function AdminUsersPage() {
   const actor = await requireActor();
-  if (!can(actor, 'admin.users')) return <Forbidden message="Only administrators manage users, invitations and roles." />;
+  if (!can(actor, 'admin.users'))
+    return <Forbidden message="Only administrators manage users, invitations and roles." />;
   return (
     <>
       <PageHeader

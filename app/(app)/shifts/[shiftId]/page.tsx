@@ -1,9 +1,9 @@
 import { notFound, redirect } from 'next/navigation';
+import { formatTime, KIND_WORDS } from '@/components/ingest/format';
 import { ShiftWorkbench } from '@/components/ingest/shift-workbench';
 import { Badge, PageHeader, SafetyNotice } from '@/components/ui';
 import { getActor } from '@/lib/auth/actor';
 import { AppError } from '@/lib/errors';
-import { formatTime, KIND_WORDS } from '@/components/ingest/format';
 import { getShiftReceipt, getShiftView } from '@/lib/ingest/service';
 
 export const dynamic = 'force-dynamic';

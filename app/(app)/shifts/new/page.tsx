@@ -41,7 +41,10 @@ export default async function NewShiftPage({ searchParams }: { searchParams: Pro
           </EmptyState>
         ) : (
           <ShiftForm
-            campaigns={campaigns.map((c) => ({ id: c.id, label: `${c.name} — ${c.target}, ${formatWavelength(c.wavelengthNm)}` }))}
+            campaigns={campaigns.map((c) => ({
+              id: c.id,
+              label: `${c.name} — ${c.target}, ${formatWavelength(c.wavelengthNm)}`,
+            }))}
             defaultCampaignId={campaigns.some((c) => c.id === requested) ? requested : undefined}
           />
         )}
