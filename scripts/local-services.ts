@@ -99,8 +99,12 @@ function multipartExtras(app: S3rverInstance): Middleware {
           ctx.body = '';
           return;
         }
-        const numbers = (await readdir(dir))
-          .filter((n) => /^\d+$/.test(n))
+        // s3rver writes a part's bytes first and its `.md5` once they are all in; a part whose PUT was cut off
+        // (the browser reloaded mid-part) keeps a partial file and never gets one. As in S3, such a part was
+        // never stored: leave it out instead of failing the whole listing.
+        const names = new Set(await readdir(dir));
+        const numbers = [...names]
+          .filter((n) => /^\d+$/.test(n) && names.has(`${n}.md5`))
           .map(Number)
           .sort((a, b) => a - b);
         const marker = Number(ctx.query['part-number-marker'] ?? 0) || 0;

@@ -188,6 +188,15 @@ function ItemRow({
             </p>
           </div>
         ) : null}
+        {item.retry && busy ? (
+          <p className="text-small text-flare-900" role="status" data-testid="item-retry">
+            {item.retry.reason}{' '}
+            {item.retry.offline
+              ? `The browser reports no network connection; trying again as soon as it is back, at the latest in ${formatDuration(item.retry.waitMs / 1000)}`
+              : `Trying again in ${formatDuration(item.retry.waitMs / 1000)}`}{' '}
+            (attempt {item.retry.attempt + 1} of {item.retry.maxAttempts}); nothing already stored is lost.
+          </p>
+        ) : null}
         {item.outcome ? (
           <div className="text-small text-ink-700" data-testid="item-outcome">
             <p>{item.outcome.message}</p>

@@ -13,6 +13,17 @@ export interface UploadCallbacks {
   /** Bytes stored so far (parts already in storage count from the start) and the total. */
   onProgress(loaded: number, total: number): void;
   onPhase(phase: 'sending' | 'waiting-hash' | 'verifying', info?: { resumedBytes?: number }): void;
+  /** A request failed and is tried again after `waitMs` (null once a later request went through). */
+  onRetry?(info: RetryInfo | null): void;
+}
+
+export interface RetryInfo {
+  attempt: number;
+  maxAttempts: number;
+  waitMs: number;
+  reason: string;
+  /** The browser reported no network: the retry waits for it to come back, at most `waitMs`. */
+  offline: boolean;
 }
 
 export interface UploadInput {
@@ -44,22 +55,31 @@ const sleep = (ms: number, signal: AbortSignal) =>
     );
   });
 
-async function whenOnline(signal: AbortSignal): Promise<void> {
+/** Longest wait for an `online` event before trying anyway. */
+const OFFLINE_WAIT_MS = 15_000;
+
+/**
+ * Waits while the browser says it is offline, but never longer than `maxMs`: `navigator.onLine` is only a hint
+ * (it is false on a machine whose only network is loopback, e.g. a lab PC serving Lobeline to itself), so a
+ * retry must not depend on an `online` event that may never come.
+ */
+async function whenOnline(signal: AbortSignal, maxMs: number): Promise<void> {
   if (typeof navigator === 'undefined' || navigator.onLine) return;
   await new Promise<void>((resolve, reject) => {
-    const on = () => {
-      window.removeEventListener('online', on);
+    const done = () => {
+      clearTimeout(t);
+      window.removeEventListener('online', done);
+      signal.removeEventListener('abort', abort);
       resolve();
     };
-    window.addEventListener('online', on);
-    signal.addEventListener(
-      'abort',
-      () => {
-        window.removeEventListener('online', on);
-        reject(new Cancelled());
-      },
-      { once: true },
-    );
+    const abort = () => {
+      clearTimeout(t);
+      window.removeEventListener('online', done);
+      reject(new Cancelled());
+    };
+    const t = setTimeout(done, maxMs);
+    window.addEventListener('online', done);
+    signal.addEventListener('abort', abort, { once: true });
   });
 }
 
@@ -85,18 +105,28 @@ class PutError extends Error {
   }
 }
 
-async function withRetry<T>(what: () => Promise<T>, signal: AbortSignal, onRetry?: () => void): Promise<T> {
+async function withRetry<T>(
+  what: () => Promise<T>,
+  signal: AbortSignal,
+  onRetry?: () => void,
+  report?: (info: RetryInfo | null) => void,
+): Promise<T> {
   for (let attempt = 1; ; attempt++) {
     if (signal.aborted) throw new Cancelled();
     try {
-      return await what();
+      const out = await what();
+      if (attempt > 1) report?.(null);
+      return out;
     } catch (err) {
       if ((err as Error).name === 'AbortError') throw err;
       const retriable = err instanceof PutError || (err instanceof ApiError && (err.status === 0 || err.status >= 500));
       if (!retriable || attempt >= MAX_ATTEMPTS) throw err;
       onRetry?.();
-      await whenOnline(signal);
-      await sleep(retryDelayMs(attempt), signal);
+      const offline = typeof navigator !== 'undefined' && !navigator.onLine;
+      const waitMs = offline ? Math.max(OFFLINE_WAIT_MS, retryDelayMs(attempt)) : retryDelayMs(attempt);
+      report?.({ attempt, maxAttempts: MAX_ATTEMPTS, waitMs, reason: (err as Error).message, offline });
+      if (offline) await whenOnline(signal, waitMs);
+      else await sleep(waitMs, signal);
     }
   }
 }
@@ -127,7 +157,7 @@ export async function uploadFile(
   cb: UploadCallbacks,
 ): Promise<{ outcome: UploadOutcomeDto; uploadId: number }> {
   const { file, signal } = input;
-  const ticket = await withRetry(() => startTicket(input), signal);
+  const ticket = await withRetry(() => startTicket(input), signal, undefined, cb.onRetry);
   const onAbort = () => void abortTicket(ticket.uploadId);
   signal.addEventListener('abort', onAbort, { once: true });
   try {
@@ -139,9 +169,13 @@ export async function uploadFile(
         signal,
         // a fresh ticket carries a fresh URL (the old one may have expired while offline)
         () =>
-          void startTicket(input).then((t) => {
-            if (t.mode === 'single') url = t.url;
-          }),
+          void startTicket(input).then(
+            (t) => {
+              if (t.mode === 'single') url = t.url;
+            },
+            () => undefined, // the next attempt asks again
+          ),
+        cb.onRetry,
       );
       cb.onProgress(file.size, file.size);
     } else {
@@ -192,6 +226,7 @@ export async function uploadFile(
               inFlight.delete(n);
               report();
             },
+            cb.onRetry,
           );
           inFlight.delete(n);
           stored += range.length;
@@ -210,6 +245,8 @@ export async function uploadFile(
           json: sha256 ? { sha256 } : {},
         }),
       signal,
+      undefined,
+      cb.onRetry,
     );
     return { outcome, uploadId: ticket.uploadId };
   } finally {

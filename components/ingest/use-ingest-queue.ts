@@ -7,7 +7,7 @@ import type { Precheck } from '@/lib/ingest/schemas';
 import type { UploadOutcomeDto } from '@/lib/ingest/types';
 import { FileChecker } from './precheck-client';
 import type { PrecheckResult } from './precheck-protocol';
-import { uploadFile } from './uploader';
+import { type RetryInfo, uploadFile } from './uploader';
 
 export type ItemPhase =
   | 'checking'
@@ -35,6 +35,8 @@ export interface QueueItem {
   sha256: string | null;
   outcome: UploadOutcomeDto | null;
   error: { message: string; details: string[] } | null;
+  /** The last request failed and is being tried again (cleared when a request goes through). */
+  retry: (RetryInfo & { at: number }) | null;
   startedAt: number | null;
 }
 
@@ -110,6 +112,7 @@ export function useIngestQueue({ shiftId, onStored }: { shiftId: number; onStore
         sha256: null,
         outcome: null,
         error: null,
+        retry: null,
         startedAt: null,
       }));
       setItems((list) => [...list, ...fresh]);
@@ -151,7 +154,7 @@ export function useIngestQueue({ shiftId, onStored }: { shiftId: number; onStore
         if (!next) break;
         const ctrl = new AbortController();
         controllers.current.set(next.key, ctrl);
-        patch(next.key, { phase: 'sending', startedAt: Date.now(), error: null });
+        patch(next.key, { phase: 'sending', startedAt: Date.now(), error: null, retry: null });
         try {
           const { outcome } = await uploadFile(
             {
@@ -166,18 +169,19 @@ export function useIngestQueue({ shiftId, onStored }: { shiftId: number; onStore
               onProgress: (loaded) => patch(next.key, { loaded }),
               onPhase: (phase, info) =>
                 patch(next.key, (i) => ({ phase, resumedBytes: info?.resumedBytes ?? i.resumedBytes })),
+              onRetry: (info) => patch(next.key, { retry: info ? { ...info, at: Date.now() } : null }),
             },
           );
-          patch(next.key, { phase: 'done', outcome, loaded: next.file.size });
+          patch(next.key, { phase: 'done', outcome, loaded: next.file.size, retry: null });
           onStored();
         } catch (err) {
-          if ((err as Error).name === 'AbortError') patch(next.key, { phase: 'cancelled' });
+          if ((err as Error).name === 'AbortError') patch(next.key, { phase: 'cancelled', retry: null });
           else {
             const e =
               err instanceof ApiError
                 ? { message: err.message, details: err.details }
                 : { message: String((err as Error).message ?? err), details: [] };
-            patch(next.key, { phase: 'failed', error: e });
+            patch(next.key, { phase: 'failed', error: e, retry: null });
           }
           onStored();
         } finally {

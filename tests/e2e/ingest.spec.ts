@@ -62,6 +62,7 @@ test('operator drops, sends and closes a shift, and gets the receipt', async ({ 
 
   await page.goto(`/shifts/${shiftId}`);
   await expect(page.getByTestId('safety-notice')).toBeVisible();
+  await page.waitForLoadState('networkidle'); // the drop zone must be hydrated before files are set
   await page.getByTestId('dropzone-input').setInputFiles([good, broken]);
   const goodRow = page.locator('[data-testid=drop-item][data-file="e2e-good.h5"]');
   const badRow = page.locator('[data-testid=drop-item][data-file="e2e-no-wavelength.h5"]');

@@ -52,6 +52,8 @@ async function uploadOnNewShift(page: Page, campaignId: number, files: string[])
   const body = (await opened.json()) as { shift?: { id: number }; id?: number };
   const shiftId = (body.shift?.id ?? body.id) as number;
   await page.goto(`/shifts/${shiftId}`);
+  // Files set before React has hydrated the drop zone are not seen by it: wait until the page has settled.
+  await page.waitForLoadState('networkidle');
   await page.getByTestId('dropzone-input').setInputFiles(files);
   await page.getByTestId('send-all').click();
   for (const f of files) {
