@@ -245,10 +245,12 @@ async function seed(): Promise<void> {
     const piId = userIds.get('pi@harbor-point.example')!;
     const phaseAnalystId = userIds.get('phase-analyst@harbor-point.example')!;
 
-    // Invented demo calibration: a 512 × 512 px detector centred at (255.5, 255.5), 0.008 a.u. per pixel.
+    // Invented demo calibration: a 512 × 512 px detector centred at (255.5, 255.5) whose scale is the one the example
+    // generator uses (reduction/synth/model.ts synthCalibration: 2 a.u. at 12 px inside the frame edge), so files
+    // made with `npm run make-example -- --size 512` reduce to the intensity they were generated with.
     const calibration = parseCalibration({
       center_px: [255.5, 255.5],
-      momentum_per_pixel_au: 0.008,
+      momentum_per_pixel_au: 2 / (512 / 2 - 12),
       rotation_deg: 0,
       note: 'Demo calibration v1 (invented values for the Harbor Point demo).',
     });

@@ -32,7 +32,7 @@ phase_done() {
 }
 print_phases() {
   phase_done
-  echo "Cold-start phases:"
+  echo "Start-up phases:"
   printf '%s\n' "${PHASE_LINES[@]}"
   awk -v a="$T_START" -v b="$EPOCHREALTIME" 'BEGIN { printf "  %-34s %7.1f s\n", "total", b - a }'
 }

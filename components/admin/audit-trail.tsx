@@ -151,7 +151,7 @@ export function AuditTrail({ scopeNote }: { scopeNote: string }) {
             {
               key: 'details',
               header: 'Details',
-              className: 'max-w-[22rem] text-ink-600',
+              className: 'max-w-[22rem] break-all text-ink-600',
               render: (r) => summarize(r.details),
             },
           ]}

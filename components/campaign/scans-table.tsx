@@ -67,6 +67,11 @@ export function ScansTable({ campaignId, overview }: { campaignId: number; overv
               ⚑
             </span>
           ) : null}
+          {r.title && r.fileName ? (
+            <span className="block max-w-[26rem] truncate font-mono text-micro font-normal text-ink-500">
+              {r.fileName}
+            </span>
+          ) : null}
         </Link>
       ),
     },

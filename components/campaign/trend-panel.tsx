@@ -89,24 +89,32 @@ export function TrendPanel({ campaignId }: { campaignId: number }) {
           <span className="text-flare-700">Scans scan different quantities; the x axis mixes them.</span>
         ) : null}
       </div>
-      <XYPlot
-        xLabel={
-          xKey === 'intensity'
-            ? 'intensity from the lobe radius (W/cm², cycle-averaged total)'
-            : stepAxisLabel(
-                quantity,
-                quantity === 'intensity'
-                  ? 'W/cm^2'
-                  : quantity === 'relative_phase'
-                    ? 'rad'
-                    : quantity === 'delay'
-                      ? 'fs'
-                      : null,
-              )
-        }
-        yLabel={y.label}
-        series={series}
-      />
+      {!series.some((sr) => sr.points.some((pt) => Number.isFinite(pt.x) && Number.isFinite(pt.y))) ? (
+        <EmptyState title={`No ${y.label.replace(/ \(.*\)$/, '')} to plot`}>
+          {quantity === 'relative_phase'
+            ? 'Two-colour phase scans are summarised by their per-pixel phase maps and drawn-region curves on each scan’s page; this quantity has no value for them.'
+            : 'None of the reduced steps has this quantity against this axis; choose another above.'}
+        </EmptyState>
+      ) : (
+        <XYPlot
+          xLabel={
+            xKey === 'intensity'
+              ? 'intensity from the lobe radius (W/cm², cycle-averaged total)'
+              : stepAxisLabel(
+                  quantity,
+                  quantity === 'intensity'
+                    ? 'W/cm^2'
+                    : quantity === 'relative_phase'
+                      ? 'rad'
+                      : quantity === 'delay'
+                        ? 'fs'
+                        : null,
+                )
+          }
+          yLabel={y.label}
+          series={series}
+        />
+      )}
       <p className="mt-1 text-micro text-ink-500">
         One marker per step of each scan&apos;s latest result; bars are one standard deviation (Poisson bootstrap).
         Hollow markers: flagged scans.

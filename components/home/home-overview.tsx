@@ -48,7 +48,7 @@ export function HomeOverview() {
             campaigns.data?.metadataOnly
               ? 'As data steward you see the catalogue metadata of every team; results stay with the teams.'
               : team
-                ? `You are ${ROLE_LABEL[team.role]?.toLowerCase() ?? team.role} in this team.`
+                ? `Your role in this team: ${ROLE_LABEL[team.role] ?? team.role}.`
                 : undefined
           }
           actions={
@@ -71,6 +71,7 @@ export function HomeOverview() {
           <CampaignTable
             query={campaigns}
             showTeam={!team}
+            emptyTitle={!team && m.facility.admin ? 'No campaigns to show' : 'No campaigns yet'}
             emptyHint={
               team
                 ? canCreateCampaign
@@ -142,10 +143,12 @@ function CampaignTable({
   query,
   showTeam,
   emptyHint,
+  emptyTitle,
 }: {
   query: CampaignsQuery;
   showTeam: boolean;
   emptyHint: string;
+  emptyTitle: string;
 }) {
   if (query.isPending)
     return (
@@ -164,7 +167,7 @@ function CampaignTable({
   if (rows.length === 0) {
     return (
       <div className="px-5 py-4">
-        <EmptyState title="No campaigns yet">{emptyHint}</EmptyState>
+        <EmptyState title={emptyTitle}>{emptyHint}</EmptyState>
       </div>
     );
   }

@@ -31,6 +31,11 @@ export function ShiftForm({
     const f = new FormData(e.currentTarget);
     const campaignId = String(f.get('campaignId') ?? '');
     const body = { campaignId: campaignId === '' ? undefined : campaignId, title: String(f.get('title') ?? '') };
+    if (!body.campaignId) {
+      setError(null);
+      setFields({ campaignId: 'Choose the campaign this shift belongs to.' });
+      return;
+    }
     setPending(true);
     setError(null);
     setFields({});
@@ -57,7 +62,7 @@ export function ShiftForm({
           <select
             id={id}
             name="campaignId"
-            defaultValue={defaultCampaignId ?? ''}
+            defaultValue={defaultCampaignId ?? (campaigns.length === 1 ? campaigns[0]?.id : undefined) ?? ''}
             aria-describedby={describedBy}
             aria-invalid={invalid || undefined}
             className={inputClass(invalid)}

@@ -52,7 +52,7 @@ export function StepTable({
                 className={`cursor-pointer ${s.index === selected ? 'bg-lobe-50' : 'hover:bg-ink-50'}`}
                 aria-selected={s.index === selected}
               >
-                <td className={td}>{s.index}</td>
+                <td className={td}>{s.index + 1}</td>
                 <td className={td}>{formatNumber(s.value, 4)}</td>
                 <td className={td}>{formatNumber(s.total_counts, 3)}</td>
                 {hasOffset ? (

@@ -22,7 +22,7 @@ export function Forbidden({
         {message}
       </p>
       <p className="mt-1 text-small text-ink-500">
-        If you think you should have access, ask a PI of the team or an administrator.
+        If you think you should have access, ask the team's PI or a Lobeline administrator.
       </p>
       <div className="mt-5 flex justify-center">
         <LinkButton href="/" variant="secondary">

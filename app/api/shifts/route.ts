@@ -1,14 +1,15 @@
 // POST /api/shifts { campaignId, title? }: opens a shift on a campaign (operators and analysts of its team).
 import { z } from 'zod';
-import { apiRoute, idParam, jsonResponse } from '@/lib/api/route';
+import { apiRoute, jsonResponse } from '@/lib/api/route';
 import { getCampaignRef, openShift } from '@/lib/db/queries/campaigns';
 import { AppError } from '@/lib/errors';
 import { authorize, can } from '@/lib/policy';
 
 export const dynamic = 'force-dynamic';
 
+const CHOOSE_CAMPAIGN = 'Choose the campaign this shift belongs to.';
 const openShiftBody = z.object({
-  campaignId: idParam,
+  campaignId: z.coerce.number({ error: CHOOSE_CAMPAIGN }).int(CHOOSE_CAMPAIGN).positive(CHOOSE_CAMPAIGN),
   title: z
     .string()
     .trim()
