@@ -26,6 +26,7 @@ const { closeMailTransport } = await import('@/lib/mail/transport');
 const { AuditEvent, Invitation, Membership, PasswordResetToken, SignInAttempt, User } = await import('@/models');
 const meRoute = await import('@/app/api/me/route');
 const campaignsRoute = await import('@/app/api/campaigns/route');
+const shiftsRoute = await import('@/app/api/shifts/route');
 const resetRoute = await import('@/app/api/auth/password-reset/route');
 const resetCompleteRoute = await import('@/app/api/auth/password-reset/complete/route');
 const acceptRoute = await import('@/app/api/auth/invitations/accept/route');
@@ -239,6 +240,19 @@ describe('sessions', () => {
     const [row] = await auditRows({ action: 'auth.access_refused', actor_id: w.users.operator, ip });
     expect(row).toMatchObject({ outcome: 'refused', team_id: w.teamB });
     expect(row?.details).toMatchObject({ method: 'GET', path: '/api/campaigns', action: 'campaign.view' });
+
+    // another team's campaign by id: answered like a missing one (404), audited like a refusal
+    const ip2 = freshIp();
+    const s = await callRoute(shiftsRoute.POST, {
+      method: 'POST',
+      path: '/api/shifts',
+      body: { campaignId: w.campaignB },
+      ip: ip2,
+    });
+    expect(s.status).toBe(404);
+    const [hidden] = await auditRows({ action: 'auth.access_refused', actor_id: w.users.operator, ip: ip2 });
+    expect(hidden).toMatchObject({ outcome: 'refused', team_id: w.teamB });
+    expect(hidden?.details).toMatchObject({ method: 'POST', path: '/api/shifts', code: 'not_found:campaign' });
   });
 });
 

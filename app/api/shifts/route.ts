@@ -28,7 +28,11 @@ export const POST = apiRoute({ body: openShiftBody }, async ({ actor, body, ip }
   const campaign = await getCampaignRef({ campaignId: body.campaignId });
   // Another team's campaign looks the same as a missing one, unless the caller may see its metadata.
   if (!campaign || !can(actor, 'campaign.view', { teamId: campaign.teamId })) {
-    throw new AppError('not_found:campaign', { details: ['campaignId: There is no such campaign in your teams.'] });
+    throw new AppError('not_found:campaign', {
+      details: ['campaignId: There is no such campaign in your teams.'],
+      // an existing campaign of another team: audited like a 403 (lib/api/route.ts), answered like a missing one
+      context: campaign ? { action: 'shift.open', teamId: campaign.teamId, hiddenRefusal: true } : undefined,
+    });
   }
   authorize(actor, 'shift.open', { teamId: campaign.teamId });
   if (campaign.status !== 'active') {
