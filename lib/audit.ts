@@ -12,6 +12,7 @@ export const AUDIT_ACTIONS = [
   'auth.password_reset_requested',
   'auth.password_reset',
   'auth.access_refused',
+  'auth.session_rejected',
   'invitation.created',
   'invitation.accepted',
   'invitation.revoked',

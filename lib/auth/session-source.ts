@@ -30,14 +30,29 @@ export function testSessionSource(): SessionSource | null {
  * Used by tests to exercise the real token check, and usable by any server code holding a raw cookie.
  */
 export async function claimsFromSessionToken(token: string): Promise<SessionClaims | null> {
+  const r = await inspectSessionToken(token);
+  return 'claims' in r ? r.claims : null;
+}
+
+/** Why a session token was not accepted: past its expiry, or not a token signed with our secret at all. */
+export type SessionRejection = 'expired' | 'invalid';
+
+/** Like claimsFromSessionToken, but says why a token is refused (for the audit trail). */
+export async function inspectSessionToken(
+  token: string,
+): Promise<{ claims: SessionClaims } | { rejected: SessionRejection }> {
+  let decoded: Awaited<ReturnType<typeof decode>>;
   try {
-    const decoded = await decode({ token, secret: getEnv().NEXTAUTH_SECRET });
-    const userId = decoded?.userId;
-    if (typeof userId !== 'number' || !Number.isInteger(userId) || userId <= 0) return null;
-    const exp = decoded?.exp;
-    if (typeof exp === 'number' && exp * 1000 < Date.now()) return null;
-    return { userId };
-  } catch {
-    return null;
+    decoded = await decode({ token, secret: getEnv().NEXTAUTH_SECRET });
+  } catch (err) {
+    // jose reports an expired but authentic token as JWTExpired (code ERR_JWT_EXPIRED); anything else is forged,
+    // tampered, from another secret or not a token.
+    const code = (err as { code?: string } | null)?.code;
+    return { rejected: code === 'ERR_JWT_EXPIRED' ? 'expired' : 'invalid' };
   }
+  const userId = decoded?.userId;
+  if (typeof userId !== 'number' || !Number.isInteger(userId) || userId <= 0) return { rejected: 'invalid' };
+  const exp = decoded?.exp;
+  if (typeof exp === 'number' && exp * 1000 < Date.now()) return { rejected: 'expired' };
+  return { claims: { userId } };
 }

@@ -1,8 +1,9 @@
 // Accounts and access in the browser (C1), against the test app with the demo seed: each demo role sees what it
 // may (and not what it may not), a forbidden page says so plainly, a wrong password is refused, an expired reset
 // link gives a clear message, and an invitation is accepted through the link read from the SMTP catcher.
-import { randomBytes } from 'node:crypto';
+import { createHash, randomBytes } from 'node:crypto';
 import { expect, type Page, test } from '@playwright/test';
+import { encode } from 'next-auth/jwt';
 import { getDb } from '@/lib/db';
 import { waitForCaughtMessage } from '@/lib/mail/catcher-store';
 import { PasswordResetToken, User } from '@/models';
@@ -120,6 +121,36 @@ test('a wrong password is refused with a plain message', async ({ page }) => {
   await page.getByRole('button', { name: 'Sign in' }).click();
   await expect(page.getByTestId('sign-in-error')).toHaveText('The e-mail address or password is not right.');
   await expect(page).toHaveURL(/\/sign-in/);
+});
+
+test('a forged session cookie is refused and lands in the audit trail', async ({ browser, page }) => {
+  // A token of the right shape, claiming the admin's power, but sealed with a secret that is not the server's.
+  const forged = await encode({
+    token: { userId: 1, email: DEMO.admin, facilityRoles: ['admin'] },
+    secret: `not the server secret ${randomBytes(8).toString('hex')}`,
+    maxAge: 3600,
+  });
+  const intruder = await browser.newContext();
+  await intruder.addCookies([{ name: 'next-auth.session-token', value: forged, url: 'http://127.0.0.1:3100' }]);
+  const me = await intruder.request.get('/api/me');
+  expect(me.status()).toBe(401);
+  expect(((await me.json()) as { error?: { message?: string } }).error?.message).toMatch(/sign in/i);
+  const p = await intruder.newPage();
+  await p.goto('/admin/users');
+  await expect(p).toHaveURL(/\/sign-in/);
+  await intruder.close();
+
+  await signIn(page, DEMO.admin);
+  await expect(async () => {
+    const r = await page.request.get('/api/audit?action=auth.session_rejected&pageSize=5');
+    expect(r.ok()).toBeTruthy();
+    const body = (await r.json()) as { events: { outcome: string; details: { reason?: string; token?: string } }[] };
+    const digest = createHash('sha256').update(forged).digest('hex').slice(0, 12);
+    expect(body.events.find((e) => e.details?.token === `sha256:${digest}`)).toMatchObject({
+      outcome: 'refused',
+      details: { reason: 'invalid' },
+    });
+  }).toPass({ timeout: 10_000 });
 });
 
 test('an expired reset link says so', async ({ page }) => {
