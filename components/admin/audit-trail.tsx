@@ -1,7 +1,7 @@
 'use client';
 
 import { keepPreviousData, useQuery } from '@tanstack/react-query';
-import { useState } from 'react';
+import { type ReactNode, useState } from 'react';
 import { Badge } from '@/components/ui/badge';
 import { DataTable } from '@/components/ui/data-table';
 import { EmptyState } from '@/components/ui/empty-state';
@@ -9,6 +9,8 @@ import { ErrorState } from '@/components/ui/error-state';
 import { inputClass } from '@/components/ui/input-class';
 import { Panel } from '@/components/ui/panel';
 import { apiFetch } from '@/lib/api/client';
+import type { AuditAction } from '@/lib/audit';
+import { formatBytes, formatDateTime } from '@/lib/format';
 
 interface AuditRow {
   id: number;
@@ -39,13 +41,149 @@ const ACTION_GROUPS: { value: string; label: string }[] = [
   { value: 'reduction.', label: 'Reductions' },
 ];
 
-function summarize(details: Record<string, unknown> | null): string {
-  if (!details) return '';
-  return Object.entries(details)
-    .filter(([, v]) => v !== null && v !== undefined && typeof v !== 'object')
-    .slice(0, 4)
-    .map(([k, v]) => `${k}: ${String(v)}`)
-    .join(' · ');
+/** Plain words for every kind of event; the code itself stays in a tooltip for admins who search the logs. */
+const ACTION_WORDS: Record<AuditAction, string> = {
+  'auth.sign_in': 'Signed in',
+  'auth.sign_in_failed': 'Sign-in failed',
+  'auth.sign_out': 'Signed out',
+  'auth.password_reset_requested': 'Asked for a password reset',
+  'auth.password_reset': 'Password reset',
+  'auth.access_refused': 'Access refused',
+  'auth.session_rejected': 'Session refused',
+  'invitation.created': 'Invitation sent',
+  'invitation.accepted': 'Invitation accepted',
+  'invitation.revoked': 'Invitation withdrawn',
+  'user.created': 'Account created',
+  'user.updated': 'Account changed',
+  'user.deactivated': 'Account deactivated',
+  'team.created': 'Team created',
+  'team.updated': 'Team changed',
+  'membership.added': 'Member added',
+  'membership.changed': 'Member role changed',
+  'membership.removed': 'Member removed',
+  'facility_role.granted': 'Facility role granted',
+  'facility_role.revoked': 'Facility role withdrawn',
+  'campaign.created': 'Campaign created',
+  'campaign.updated': 'Campaign changed',
+  'shift.opened': 'Shift opened',
+  'shift.closed': 'Shift closed',
+  'shift.log_added': 'Shift log entry',
+  'file.uploaded': 'File uploaded',
+  'file.duplicate_linked': 'Duplicate file linked',
+  'file.quarantined': 'File quarantined',
+  'file.released': 'File released',
+  'file.replaced': 'File replaced',
+  'calibration.created': 'Calibration version created',
+  'calibration.approved': 'Calibration version approved',
+  'settings.created': 'Analysis settings created',
+  'settings.approved': 'Analysis settings approved',
+  'reduction.requested': 'Reduction requested',
+  'reduction.batch_requested': 'Batch reduction requested',
+  'reduction.completed': 'Reduction finished',
+  'reduction.failed': 'Reduction failed',
+  'scan.flagged': 'Scan flagged',
+  'file.archived': 'File archived',
+  'file.restored': 'File restored',
+  'file.retention_set': 'Retention set',
+  'file.fixity_checked': 'Fixity checked',
+  'file.deletion_requested': 'Deletion requested',
+  'file.deleted': 'File deleted',
+  'export.created': 'Export created',
+};
+
+const TARGET_WORDS: Record<string, string> = {
+  raw_file: 'File',
+  upload: 'Upload',
+  scan: 'Scan',
+  shift: 'Shift',
+  campaign: 'Campaign',
+  team: 'Team',
+  user: 'Account',
+  invitation: 'Invitation',
+};
+
+const DETAIL_WORDS: Record<string, string> = {
+  fileName: 'file',
+  sizeBytes: 'size',
+  sha256: 'SHA-256',
+  shiftId: 'shift',
+  scanId: 'scan',
+  scans: 'scans',
+  campaignId: 'campaign',
+  calibrationId: 'calibration',
+  settingsId: 'settings',
+  reductionJobId: 'reduction job',
+  resultId: 'result',
+  batchId: 'batch',
+  offsetDeg: 'offset',
+  version: 'version',
+  previousId: 'replaces',
+  replacedBy: 'replaced by',
+  entryId: 'log entry',
+  invitationId: 'invitation',
+  wavelengthNm: 'wavelength',
+  facilityRole: 'facility role',
+  sameTeam: 'same team',
+  limitedBy: 'limited by',
+  reasonsBefore: 'problems before',
+  reason: 'why',
+  attempts: 'attempts',
+  message: 'message',
+  queued: 'queued',
+  cancelled: 'cancelled',
+  abandoned: 'not stored',
+  token: 'session token',
+};
+
+const words = (code: string) => code.replace(/_/g, ' ');
+
+function detailValue(key: string, v: unknown): ReactNode {
+  if (typeof v === 'boolean') return v ? 'yes' : 'no';
+  if (typeof v === 'number') {
+    if (key.endsWith('Bytes')) return formatBytes(v);
+    if (key.endsWith('Deg')) return `${v.toFixed(2).replace('-', '−')}°`;
+    if (key === 'wavelengthNm') return `${v} nm`;
+    if (key.endsWith('Id') || key === 'version') return `#${v}`;
+    return Number.isInteger(v) ? String(v) : v.toPrecision(4).replace('-', '−');
+  }
+  if (typeof v === 'string') {
+    if (key === 'sha256' && /^[0-9a-f]{64}$/i.test(v)) {
+      return (
+        <span className="font-mono" title={v}>
+          {v.slice(0, 12)}…{v.slice(-4)}
+        </span>
+      );
+    }
+    return key === 'reason' || key === 'role' || key === 'to' || key === 'from' || key === 'stage' ? words(v) : v;
+  }
+  if (Array.isArray(v) && v.every((x) => typeof x === 'string')) return v.length ? v.join('; ') : null;
+  return null; // nested objects (e.g. a metadata override) are not summarised here
+}
+
+function Details({ action, details }: { action: string; details: Record<string, unknown> | null }) {
+  if (!details) return null;
+  const reasons = Array.isArray(details.reasons) ? details.reasons.filter((x) => typeof x === 'string') : [];
+  const parts = Object.entries(details)
+    .filter(([k, v]) => k !== 'reasons' && v !== null && v !== undefined)
+    .map(([k, v]) => [k, detailValue(k, v)] as const)
+    .filter(([, v]) => v !== null && v !== '')
+    .slice(0, 5);
+  return (
+    <>
+      {reasons.length ? (
+        <span className={action === 'file.quarantined' ? 'block text-flare-700' : 'block'}>
+          {action === 'file.quarantined' ? 'Why: ' : 'Problems: '}
+          {reasons.join('; ')}
+        </span>
+      ) : null}
+      {parts.map(([k, v], i) => (
+        <span key={k}>
+          {i > 0 ? ' · ' : ''}
+          <span className="text-ink-500">{DETAIL_WORDS[k] ?? words(k)}</span> {v}
+        </span>
+      ))}
+    </>
+  );
 }
 
 export function AuditTrail({ scopeNote }: { scopeNote: string }) {
@@ -127,9 +265,17 @@ export function AuditTrail({ scopeNote }: { scopeNote: string }) {
               key: 'at',
               header: 'When',
               className: 'whitespace-nowrap tabular-nums',
-              render: (r) => new Date(r.at).toLocaleString('en-GB', { dateStyle: 'medium', timeStyle: 'medium' }),
+              render: (r) => <span title={r.at}>{formatDateTime(r.at)}</span>,
             },
-            { key: 'action', header: 'Event', className: 'font-mono text-micro', render: (r) => r.action },
+            {
+              key: 'action',
+              header: 'Event',
+              render: (r) => (
+                <span title={r.action} data-action={r.action}>
+                  {ACTION_WORDS[r.action as AuditAction] ?? words(r.action)}
+                </span>
+              ),
+            },
             { key: 'actor', header: 'Who', render: (r) => r.actorEmail ?? <span className="text-ink-400">—</span> },
             { key: 'team', header: 'Team', render: (r) => r.teamName ?? <span className="text-ink-400">—</span> },
             {
@@ -137,7 +283,11 @@ export function AuditTrail({ scopeNote }: { scopeNote: string }) {
               header: 'Object',
               className: 'whitespace-nowrap',
               render: (r) =>
-                r.targetType ? `${r.targetType} ${r.targetId ?? ''}` : <span className="text-ink-400">—</span>,
+                r.targetType ? (
+                  `${TARGET_WORDS[r.targetType] ?? words(r.targetType)}${r.targetId ? ` #${r.targetId}` : ''}`
+                ) : (
+                  <span className="text-ink-400">—</span>
+                ),
             },
             {
               key: 'outcome',
@@ -151,8 +301,8 @@ export function AuditTrail({ scopeNote }: { scopeNote: string }) {
             {
               key: 'details',
               header: 'Details',
-              className: 'max-w-[22rem] break-all text-ink-600',
-              render: (r) => summarize(r.details),
+              className: 'max-w-[26rem] break-words',
+              render: (r) => <Details action={r.action} details={r.details} />,
             },
           ]}
         />

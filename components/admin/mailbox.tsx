@@ -8,6 +8,7 @@ import { ErrorState } from '@/components/ui/error-state';
 import { LoadingBlock } from '@/components/ui/loading-block';
 import { Panel } from '@/components/ui/panel';
 import { apiFetch } from '@/lib/api/client';
+import { formatDateTime } from '@/lib/format';
 
 interface Summary {
   id: string;
@@ -79,7 +80,7 @@ export function Mailbox() {
                 >
                   <span className="block truncate text-small font-medium text-ink-900">{m.subject}</span>
                   <span className="block truncate text-micro text-ink-500">
-                    to {m.to.join(', ')} · {new Date(m.date).toLocaleString('en-GB')}
+                    to {m.to.join(', ')} · {formatDateTime(m.date)}
                   </span>
                 </button>
               </li>

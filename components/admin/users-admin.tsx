@@ -10,6 +10,7 @@ import { inputClass } from '@/components/ui/input-class';
 import { LoadingBlock } from '@/components/ui/loading-block';
 import { Panel } from '@/components/ui/panel';
 import { ApiError, apiFetch, detailsByField } from '@/lib/api/client';
+import { formatDay } from '@/lib/format';
 
 type TeamRole = 'operator' | 'analyst' | 'pi';
 type FacilityRole = 'steward' | 'admin';
@@ -42,8 +43,7 @@ const ROLE: Record<TeamRole, string> = { operator: 'Operator', analyst: 'Analyst
 const FACILITY: Record<FacilityRole, string> = { steward: 'Data steward', admin: 'Administrator' };
 const PAGE = 40;
 const msg = (e: unknown) => (e instanceof Error ? e.message : 'Something went wrong.');
-const day = (iso: string | null) =>
-  iso ? new Date(iso).toLocaleDateString('en-GB', { day: 'numeric', month: 'short', year: 'numeric' }) : '—';
+const day = (iso: string | null) => formatDay(iso);
 
 export function UsersAdmin({ selfId }: { selfId: number }) {
   const qc = useQueryClient();
@@ -121,7 +121,7 @@ export function UsersAdmin({ selfId }: { selfId: number }) {
               type="search"
               value={filter}
               onChange={(e) => setFilter(e.target.value)}
-              placeholder="Find by name, e-mail or team"
+              placeholder="Name, e-mail or team"
               className={`${inputClass()} h-8 w-64 py-0 text-small`}
             />
           </>

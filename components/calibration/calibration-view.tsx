@@ -7,10 +7,10 @@ import { useState } from 'react';
 import { BatchesPanel } from '@/components/campaign/batches-panel';
 import type { CampaignResponse } from '@/components/campaign/types';
 import { formatNumber } from '@/components/plots/scales';
-import { formatDate } from '@/components/scans/format';
 import { Badge, Button, EmptyState, ErrorState, LoadingBlock, PageHeader, Panel } from '@/components/ui';
 import { apiFetch } from '@/lib/api/client';
 import type { VersionDto, VersionKind } from '@/lib/db/queries/calibrations';
+import { formatDateTime } from '@/lib/format';
 import { parseCalibration, parseSettings } from '@/reduction/formats';
 import { VersionEditor } from './version-editor';
 
@@ -120,10 +120,10 @@ function VersionList({
               </div>
               <p className="font-mono text-micro text-ink-600">{summary(kind, v.body)}</p>
               <p className="text-micro text-ink-500">
-                {v.note ? `“${v.note}” · ` : ''}created {formatDate(v.createdAt)}
+                {v.note ? `“${v.note}” · ` : ''}created {formatDateTime(v.createdAt)}
                 {v.createdBy ? ` by ${v.createdBy}` : ''}
                 {v.approvedAt
-                  ? ` · approved ${formatDate(v.approvedAt)}${v.approvedBy ? ` by ${v.approvedBy}` : ''}`
+                  ? ` · approved ${formatDateTime(v.approvedAt)}${v.approvedBy ? ` by ${v.approvedBy}` : ''}`
                   : ''}
               </p>
             </li>
@@ -151,8 +151,8 @@ export function CalibrationView({ campaignId }: { campaignId: number }) {
     <div className="space-y-6">
       <PageHeader
         eyebrow={
-          <Link href={`/campaigns/${c.id}`} className="hover:underline">
-            {c.name}
+          <Link href={`/campaigns/${c.id}`} className="hover:underline" data-testid="back-to-campaign">
+            ← {c.name}
           </Link>
         }
         title="Calibration and settings"

@@ -1,9 +1,9 @@
 'use client';
 // Re-reducing the whole campaign with the current approved versions, and the progress of recent batches.
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
-import { formatDate } from '@/components/scans/format';
 import { Button, ErrorState } from '@/components/ui';
 import { apiFetch } from '@/lib/api/client';
+import { formatDateTime } from '@/lib/format';
 import type { BatchDto } from './types';
 
 export function BatchesPanel({
@@ -58,7 +58,7 @@ export function BatchesPanel({
           <div key={b.id} className="text-small">
             <div className="flex justify-between text-ink-700">
               <span>
-                Batch {b.id}: cal v{b.calibrationVersion} · set v{b.settingsVersion} · {formatDate(b.createdAt)}
+                Batch {b.id}: cal v{b.calibrationVersion} · set v{b.settingsVersion} · {formatDateTime(b.createdAt)}
               </span>
               <span>
                 {b.succeeded} done{b.failed ? `, ${b.failed} failed` : ''} of {b.total}

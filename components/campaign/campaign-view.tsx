@@ -2,10 +2,11 @@
 // The campaign page: conditions and current versions, counts per state, shifts, the scan table and the trend.
 import { useQuery } from '@tanstack/react-query';
 import Link from 'next/link';
-import { EXPERIMENT_LABELS, formatDate } from '@/components/scans/format';
+import { EXPERIMENT_LABELS } from '@/components/scans/format';
 import { SCAN_STATUS_LABELS, SCAN_STATUS_ORDER } from '@/components/scans/status-badge';
 import { Badge, ErrorState, LinkButton, LoadingBlock, PageHeader, Panel } from '@/components/ui';
 import { apiFetch } from '@/lib/api/client';
+import { formatDateTime } from '@/lib/format';
 import { BatchesPanel } from './batches-panel';
 import { ScansTable } from './scans-table';
 import { TrendPanel } from './trend-panel';
@@ -82,7 +83,7 @@ export function CampaignView({ campaignId }: { campaignId: number }) {
                   </Link>
                   <span className="text-ink-500">
                     {s.scanCount} scan{s.scanCount === 1 ? '' : 's'} ·{' '}
-                    {s.status === 'open' ? 'open' : `closed ${formatDate(s.closedAt)}`}
+                    {s.status === 'open' ? 'open' : `closed ${formatDateTime(s.closedAt)}`}
                   </span>
                 </li>
               ))}

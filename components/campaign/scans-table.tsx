@@ -5,11 +5,12 @@ import Link from 'next/link';
 import { useRouter } from 'next/navigation';
 import { useEffect, useState } from 'react';
 import { formatNumber } from '@/components/plots/scales';
-import { formatDate, valueWithError } from '@/components/scans/format';
+import { valueWithError } from '@/components/scans/format';
 import { SCAN_STATUS_LABELS, SCAN_STATUS_ORDER, ScanStatusBadge } from '@/components/scans/status-badge';
 import { DataTable, type DataTableColumn, EmptyState, ErrorState, type SortDirection } from '@/components/ui';
 import { inputClass } from '@/components/ui/input-class';
 import { apiFetch } from '@/lib/api/client';
+import { formatDateTime } from '@/lib/format';
 import type { CampaignResponse, ScanPage, ScanRowDto } from './types';
 
 const PAGE_SIZE = 25;
@@ -84,12 +85,13 @@ export function ScansTable({ campaignId, overview }: { campaignId: number; overv
       header: 'Offset (deg)',
       sortable: true,
       align: 'right',
-      className: 'font-mono whitespace-nowrap',
+      // the header keeps the table's own type; only the figures are monospace
+      className: 'whitespace-nowrap',
       render: (r) =>
         r.status === 'failed' ? (
-          <span className="font-sans text-fault-700">failed</span>
+          <span className="text-fault-700">failed</span>
         ) : (
-          valueWithError(r.offsetDeg, r.offsetErrDeg)
+          <span className="font-mono">{valueWithError(r.offsetDeg, r.offsetErrDeg)}</span>
         ),
     },
     {
@@ -102,14 +104,14 @@ export function ScansTable({ campaignId, overview }: { campaignId: number; overv
       key: 'started',
       header: 'Recorded',
       sortable: true,
-      render: (r) => formatDate(r.startedAt),
+      render: (r) => formatDateTime(r.startedAt),
       className: 'whitespace-nowrap',
     },
     {
       key: 'uploaded',
       header: 'Uploaded',
       sortable: true,
-      render: (r) => formatDate(r.uploadedAt),
+      render: (r) => formatDateTime(r.uploadedAt),
       className: 'whitespace-nowrap',
     },
   ];

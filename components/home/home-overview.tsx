@@ -9,7 +9,8 @@ import { LinkButton } from '@/components/ui/link-button';
 import { LoadingBlock } from '@/components/ui/loading-block';
 import { Panel } from '@/components/ui/panel';
 import { ApiError, apiFetch } from '@/lib/api/client';
-import { formatDateTime, formatWavelength, KIND_LABEL, ROLE_LABEL } from './labels';
+import { formatDateTime } from '@/lib/format';
+import { formatWavelength, KIND_LABEL, ROLE_LABEL } from './labels';
 import type { CampaignsResponse, MeResponse } from './types';
 
 const errorMessage = (e: unknown) => (e instanceof ApiError || e instanceof Error ? e.message : 'Unknown error.');

@@ -18,9 +18,3 @@ export const ROLE_LABEL: Record<string, string> = {
 export function formatWavelength(nm: number): string {
   return `${Number.isInteger(nm) ? nm : nm.toFixed(1)} nm`;
 }
-
-export function formatDateTime(iso: string): string {
-  const d = new Date(iso);
-  if (Number.isNaN(d.getTime())) return '';
-  return d.toLocaleString('en-GB', { day: 'numeric', month: 'short', hour: '2-digit', minute: '2-digit' });
-}

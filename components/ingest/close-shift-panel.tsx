@@ -3,17 +3,42 @@
 import { useState } from 'react';
 import { Badge, Button, Panel } from '@/components/ui';
 import { ApiError, apiFetch } from '@/lib/api/client';
+import { formatBytes, formatDateTime } from '@/lib/format';
 import type { Receipt } from '@/lib/ingest/receipt';
-import { formatBytes, formatTime } from './format';
+
+/** First 12 and last 4 hex digits; the full value is in the tooltip and goes to the clipboard with one click. */
+function ShortHash({ value }: { value: string }) {
+  const [copied, setCopied] = useState(false);
+  return (
+    <span className="inline-flex items-center gap-1.5 whitespace-nowrap" data-sha256={value}>
+      <span className="font-mono text-micro text-ink-600" title={value}>
+        {value.slice(0, 12)}…{value.slice(-4)}
+      </span>
+      <button
+        type="button"
+        className="rounded px-1 text-micro text-lobe-700 ring-1 ring-ink-200 hover:bg-ink-50"
+        aria-label={`Copy the full SHA-256 ${value}`}
+        onClick={() => {
+          void navigator.clipboard?.writeText(value).then(() => {
+            setCopied(true);
+            setTimeout(() => setCopied(false), 1500);
+          });
+        }}
+      >
+        {copied ? 'copied' : 'copy'}
+      </button>
+    </span>
+  );
+}
 
 export function ReceiptView({ receipt, mailedAt }: { receipt: Receipt; mailedAt: string | null }) {
   return (
     <div className="space-y-3" data-testid="receipt">
       <p className="text-small text-ink-700">
-        Closed {formatTime(receipt.closedAt)}
+        Closed {formatDateTime(receipt.closedAt)}
         {receipt.closedBy ? ` by ${receipt.closedBy}` : ''}.{' '}
         {mailedAt
-          ? `Receipt e-mailed ${formatTime(mailedAt)} to the operator and the team's analysts.`
+          ? `Receipt e-mailed ${formatDateTime(mailedAt)} to the operator and the team's analysts.`
           : 'The receipt e-mail has not been sent yet.'}
       </p>
       <p className="text-small text-ink-700">
@@ -21,25 +46,31 @@ export function ReceiptView({ receipt, mailedAt }: { receipt: Receipt; mailedAt:
         <span className="text-fault-700">{receipt.totals.quarantined} quarantined</span>, {receipt.totals.duplicates}{' '}
         linked duplicates.
       </p>
-      <table className="w-full text-left text-small">
+      <table className="w-full table-fixed text-left text-small">
         <thead className="text-micro text-ink-500">
           <tr>
             <th className="py-1 pr-3">File</th>
-            <th className="pr-3">Size</th>
-            <th className="pr-3">SHA-256</th>
-            <th>Verdict</th>
+            <th className="w-24 pr-3">Size</th>
+            <th className="w-52 pr-3">SHA-256</th>
+            <th className="w-[40%]">Verdict</th>
           </tr>
         </thead>
         <tbody className="divide-y divide-ink-100">
           {receipt.lines.map((l) => (
             <tr key={l.scanId} className="align-top">
               <td className="py-1.5 pr-3">
-                <a className="text-lobe-700 hover:underline" href={`/scans/${l.scanId}`}>
+                <a
+                  className="block truncate whitespace-nowrap text-lobe-700 hover:underline"
+                  href={`/scans/${l.scanId}`}
+                  title={l.fileName}
+                >
                   {l.fileName}
                 </a>
               </td>
-              <td className="pr-3 whitespace-nowrap">{formatBytes(l.sizeBytes)}</td>
-              <td className="max-w-64 pr-3 font-mono text-micro break-all text-ink-500">{l.sha256}</td>
+              <td className="py-1.5 pr-3 whitespace-nowrap">{formatBytes(l.sizeBytes)}</td>
+              <td className="py-1.5 pr-3">
+                <ShortHash value={l.sha256} />
+              </td>
               <td>
                 <Badge tone={l.verdict === 'quarantined' ? 'bad' : l.verdict === 'replaced' ? 'neutral' : 'good'}>
                   {l.verdict}

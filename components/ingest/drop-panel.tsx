@@ -1,6 +1,7 @@
 'use client';
 
 import { useDropzone } from 'react-dropzone';
+import { displayUnits } from '@/components/scans/format';
 import { Badge, Button, Panel } from '@/components/ui';
 import { checkAgainstLog } from '@/lib/ingest/log-check';
 import type { LogEntryDto, UnfinishedUploadDto } from '@/lib/ingest/types';
@@ -89,6 +90,8 @@ function ItemRow({
           {resumable && item.phase === 'ready' ? <Badge tone="info">continues an unfinished upload</Badge> : null}
           {item.phase === 'done' ? (
             <Verdict item={item} />
+          ) : item.phase === 'ready' && hasProblems ? (
+            <Badge tone="warn">Has problems</Badge>
           ) : (
             <Badge tone={item.phase === 'failed' ? 'bad' : 'neutral'}>{PHASE_WORDS[item.phase]}</Badge>
           )}
@@ -114,7 +117,7 @@ function ItemRow({
               <dt className="text-micro text-ink-500">Steps</dt>
               <dd>
                 {s.nSteps} × {s.stepQuantity?.replace('_', ' ')}
-                {s.stepUnits && s.stepUnits !== '1' ? ` (${s.stepUnits})` : ''}
+                {s.stepUnits && s.stepUnits !== '1' ? ` (${displayUnits(s.stepUnits)})` : ''}
               </dd>
             </div>
             <div>

@@ -1,5 +1,5 @@
 // Small display helpers of the shift page.
-export { formatBytes } from '@/lib/ingest/receipt';
+export { formatBytes } from '@/lib/format';
 
 export function formatDuration(seconds: number): string {
   if (!Number.isFinite(seconds) || seconds < 0) return '—';
@@ -21,9 +21,3 @@ export const KIND_WORDS: Record<string, string> = {
   two_color_phase: 'Two-colour phase',
   image: 'Single image',
 };
-
-export function formatTime(iso: string | null): string {
-  if (!iso) return '—';
-  const d = new Date(iso);
-  return `${d.toLocaleString('en-GB', { dateStyle: 'medium', timeStyle: 'short', timeZone: 'UTC' })} UTC`;
-}

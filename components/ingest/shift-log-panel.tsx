@@ -3,8 +3,8 @@
 import { useState } from 'react';
 import { Button, Field, inputClass, Panel } from '@/components/ui';
 import { ApiError, apiFetch } from '@/lib/api/client';
+import { formatDateTime } from '@/lib/format';
 import type { LogEntryDto } from '@/lib/ingest/types';
-import { formatTime } from './format';
 
 const NUMBERS = [
   ['wavelengthNm', 'Wavelength (nm)'],
@@ -79,7 +79,7 @@ export function ShiftLogPanel({
           {entries.map((e) => (
             <li key={e.id} className="border-l-2 border-lobe-300 pl-3 text-small" data-testid="log-entry">
               <p className="text-micro text-ink-500">
-                {formatTime(e.notedAt)}
+                {formatDateTime(e.notedAt)}
                 {e.author ? ` · ${e.author}` : ''}
               </p>
               <p className="whitespace-pre-wrap text-ink-800">{e.text}</p>

@@ -124,10 +124,15 @@ export function DistributionsPanel({
           ]}
           guides={step.lobes.flatMap((l, i) => [
             { x: l.angle_deg, color: FIT, label: `lobe ${i + 1}` },
-            ...(l.expected_deg == null ? [] : [{ x: l.expected_deg, color: EXPECTED, label: 'simple man' }]),
+            // unlabelled on the plot (a label there sat on the curve); named in the legend below
+            ...(l.expected_deg == null ? [] : [{ x: l.expected_deg, color: EXPECTED }]),
           ])}
           legend={false}
         />
+        <div className="mt-1 flex flex-wrap gap-x-4 gap-y-1 pl-16 text-micro text-ink-600" data-testid="angular-legend">
+          <LegendDash color={FIT}>fitted lobe direction</LegendDash>
+          <LegendDash color={EXPECTED}>simple-man direction</LegendDash>
+        </div>
         <p className="text-micro text-ink-500">
           Solid line: measured counts; thick line: peak model; dashed verticals: fitted lobe direction (amber) and
           simple-man direction (teal). Offset = fitted − simple-man, positive in the sense of field rotation.
@@ -162,5 +167,17 @@ export function DistributionsPanel({
         />
       </div>
     </div>
+  );
+}
+
+function LegendDash({ color, children }: { color: string; children: string }) {
+  return (
+    <span className="inline-flex items-center gap-1.5">
+      <span
+        className="inline-block h-3 w-0.5"
+        style={{ background: `repeating-linear-gradient(180deg, ${color} 0 4px, transparent 4px 6px)` }}
+      />
+      {children}
+    </span>
   );
 }

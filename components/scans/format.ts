@@ -19,8 +19,13 @@ export const EXPERIMENT_LABELS: Record<string, string> = {
 
 export function stepAxisLabel(quantity: string | null | undefined, units: string | null | undefined): string {
   const q = STEP_QUANTITY_LABELS[quantity ?? ''] ?? quantity ?? 'Step';
-  const u = units === 'W/cm^2' ? 'W/cm²' : units === 'uJ' ? 'µJ' : units;
+  const u = displayUnits(units);
   return u && u !== '1' ? `${q} (${u})` : q;
+}
+
+/** Units as written in scan files (FORMATS.md keeps ASCII, e.g. `W/cm^2`, `uJ`) in their display form. */
+export function displayUnits(units: string | null | undefined): string | null | undefined {
+  return units === 'W/cm^2' ? 'W/cm²' : units === 'uJ' ? 'µJ' : units;
 }
 
 /** `7.91 ± 0.12°` style text; digits of the value follow the error (two significant digits of the error). */
@@ -32,28 +37,25 @@ export function valueWithError(v: number | null | undefined, err: number | null 
   return `${v.toFixed(decimals)} ± ${err.toFixed(decimals)}${unit}`;
 }
 
-export function formatBytes(n: number | null | undefined): string {
-  if (n == null) return '—';
-  const u = ['B', 'kB', 'MB', 'GB', 'TB'];
-  let i = 0;
-  let v = n;
-  while (v >= 1000 && i < u.length - 1) {
-    v /= 1000;
-    i++;
-  }
-  return `${v.toFixed(i === 0 ? 0 : 1)} ${u[i]}`;
-}
+/** Human names of the default phase-scan regions of reduction/regions.ts; other names are the user's own. */
+export const PHASE_REGION_LABELS: Record<string, string> = {
+  all: 'whole image',
+  px_positive: 'p_x > 0',
+  px_negative: 'p_x < 0',
+};
 
-export function formatDate(iso: string | null | undefined): string {
-  if (!iso) return '—';
-  const d = new Date(iso);
-  return d.toLocaleString('en-GB', {
-    year: 'numeric',
-    month: 'short',
-    day: '2-digit',
-    hour: '2-digit',
-    minute: '2-digit',
-  });
+export const regionLabel = (name: string) => PHASE_REGION_LABELS[name] ?? name;
+
+/** Below this relative contrast A₁/A₀ the phase of maximum yield carries no information. */
+export const MIN_PHASE_CONTRAST = 0.005;
+
+/**
+ * `φ₀ = −1.35 rad, contrast 0.273` with a true minus sign, or the plain statement that there is no modulation to
+ * take a phase from.
+ */
+export function phaseText(phaseRad: number, contrast: number): string {
+  if (!Number.isFinite(contrast) || contrast < MIN_PHASE_CONTRAST) return 'phase undefined (no modulation)';
+  return `φ₀ = ${phaseRad.toFixed(2).replace('-', '−')} rad, contrast ${contrast.toFixed(3)}`;
 }
 
 export const HARTREE_EV = 27.211386245988; // CODATA 2018 (SCIENCE.md §1.1)

@@ -11,6 +11,7 @@ import { XYPlot } from '@/components/plots/xy-plot';
 import { Button, ErrorState, LoadingBlock } from '@/components/ui';
 import { apiFetch } from '@/lib/api/client';
 import type { LobelineResult } from '@/reduction/formats';
+import { phaseText, regionLabel } from './format';
 import { decodeFloat32, type ImageResponse, type RegionResponse } from './types';
 
 const MAPS = [
@@ -21,7 +22,10 @@ const MAPS = [
 ] as const;
 type MapKind = (typeof MAPS)[number]['kind'];
 
-const REGION_COLORS = ['#e3770c', '#0f8077', '#5b86cf', '#c266a8', '#98923a'];
+// The result's own regions (dashed): ink-800, lobe-500 and flare-500 of tailwind.config.ts.
+const PICKED_COLORS = ['#253043', '#179f92', '#e3770c'];
+// Regions drawn by the user (solid): data colours that differ from the three above, then flare-700 and lobe-700.
+const REGION_COLORS = ['#5b86cf', '#c266a8', '#98923a', '#9b3d0a', '#116661'];
 
 interface DrawnRegion extends DataRect {
   name: string;
@@ -175,8 +179,8 @@ function RegionCurves({
   const series = [
     ...picked.map((r, i) => ({
       id: `picked-${r.name}`,
-      label: `${r.name} (from the result; φ₀ = ${r.phase_of_max_rad.toFixed(2)} rad, contrast ${r.contrast.toFixed(3)})`,
-      color: ['#253043', '#7a8b9f', '#45546a'][i % 3] as string,
+      label: `${regionLabel(r.name)}, from the result: ${phaseText(r.phase_of_max_rad, r.contrast)}`,
+      color: PICKED_COLORS[i % PICKED_COLORS.length] as string,
       mode: 'both' as const,
       dashed: true,
       points: r.phase_rad.map((p, k) => ({ x: p, y: (r.yield[k] as number) / (r.a0 || 1) })),

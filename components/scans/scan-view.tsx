@@ -8,8 +8,9 @@ import { formatNumber } from '@/components/plots/scales';
 import { XYPlot } from '@/components/plots/xy-plot';
 import { EmptyState, ErrorState, LoadingBlock, PageHeader, Panel } from '@/components/ui';
 import { apiFetch } from '@/lib/api/client';
+import { formatBytes, formatDateTime } from '@/lib/format';
 import { DistributionsPanel } from './distributions-panel';
-import { EXPERIMENT_LABELS, formatBytes, formatDate, stepAxisLabel, valueWithError } from './format';
+import { EXPERIMENT_LABELS, phaseText, regionLabel, stepAxisLabel, valueWithError } from './format';
 import { MomentumPanel } from './momentum-panel';
 import { PhasePanel } from './phase-panel';
 import { ReduceAgain } from './reduce-again';
@@ -154,9 +155,7 @@ export function ScanView({ scanId }: { scanId: number }) {
                     <p className="text-micro tracking-wide text-ink-500 uppercase">Phase of maximum yield by region</p>
                     <p className="font-mono text-small text-ink-900">
                       {result.phase.regions
-                        .map(
-                          (r) => `${r.name}: ${r.phase_of_max_rad.toFixed(2)} rad (contrast ${r.contrast.toFixed(3)})`,
-                        )
+                        .map((r) => `${regionLabel(r.name)}: ${phaseText(r.phase_of_max_rad, r.contrast)}`)
                         .join(' · ')}
                     </p>
                   </div>
@@ -166,7 +165,7 @@ export function ScanView({ scanId }: { scanId: number }) {
                 <div className="text-small text-ink-600">
                   calibration v{resultQ.data.calibrationVersion} · settings v{resultQ.data.settingsVersion}
                   <br />
-                  {formatDate(resultQ.data.createdAt)} · lobeline {result.software.version}
+                  {formatDateTime(resultQ.data.createdAt)} · lobeline {result.software.version}
                 </div>
               </div>
               {results.length > 1 ? (
@@ -263,9 +262,9 @@ export function ScanView({ scanId }: { scanId: number }) {
               )}
             </dd>
             <dt className="text-ink-500">Recorded</dt>
-            <dd>{formatDate(scan.startedAt)}</dd>
+            <dd>{formatDateTime(scan.startedAt)}</dd>
             <dt className="text-ink-500">Uploaded</dt>
-            <dd>{formatDate(scan.uploadedAt)}</dd>
+            <dd>{formatDateTime(scan.uploadedAt)}</dd>
           </dl>
           {can.startReduction ? (
             <div className="mt-4 border-t border-ink-100 pt-3">
@@ -332,7 +331,7 @@ export function ScanView({ scanId }: { scanId: number }) {
             {jobs.map((j) => (
               <li key={j.id} className="flex flex-wrap gap-x-4 px-5 py-2">
                 <span className="w-24 font-medium text-ink-800">{j.status}</span>
-                <span className="text-ink-600">{formatDate(j.createdAt)}</span>
+                <span className="text-ink-600">{formatDateTime(j.createdAt)}</span>
                 <span className="text-ink-600">attempts {j.attempts}</span>
                 {j.errorMessage ? (
                   <span className="w-full whitespace-pre-wrap text-fault-700">{j.errorMessage}</span>

@@ -1,4 +1,5 @@
 // The end-of-shift receipt (C2, C11): the same record in the e-mail (text and HTML) and on the shift page.
+import { formatBytes, formatDateTime } from '@/lib/format';
 import type { ShiftViewDto } from './types';
 
 export interface ReceiptLine {
@@ -24,18 +25,6 @@ export interface Receipt {
   /** Uploads that never finished and were abandoned at closing (not stored). */
   abandoned: { fileName: string; sizeBytes: number }[];
   shiftUrl: string;
-}
-
-/** Bytes in binary units, e.g. `1.50 GiB`. */
-export function formatBytes(n: number): string {
-  const units = ['B', 'KiB', 'MiB', 'GiB', 'TiB'];
-  let v = n;
-  let i = 0;
-  while (v >= 1024 && i < units.length - 1) {
-    v /= 1024;
-    i++;
-  }
-  return i === 0 ? `${n} B` : `${v.toFixed(v >= 100 ? 0 : v >= 10 ? 1 : 2)} ${units[i]}`;
 }
 
 export function buildReceipt(
@@ -82,19 +71,13 @@ const VERDICT_WORDS: Record<ReceiptLine['verdict'], string> = {
   replaced: 'replaced by a later upload',
 };
 
-/** "2026-12-02 06:54 UTC": the receipt goes to people in several time zones, so it names UTC. */
-function utcMinute(iso: string): string {
-  const d = new Date(iso);
-  return Number.isNaN(d.getTime()) ? iso : `${d.toISOString().slice(0, 16).replace('T', ' ')} UTC`;
-}
-
 export function receiptText(r: Receipt): string {
   const out: string[] = [
     `Lobeline shift receipt`,
     ``,
     `Shift:     ${r.shiftTitle}`,
     `Campaign:  ${r.campaignName} (${r.teamName})`,
-    `Closed:    ${r.closedAt ? utcMinute(r.closedAt) : 'not closed'}${r.closedBy ? ` by ${r.closedBy}` : ''}`,
+    `Closed:    ${r.closedAt ? formatDateTime(r.closedAt) : 'not closed'}${r.closedBy ? ` by ${r.closedBy}` : ''}`,
     `Files:     ${r.totals.files} (${formatBytes(r.totals.bytes)}); ${r.totals.accepted} accepted, ${r.totals.quarantined} quarantined, ${r.totals.duplicates} linked duplicates`,
     ``,
   ];
@@ -141,7 +124,7 @@ export function receiptHtml(r: Receipt): string {
     : '';
   return `<!doctype html><html><body style="font-family:system-ui,sans-serif;color:#0f172a;font-size:14px">
 <h1 style="font-size:18px;margin:0 0 8px">Shift receipt — ${esc(r.shiftTitle)}</h1>
-<p style="margin:0 0 12px">${esc(r.campaignName)} · ${esc(r.teamName)} · closed ${esc(r.closedAt ? utcMinute(r.closedAt) : '—')}${r.closedBy ? ` by ${esc(r.closedBy)}` : ''}</p>
+<p style="margin:0 0 12px">${esc(r.campaignName)} · ${esc(r.teamName)} · closed ${esc(r.closedAt ? formatDateTime(r.closedAt) : '—')}${r.closedBy ? ` by ${esc(r.closedBy)}` : ''}</p>
 <p style="margin:0 0 12px">${r.totals.files} files, ${esc(formatBytes(r.totals.bytes))}: ${r.totals.accepted} accepted, <span style="color:#b91c1c">${r.totals.quarantined} quarantined</span>, ${r.totals.duplicates} linked duplicates.</p>
 <table style="border-collapse:collapse;width:100%"><thead><tr style="text-align:left;background:#f1f5f9">
 <th style="padding:6px 8px">File</th><th style="padding:6px 8px">Size</th><th style="padding:6px 8px">SHA-256</th><th style="padding:6px 8px">Verdict</th></tr></thead>

@@ -87,7 +87,10 @@ test('operator drops, sends and closes a shift, and gets the receipt', async ({ 
 
   await page.getByTestId('close-shift-button').click();
   await page.getByTestId('confirm-close').click();
-  await expect(page.getByTestId('receipt')).toContainText(goodSha);
+  // The receipt shows the hash shortened (first 12 + last 4 hex digits) and keeps the full value on the cell.
+  const shaCell = page.getByTestId('receipt').locator(`[data-sha256="${goodSha}"]`);
+  await expect(shaCell).toContainText(`${goodSha.slice(0, 12)}…${goodSha.slice(-4)}`);
+  await expect(shaCell.getByTitle(goodSha)).toBeVisible();
 
   const mail = await waitForCaughtMessage((m) => m.to.includes(OPERATOR) && m.text.includes(goodSha), {
     dir: mailDir,

@@ -1,9 +1,10 @@
 import { notFound, redirect } from 'next/navigation';
-import { formatTime, KIND_WORDS } from '@/components/ingest/format';
+import { KIND_WORDS } from '@/components/ingest/format';
 import { ShiftWorkbench } from '@/components/ingest/shift-workbench';
 import { Badge, PageHeader, SafetyNotice } from '@/components/ui';
 import { getActor } from '@/lib/auth/actor';
 import { AppError } from '@/lib/errors';
+import { formatDateTime } from '@/lib/format';
 import { getShiftReceipt, getShiftView } from '@/lib/ingest/service';
 
 export const dynamic = 'force-dynamic';
@@ -43,10 +44,10 @@ export default async function ShiftPage({ params }: { params: Promise<{ shiftId:
         description={
           <>
             {KIND_WORDS[shift.campaign.experimentKind] ?? shift.campaign.experimentKind} on {shift.campaign.target} at{' '}
-            {shift.campaign.wavelengthNm} nm. Opened {formatTime(shift.openedAt)}
+            {shift.campaign.wavelengthNm} nm. Opened {formatDateTime(shift.openedAt)}
             {shift.openedBy ? ` by ${shift.openedBy}` : ''}
             {shift.closedAt
-              ? `; closed ${formatTime(shift.closedAt)}${shift.closedBy ? ` by ${shift.closedBy}` : ''}`
+              ? `; closed ${formatDateTime(shift.closedAt)}${shift.closedBy ? ` by ${shift.closedBy}` : ''}`
               : ''}
             .{' '}
             <a href={`/campaigns/${shift.campaign.id}`} className="text-lobe-700 hover:underline">
