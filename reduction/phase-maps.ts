@@ -118,7 +118,111 @@ export function accumulateHarmonicsKernel(
 }
 
 /**
- * Creates a streaming accumulator.
+ * Kernel for H = 1 over a block of four frames: acc[3i + …] += Σ_j y_j·(1, cos φ_j, sin φ_j), j = 0 … 3, with
+ * cs[j] = cos φ_j, sn[j] = sin φ_j. One pass over the sums per four frames (the sums, not the frames, dominate the
+ * memory traffic). Allocates nothing.
+ *
+ * @param N - pixels
+ * @param f0 - frame 0 (length ≥ N)
+ * @param f1 - frame 1
+ * @param f2 - frame 2
+ * @param f3 - frame 3
+ * @param cs - cos φ_j, j = 0 … 3
+ * @param sn - sin φ_j, j = 0 … 3
+ * @param acc - sums, length 3N
+ * @returns acc
+ */
+export function accumulateBlock4H1Kernel(
+  N: number,
+  f0: Float64Array,
+  f1: Float64Array,
+  f2: Float64Array,
+  f3: Float64Array,
+  cs: Float64Array,
+  sn: Float64Array,
+  acc: Float64Array,
+): Float64Array {
+  const c0 = cs[0]!;
+  const c1 = cs[1]!;
+  const c2 = cs[2]!;
+  const c3 = cs[3]!;
+  const s0 = sn[0]!;
+  const s1 = sn[1]!;
+  const s2 = sn[2]!;
+  const s3 = sn[3]!;
+  for (let i = 0, o = 0; i < N; i++, o += 3) {
+    const y0 = f0[i]!;
+    const y1 = f1[i]!;
+    const y2 = f2[i]!;
+    const y3 = f3[i]!;
+    acc[o]! += y0 + y1 + (y2 + y3);
+    acc[o + 1]! += y0 * c0 + y1 * c1 + (y2 * c2 + y3 * c3);
+    acc[o + 2]! += y0 * s0 + y1 * s1 + (y2 * s2 + y3 * s3);
+  }
+  return acc;
+}
+
+/**
+ * Kernel for H = 2 over a block of four frames (as {@link accumulateBlock4H1Kernel}); cs[2j + k − 1] = cos kφ_j,
+ * sn[2j + k − 1] = sin kφ_j, k = 1, 2. Allocates nothing.
+ *
+ * @param N - pixels
+ * @param f0 - frame 0 (length ≥ N)
+ * @param f1 - frame 1
+ * @param f2 - frame 2
+ * @param f3 - frame 3
+ * @param cs - cos kφ_j, [j][k]
+ * @param sn - sin kφ_j, [j][k]
+ * @param acc - sums, length 5N
+ * @returns acc
+ */
+export function accumulateBlock4H2Kernel(
+  N: number,
+  f0: Float64Array,
+  f1: Float64Array,
+  f2: Float64Array,
+  f3: Float64Array,
+  cs: Float64Array,
+  sn: Float64Array,
+  acc: Float64Array,
+): Float64Array {
+  const a0 = cs[0]!;
+  const a1 = cs[2]!;
+  const a2 = cs[4]!;
+  const a3 = cs[6]!;
+  const b0 = sn[0]!;
+  const b1 = sn[2]!;
+  const b2 = sn[4]!;
+  const b3 = sn[6]!;
+  const p0 = cs[1]!;
+  const p1 = cs[3]!;
+  const p2 = cs[5]!;
+  const p3 = cs[7]!;
+  const q0 = sn[1]!;
+  const q1 = sn[3]!;
+  const q2 = sn[5]!;
+  const q3 = sn[7]!;
+  for (let i = 0, o = 0; i < N; i++, o += 5) {
+    const y0 = f0[i]!;
+    const y1 = f1[i]!;
+    const y2 = f2[i]!;
+    const y3 = f3[i]!;
+    acc[o]! += y0 + y1 + (y2 + y3);
+    acc[o + 1]! += y0 * a0 + y1 * a1 + (y2 * a2 + y3 * a3);
+    acc[o + 2]! += y0 * b0 + y1 * b1 + (y2 * b2 + y3 * b3);
+    acc[o + 3]! += y0 * p0 + y1 * p1 + (y2 * p2 + y3 * p3);
+    acc[o + 4]! += y0 * q0 + y1 * q1 + (y2 * q2 + y3 * q3);
+  }
+  return acc;
+}
+
+/** Frames per block for H = 1, 2 (higher H: one frame at a time). */
+const BLOCK = 4;
+
+/**
+ * Creates a streaming accumulator. For H ≤ 2 frames are summed in blocks of four: up to three frames are held as
+ * Float64Array copies until the fourth arrives (memory bounded by 4 frames + the sums, whatever the number of steps),
+ * and `finish` adds any held frames first. Results equal frame-by-frame summation up to floating-point reordering.
  *
  * @param nPixels - pixels per frame
  * @param harmonics - harmonics H to accumulate (1 … 8)
@@ -135,8 +239,32 @@ export function createPhaseAccumulator(nPixels: number, harmonics: number): Phas
   const K = 1 + 2 * H;
   const acc = new Float64Array(nPixels * K);
   const phases: number[] = [];
-  const cs = new Float64Array(H);
-  const sn = new Float64Array(H);
+  const blocked = H <= 2;
+  const B = blocked ? BLOCK : 1;
+  // cos kφ_j, sin kφ_j of the frames of the current block, [j][k]
+  const cs = new Float64Array(B * H);
+  const sn = new Float64Array(B * H);
+  // held copies of the block's frames (allocated on first use); held[B − 1] only for a last frame that is not a
+  // Float64Array
+  const held: Float64Array[] = [];
+  let nHeld = 0;
+  const heldFrame = (j: number): Float64Array => {
+    while (held.length <= j) held.push(new Float64Array(nPixels));
+    return held[j]!;
+  };
+  const one = new Float64Array(H);
+  const two = new Float64Array(H);
+  /** Adds the held frames one at a time (end of stream, incomplete block). */
+  const flush = () => {
+    for (let j = 0; j < nHeld; j++) {
+      for (let k = 0; k < H; k++) {
+        one[k] = cs[j * H + k]!;
+        two[k] = sn[j * H + k]!;
+      }
+      accumulateHarmonicsKernel(nPixels, held[j]!, 1, 0, H, one, two, acc);
+    }
+    nHeld = 0;
+  };
   return {
     nPixels,
     harmonics: H,
@@ -144,14 +272,33 @@ export function createPhaseAccumulator(nPixels: number, harmonics: number): Phas
     addFrame(frame, phaseRad) {
       requireLength('frame', frame, nPixels);
       if (!Number.isFinite(phaseRad)) throw new RangeError(`phaseRad must be finite, got ${phaseRad}`);
+      const j = nHeld;
       for (let k = 1; k <= H; k++) {
-        cs[k - 1] = Math.cos(k * phaseRad);
-        sn[k - 1] = Math.sin(k * phaseRad);
+        cs[j * H + k - 1] = Math.cos(k * phaseRad);
+        sn[j * H + k - 1] = Math.sin(k * phaseRad);
       }
-      accumulateHarmonicsKernel(nPixels, frame, 1, 0, H, cs, sn, acc);
       phases.push(phaseRad);
+      if (!blocked) {
+        accumulateHarmonicsKernel(nPixels, frame, 1, 0, H, cs, sn, acc);
+        return;
+      }
+      if (j < B - 1) {
+        heldFrame(j).set(frame);
+        nHeld++;
+        return;
+      }
+      let last: Float64Array;
+      if (frame instanceof Float64Array) last = frame;
+      else {
+        last = heldFrame(B - 1);
+        last.set(frame);
+      }
+      const kernel = H === 1 ? accumulateBlock4H1Kernel : accumulateBlock4H2Kernel;
+      kernel(nPixels, held[0]!, held[1]!, held[2]!, last, cs, sn, acc);
+      nHeld = 0;
     },
     finish({ minCounts, method }) {
+      flush();
       return finishPhaseSums(acc, nPixels, H, phases, minCounts, method);
     },
   };
@@ -195,40 +342,72 @@ export function finishPhaseSums(
   const contrast = new Float32Array(nPixels);
   const h2a = Hu >= 2 ? new Float32Array(nPixels) : undefined;
   const h2p = Hu >= 2 ? new Float32Array(nPixels) : undefined;
-  const t = new Float64Array(Ku);
+  // only the coefficients the maps use: a, c₁, s₁ and (H ≥ 2) c₂, s₂
+  const nT = Math.min(Ku, 5);
   let masked = 0;
-  for (let i = 0; i < nPixels; i++) {
-    const o = i * K;
-    if (inv) {
-      for (let p = 0; p < Ku; p++) {
-        let s = 0;
-        for (let q = 0; q < Ku; q++) s += inv[p * Ku + q]! * acc[o + q]!;
-        t[p] = s;
+  if (!inv && !h2a) {
+    // common case (whole-period sampling, first harmonic only): same arithmetic as below, fewer branches
+    for (let i = 0, o = 0; i < nPixels; i++, o += K) {
+      const a0 = acc[o]! / N;
+      const c1 = (2 * acc[o + 1]!) / N;
+      const s1 = (2 * acc[o + 2]!) / N;
+      mean[i] = a0;
+      if (!(a0 >= minCounts) || !(a0 > 0)) {
+        amplitude[i] = Number.NaN;
+        phaseOfMax[i] = Number.NaN;
+        contrast[i] = Number.NaN;
+        masked++;
+        continue;
       }
-    } else {
-      t[0] = acc[o]! / N;
-      for (let p = 1; p < Ku; p++) t[p] = (2 * acc[o + p]!) / N;
+      const a1 = Math.sqrt(c1 * c1 + s1 * s1);
+      amplitude[i] = a1;
+      phaseOfMax[i] = Math.atan2(s1, c1);
+      contrast[i] = a1 / a0;
     }
-    const a0 = t[0]!;
-    mean[i] = a0;
-    if (!(a0 >= minCounts) || !(a0 > 0)) {
-      amplitude[i] = Number.NaN;
-      phaseOfMax[i] = Number.NaN;
-      contrast[i] = Number.NaN;
+  } else {
+    for (let i = 0, o = 0; i < nPixels; i++, o += K) {
+      let a0: number;
+      let c1: number;
+      let s1: number;
+      let c2 = 0;
+      let s2 = 0;
+      if (inv) {
+        a0 = normalRowDot(inv, Ku, 0, acc, o);
+        c1 = normalRowDot(inv, Ku, 1, acc, o);
+        s1 = normalRowDot(inv, Ku, 2, acc, o);
+        if (nT > 3) {
+          c2 = normalRowDot(inv, Ku, 3, acc, o);
+          s2 = normalRowDot(inv, Ku, 4, acc, o);
+        }
+      } else {
+        a0 = acc[o]! / N;
+        c1 = (2 * acc[o + 1]!) / N;
+        s1 = (2 * acc[o + 2]!) / N;
+        if (nT > 3) {
+          c2 = (2 * acc[o + 3]!) / N;
+          s2 = (2 * acc[o + 4]!) / N;
+        }
+      }
+      mean[i] = a0;
+      if (!(a0 >= minCounts) || !(a0 > 0)) {
+        amplitude[i] = Number.NaN;
+        phaseOfMax[i] = Number.NaN;
+        contrast[i] = Number.NaN;
+        if (h2a && h2p) {
+          h2a[i] = Number.NaN;
+          h2p[i] = Number.NaN;
+        }
+        masked++;
+        continue;
+      }
+      const a1 = Math.sqrt(c1 * c1 + s1 * s1);
+      amplitude[i] = a1;
+      phaseOfMax[i] = Math.atan2(s1, c1);
+      contrast[i] = a1 / a0;
       if (h2a && h2p) {
-        h2a[i] = Number.NaN;
-        h2p[i] = Number.NaN;
+        h2a[i] = Math.sqrt(c2 * c2 + s2 * s2);
+        h2p[i] = Math.atan2(s2, c2);
       }
-      masked++;
-      continue;
-    }
-    const a1 = Math.sqrt(t[1]! * t[1]! + t[2]! * t[2]!);
-    amplitude[i] = a1;
-    phaseOfMax[i] = Math.atan2(t[2]!, t[1]!);
-    contrast[i] = a1 / a0;
-    if (h2a && h2p) {
-      h2a[i] = Math.sqrt(t[3]! * t[3]! + t[4]! * t[4]!);
-      h2p[i] = Math.atan2(t[4]!, t[3]!);
     }
   }
   const maps: PhaseMaps = { mean, amplitude, phase_of_max: phaseOfMax, contrast };
@@ -237,6 +416,13 @@ export function finishPhaseSums(
     maps.harmonic_2_phase = h2p;
   }
   return { method, nPhases: N, periods: sampling.periods, harmonicsUsed: Hu, maps, masked };
+}
+
+/** Row p of the inverse normal matrix (Ku × Ku, row-major) times the sums acc[o … o + Ku − 1]. */
+function normalRowDot(inv: Float64Array, Ku: number, p: number, acc: Float64Array, o: number): number {
+  let s = 0;
+  for (let q = 0, r = p * Ku; q < Ku; q++, r++) s += inv[r]! * acc[o + q]!;
+  return s;
 }
 
 /** Re-export for callers that fit single series the same way as the maps. */

@@ -136,6 +136,25 @@ describe('streaming per-pixel maps against numpy (tests/fixtures/numpy/phase_map
         expectClose(wrapRad(r.maps.harmonic_2_phase![i]! - c.psi2[i]!), 0, 3e-6 * (c.A0[i]! / c.A2[i]!), `ψ2 ${i}`);
     }
   });
+  it('fourier case with H = 1 and Float64Array frames: A0, A1, φ0 per pixel (projection is per harmonic)', () => {
+    // reference: numpy.fft (tests/fixtures/numpy/phase_maps.py); whole-period equal sampling makes the first-harmonic
+    // projection independent of H, so the same values hold for H = 1
+    const c = fx.fourier;
+    const n = fx.nx * fx.ny;
+    const acc = createPhaseAccumulator(n, 1);
+    c.frames.forEach((f, j) => {
+      acc.addFrame(Float64Array.from(f), c.phases[j]!);
+    });
+    const r = acc.finish({ minCounts: 0 });
+    expect(r.method).toBe('fourier');
+    expect(r.maps.harmonic_2_amplitude).toBeUndefined();
+    for (let i = 0; i < n; i++) {
+      expectClose(r.maps.mean[i]!, c.A0[i]!, 2e-7 * c.A0[i]!, `A0 ${i}`);
+      expectClose(r.maps.amplitude[i]!, c.A1[i]!, 2e-7 * c.A0[i]!, `A1 ${i}`);
+      expectClose(wrapRad(r.maps.phase_of_max[i]! - c.phi0[i]!), 0, 3e-6 * (c.A0[i]! / c.A1[i]!), `φ0 ${i}`);
+      expectClose(r.maps.contrast[i]!, c.A1[i]! / c.A0[i]!, 4e-7 * (c.A1[i]! / c.A0[i]!) + 1e-9, `contrast ${i}`);
+    }
+  });
   it('pixels below min_counts are NaN except in the mean map', () => {
     const c = fx.fourier;
     const acc = createPhaseAccumulator(fx.nx * fx.ny, 1);
