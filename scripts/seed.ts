@@ -26,7 +26,7 @@ import { type ExperimentKind, parseCalibration, parseSettings } from '@/reductio
 
 export const DEMO_PASSWORD = 'lobeline-demo';
 
-function loadDotEnv(): void {
+export function loadDotEnv(): void {
   if (process.env.LOBELINE_INSTANCE === 'test') return;
   const file = path.join(REPO_ROOT, '.env');
   if (!existsSync(file)) return;

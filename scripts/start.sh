@@ -6,6 +6,8 @@
 #   4. starts the dev services (scripts/services.ts), migrates, seeds the demo data
 #   5. builds the app (skipped when the build is newer than every source) and runs the web server and the worker
 #      in the foreground. Ctrl-C stops both; the services keep running (`npm stop` stops everything).
+#   6. adds the demo scan files once (scripts/demo-scans.ts; LOBELINE_DEMO_SCANS=0 skips it) and waits for the
+#      worker to reduce them.
 # `bash scripts/start.sh --install-only` does steps 1–2 only (scripts/test.sh uses it).
 set -euo pipefail
 cd "$(dirname "$0")/.."
@@ -204,6 +206,16 @@ if [ $ready -ne 1 ]; then
   exit 1
 fi
 
+# Demo scan files (dev instance only; idempotent): generated, uploaded through the ingest and reduced by the worker.
+DEMO_OUT=$ROOT/.data/dev/demo-scans-output.txt
+rm -f "$DEMO_OUT"
+if [ -f scripts/demo-scans.ts ] && [ -s "$SEED_OUT" ] && [ -n "$WORKER_PID" ] && [ "${LOBELINE_DEMO_SCANS:-1}" != 0 ]; then
+  phase "demo scans (upload, reduce)"
+  if ! "$BIN/tsx" scripts/demo-scans.ts 2>&1 | tee "$DEMO_OUT"; then
+    echo "WARNING: the demo scans could not all be added (see above); Lobeline runs anyway." >&2
+  fi
+fi
+
 echo
 print_phases
 echo
@@ -213,6 +225,7 @@ if [ -s "$SEED_OUT" ]; then
   grep -iE 'sign|password|@' "$SEED_OUT" | sed 's/^/  /' || true
 fi
 [ -z "$WORKER_PID" ] && echo "(No scripts/worker.ts yet: the reduction worker was not started.)"
+[ -s "${DEMO_OUT:-}" ] && grep -E '^demo scans:' "$DEMO_OUT" | tail -n 1 || true
 echo "Mail sent by the app is kept in ${MAIL_CATCHER_DIR:-.data/dev/mail}. Press Ctrl-C to stop the web server and worker."
 
 set +e

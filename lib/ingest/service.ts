@@ -124,10 +124,23 @@ export async function getShiftView(actor: Actor, shiftId: number): Promise<Shift
 
 // START / RESUME //
 
-export async function startUpload(actor: Actor, body: StartUploadBody): Promise<UploadTicketDto> {
+/**
+ * Options of the server-side callers only (scripts; no route handler passes them). `intoClosedShift` lets a script
+ * add files to a past, closed shift (scripts/demo-scans.ts fills the seeded past shifts with demo scans); every
+ * other step (access check, server-chosen key, verification, cataloguing, queueing) is the same as for a browser.
+ */
+export interface ServerUploadOptions {
+  intoClosedShift?: boolean;
+}
+
+export async function startUpload(
+  actor: Actor,
+  body: StartUploadBody,
+  options: ServerUploadOptions = {},
+): Promise<UploadTicketDto> {
   const shift = await loadShift(actor, body.shiftId);
   authorize(actor, 'upload.create', { teamId: shift.teamId, surface: 'upload' });
-  requireOpen(shift);
+  if (!options.intoClosedShift) requireOpen(shift);
 
   let replaces: number | null = null;
   if (body.replacesRawFileId !== undefined) {
@@ -304,6 +317,7 @@ export async function completeUpload(
   uploadId: number,
   clientSha256: string | undefined,
   ip?: string,
+  options: ServerUploadOptions = {},
 ): Promise<UploadOutcomeDto> {
   const upload = await loadOwnUpload(actor, uploadId);
   if (upload.status === 'completed') return previousOutcome(actor, upload);
@@ -316,7 +330,7 @@ export async function completeUpload(
     });
   }
   const shift = await loadShift(actor, upload.shiftId);
-  requireOpen(shift);
+  if (!options.intoClosedShift) requireOpen(shift);
 
   if (upload.multipartUploadId) {
     const parts = await goodParts(upload);

@@ -67,16 +67,24 @@ function poissonFrame(expected: Float64Array, rng: ReturnType<typeof createPrng>
   return expected;
 }
 
+/** Optional wording of `/entry/title` and `/entry/notes/comment` (the demo scans use their own). */
+export interface SynthText {
+  title?: string;
+  comment?: string;
+}
+
 /**
  * Writes the scan of `plan` to `path` (in the runtime's file system) and returns the truth.
  *
  * @param broken - optional broken variant (file-level kinds not_hdf5/truncated are applied by the caller on bytes)
+ * @param text - optional title and note replacing the generator's own
  */
 export function writeSynthScan(
   rt: H5Runtime,
   path: string,
   plan: ScanPlan,
   broken: BrokenKind | null = null,
+  text: SynthText = {},
 ): SynthTruth {
   const o = plan.options;
   const n = o.size;
@@ -102,7 +110,8 @@ export function writeSynthScan(
     writeString(
       entry,
       'title',
-      `Harbor Point Ultrafast Lab synthetic ${o.kind} scan, ${o.target} at ${o.wavelengthNm} nm (seed ${o.seed})`,
+      text.title ??
+        `Harbor Point Ultrafast Lab synthetic ${o.kind} scan, ${o.target} at ${o.wavelengthNm} nm (seed ${o.seed})`,
     );
     const sample = createNxGroup(entry, 'sample', 'NXsample');
     writeString(sample, 'name', o.target);
@@ -124,7 +133,11 @@ export function writeSynthScan(
     writeString(detector, 'description', 'Harbor Point VMI-2 (synthetic): MCP, phosphor screen and camera');
     writeScalar(detector, 'momentum_per_pixel', plan.calibration.momentum_per_pixel_au, 'a.u.');
     const notes = createNxGroup(entry, 'notes', 'NXnote');
-    writeString(notes, 'comment', 'synthetic data with known truth; see the .truth.json file beside this one');
+    writeString(
+      notes,
+      'comment',
+      text.comment ?? 'synthetic data with known truth; see the .truth.json file beside this one',
+    );
 
     const data = createNxGroup(entry, 'data', 'NXdata', { signal: 'counts' });
     data.create_attribute('axes', is3d ? ['step', 'y', 'x'] : ['y', 'x']);

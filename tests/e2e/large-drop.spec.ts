@@ -232,7 +232,10 @@ test('a large file survives a reload mid-upload and is stored byte for byte', as
     await expect(page.getByTestId('stored-files').locator('[data-status=accepted]')).toHaveCount(3);
     await page.getByTestId('close-shift-button').click();
     await page.getByTestId('confirm-close').click();
-    await expect(page.getByTestId('receipt')).toContainText(fileSha);
+    // the receipt table shows the hash shortened, with the full value in the cell's data attribute and title
+    const shaCell = page.getByTestId('receipt').locator(`[data-sha256="${fileSha}"]`);
+    await expect(shaCell).toContainText(`${fileSha.slice(0, 12)}…${fileSha.slice(-4)}`);
+    await expect(shaCell.getByTitle(fileSha)).toBeVisible();
     const mail = await waitForCaughtMessage((m) => m.to.includes(DEMO.operator) && m.text.includes(fileSha), {
       dir: MAIL_DIR,
       timeoutMs: 20_000,
