@@ -279,7 +279,7 @@ export function ScanView({ scanId }: { scanId: number }) {
           {result.steps.length > 1 ? (
             <div className="flex flex-wrap items-center gap-3" data-testid="step-selector">
               <label htmlFor="step-range" className="text-small font-medium text-ink-800">
-                Step {step + 1} of {result.steps.length}
+                Step {step} ({step + 1} of {result.steps.length})
               </label>
               <input
                 id="step-range"

@@ -30,7 +30,7 @@ export function StepTable({
       <table className="min-w-full border-separate border-spacing-0" data-testid="step-table">
         <thead>
           <tr>
-            <th className={th}>#</th>
+            <th className={th} title="step index as in the result JSON, the CSV and the warnings (from 0)">step</th>
             <th className={th}>{stepAxisLabel(result.input.step_quantity, result.input.step_units)}</th>
             <th className={th}>Counts</th>
             {hasOffset ? <th className={th}>Offset (deg)</th> : null}
@@ -52,7 +52,7 @@ export function StepTable({
                 className={`cursor-pointer ${s.index === selected ? 'bg-lobe-50' : 'hover:bg-ink-50'}`}
                 aria-selected={s.index === selected}
               >
-                <td className={td}>{s.index + 1}</td>
+                <td className={td}>{s.index}</td>
                 <td className={td}>{formatNumber(s.value, 4)}</td>
                 <td className={td}>{formatNumber(s.total_counts, 3)}</td>
                 {hasOffset ? (
