@@ -221,8 +221,7 @@ print_phases
 echo
 echo "Lobeline is running at $APP_URL"
 if [ -s "$SEED_OUT" ]; then
-  echo "Demo sign-ins (from the seed):"
-  grep -iE 'sign|password|@' "$SEED_OUT" | sed 's/^/  /' || true
+  grep -iE 'sign|password|@' "$SEED_OUT" || true
 fi
 [ -z "$WORKER_PID" ] && echo "(No scripts/worker.ts yet: the reduction worker was not started.)"
 [ -s "${DEMO_OUT:-}" ] && grep -E '^demo scans:' "$DEMO_OUT" | tail -n 1 || true
