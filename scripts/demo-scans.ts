@@ -13,7 +13,6 @@
 // All values are invented demo values.
 import { createHash } from 'node:crypto';
 import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
-import { register } from 'node:module';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import type { Actor } from '@/lib/policy';
@@ -23,11 +22,7 @@ import type { BrokenKind, SynthText } from '@/reduction/synth/scan-file';
 
 // The data layer imports 'server-only' (a marker that throws outside Next's server bundles); for this Node process
 // it resolves to an empty module. Registered before the data layer is imported (dynamically, below).
-const hook = `export async function resolve(s, c, next) {
-  if (s === 'server-only') return { url: 'data:text/javascript,export{}', shortCircuit: true };
-  return next(s, c);
-}`;
-register(`data:text/javascript,${encodeURIComponent(hook)}`);
+await import('./server-only-shim');
 
 // DEMO FILES //
 

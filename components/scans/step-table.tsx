@@ -30,7 +30,9 @@ export function StepTable({
       <table className="min-w-full border-separate border-spacing-0" data-testid="step-table">
         <thead>
           <tr>
-            <th className={th} title="step index as in the result JSON, the CSV and the warnings (from 0)">step</th>
+            <th className={th} title="step index as in the result JSON, the CSV and the warnings (from 0)">
+              step
+            </th>
             <th className={th}>{stepAxisLabel(result.input.step_quantity, result.input.step_units)}</th>
             <th className={th}>Counts</th>
             {hasOffset ? <th className={th}>Offset (deg)</th> : null}

@@ -11,7 +11,6 @@
 import { spawnSync } from 'node:child_process';
 import { createHash } from 'node:crypto';
 import { existsSync, readFileSync } from 'node:fs';
-import { register } from 'node:module';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { parseArgs, parseEnv as parseDotEnv } from 'node:util';
@@ -29,11 +28,7 @@ if (process.env.LOBELINE_N5_CHILD !== '1') {
   });
   process.exit(r.status ?? 1);
 }
-const hook = `export async function resolve(s, c, next) {
-  if (s === 'server-only') return { url: 'data:text/javascript,export{}', shortCircuit: true };
-  return next(s, c);
-}`;
-register(`data:text/javascript,${encodeURIComponent(hook)}`);
+await import('../server-only-shim');
 
 const N_SCANS = 10_000;
 const WARMUP = 20;
