@@ -13,6 +13,7 @@ import { getDb } from '@/lib/db';
 import { closeSequelize } from '@/lib/db/client';
 import type { ScanStatus } from '@/models';
 import { Campaign, FacilityRoleGrant, Membership, RawFile, Scan, Shift, Team, User } from '@/models';
+import { rawFileRow } from './helpers/rows';
 
 const tag = randomBytes(4).toString('hex');
 let campaignId = 0;
@@ -89,30 +90,15 @@ beforeAll(async () => {
   );
   shiftIds = shifts.map((x) => x.id);
   for (let i = 0; i < 30; i++) {
-    const raw = await RawFile.create({
-      team_id: team.id,
-      sha256: randomBytes(32).toString('hex'),
-      bucket: 'b',
-      storage_key: `raw/${tag}/${i}.h5`,
-      size_bytes: 1000 + i,
-      original_name: i % 5 === 0 ? `needle_${i}.h5` : `scan_${i}.h5`,
-      status: 'accepted',
-      quarantine_reasons: null,
-      metadata: null,
-      metadata_completeness: null,
-      uploaded_by: a.id,
-      verified_at: new Date(),
-      released_by: null,
-      released_at: null,
-      replaced_by_id: null,
-      archived_at: null,
-      archive_key: null,
-      embargo_until: null,
-      retention_until: null,
-      last_fixity_at: null,
-      last_fixity_ok: null,
-      deleted_at: null,
-    } as never);
+    const raw = await RawFile.create(
+      rawFileRow(team.id, {
+        bucket: 'b',
+        storage_key: `raw/${tag}/${i}.h5`,
+        size_bytes: 1000 + i,
+        original_name: i % 5 === 0 ? `needle_${i}.h5` : `scan_${i}.h5`,
+        uploaded_by: a.id,
+      }),
+    );
     const status = STATUSES[i % STATUSES.length] as ScanStatus;
     const offset = status === 'reduced' ? Math.round(((i * 37) % 23) * 10) / 10 - 5 : null;
     const row: Row = {

@@ -35,6 +35,7 @@ import type { DetectorCalibration } from '@/reduction/formats';
 import { loadH5wasmNode, openScanPath } from '@/reduction/hdf5/node';
 import { planScan, type SynthOptions } from '@/reduction/synth/model';
 import { type BrokenKind, breakBytes, type SynthTruth, writeSynthScan } from '@/reduction/synth/scan-file';
+import { rawFileRow } from './helpers/rows';
 
 const REPO = path.resolve(import.meta.dirname, '../..');
 const tag = randomBytes(4).toString('hex');
@@ -147,30 +148,15 @@ async function addScan(
   const opened = broken ? null : await openScanPath(file);
   const meta = opened?.ok ? opened.scan.meta : null;
   if (opened?.ok) opened.scan.close();
-  const raw = await RawFile.create({
-    team_id: world.teamId,
-    sha256,
-    bucket: buckets().raw,
-    storage_key: key,
-    size_bytes: bytes.length,
-    original_name: path.basename(file),
-    status: 'accepted',
-    quarantine_reasons: null,
-    metadata: meta,
-    metadata_completeness: null,
-    uploaded_by: null,
-    verified_at: new Date(),
-    released_by: null,
-    released_at: null,
-    replaced_by_id: null,
-    archived_at: null,
-    archive_key: null,
-    embargo_until: null,
-    retention_until: null,
-    last_fixity_at: null,
-    last_fixity_ok: null,
-    deleted_at: null,
-  });
+  const raw = await RawFile.create(
+    rawFileRow(world.teamId, {
+      sha256,
+      storage_key: key,
+      size_bytes: bytes.length,
+      original_name: path.basename(file),
+      metadata: meta,
+    }),
+  );
   const scan = await Scan.create({
     team_id: world.teamId,
     campaign_id: world.campaignId,

@@ -36,6 +36,7 @@ import type { DetectorCalibration } from '@/reduction/formats';
 import { loadH5wasmNode, openScanPath } from '@/reduction/hdf5/node';
 import { planScan, type SynthOptions } from '@/reduction/synth/model';
 import { writeSynthScan } from '@/reduction/synth/scan-file';
+import { rawFileRow } from './rows';
 
 export const TEST_PASSWORD = 'correct horse battery staple';
 
@@ -137,34 +138,6 @@ export async function makeUser(input: {
     await Membership.create({ user_id: user.id, team_id: input.teamId, role: input.role });
   if (input.facility) await FacilityRoleGrant.create({ user_id: user.id, role: input.facility });
   return user.id;
-}
-
-function rawFileRow(teamId: number, over: Partial<RawFile> = {}) {
-  return {
-    team_id: teamId,
-    sha256: randomBytes(32).toString('hex'),
-    bucket: buckets().raw,
-    storage_key: `raw/matrix/${randomUUID()}.h5`,
-    size_bytes: 1000,
-    original_name: 'matrix.h5',
-    status: 'accepted' as const,
-    quarantine_reasons: null,
-    metadata: null,
-    metadata_completeness: null,
-    uploaded_by: null,
-    verified_at: new Date(),
-    released_by: null,
-    released_at: null,
-    replaced_by_id: null,
-    archived_at: null,
-    archive_key: null,
-    embargo_until: null,
-    retention_until: null,
-    last_fixity_at: null,
-    last_fixity_ok: null,
-    deleted_at: null,
-    ...over,
-  };
 }
 
 function scanRow(
