@@ -55,10 +55,8 @@ export function explainFailure(err: unknown): FailureExplanation {
       };
     }
     if (err.surface === 'storage' || err.surface === 'database' || err.surface === 'queue') {
-      return {
-        message: err.userMessage,
-        transient: true,
-      };
+      const what = { storage: 'file store (S3)', database: 'database', queue: 'job queue (Redis)' }[err.surface];
+      return { message: `The ${what} did not answer.`, transient: true };
     }
     return { message: err.userMessage, transient: false };
   }
