@@ -129,3 +129,24 @@ describe('Redis stopped', () => {
     expect((await Scan.findByPk(scanId))?.status).toBe('reduced');
   });
 });
+
+describe('the sweep lease (worker_leases)', () => {
+  it('is held by one worker at a time, renewed by its holder and free again once released', async () => {
+    const { acquireLease, releaseLease, sweepLostReductions } = await import('@/lib/jobs/sweep');
+    const name = `lease-test-${Date.now()}`;
+    expect(await acquireLease(name, 'worker-a', 60_000)).toBe(true);
+    expect(await acquireLease(name, 'worker-b', 60_000)).toBe(false);
+    expect(await acquireLease(name, 'worker-a', 60_000)).toBe(true);
+    await releaseLease(name, 'worker-a');
+    expect(await acquireLease(name, 'worker-b', 60_000)).toBe(true);
+    // An expired lease passes to the next worker that asks.
+    expect(await acquireLease(name, 'worker-b', 1)).toBe(true);
+    await waitFor('lease expired', async () => ((await acquireLease(name, 'worker-c', 60_000)) ? true : undefined));
+    // Two sweeps at the same moment: only one of them gets to look at the requests.
+    const [one, two] = await Promise.all([
+      sweepLostReductions({ holder: 'sweeper-1', minAgeMs: 0 }),
+      sweepLostReductions({ holder: 'sweeper-2', minAgeMs: 0 }),
+    ]);
+    expect([one.leased, two.leased].filter(Boolean)).toHaveLength(1);
+  });
+});
