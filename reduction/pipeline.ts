@@ -14,6 +14,7 @@
 import { wrapDeg } from './angles';
 import { type BootstrapStats, runPolarBootstrap } from './bootstrap-run';
 import { backgroundScale, buildInverseGain, buildPixelMask, calibrationMatrix } from './calibration';
+import { calibrationConsistencyWarnings } from './consistency';
 import { intensityFromRadiusWcm2, offsetSense, simpleManDirectionsDeg } from './fields';
 import {
   type AnalysisSettings,
@@ -337,6 +338,15 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
       }
     }
     const step = assembleStep(index, total, chain, expected, sense, boot);
+    const consistency = {
+      kind,
+      lobes: step.lobes,
+      radiusErrAu: step.radius_err_au,
+      angular,
+      momentumPerPixelAu: pixelAu,
+    };
+    for (const w of calibrationConsistencyWarnings({ ...consistency, thetaDeg: polar.thetaCentresDeg }))
+      warnings.add(nStep === 1 ? w.detailed : w.sentence, index);
 
     // warnings of this step
     if (!chain.ok) warnings.add(`No lobe could be found: ${chain.reason}.`, index);
