@@ -193,7 +193,7 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
     subsamples: options.subsamples,
   });
   const pixelAu = Math.sqrt(Math.abs(calMap.a[0]! * calMap.a[3]! - calMap.a[1]! * calMap.a[2]!));
-  if (pixelAu > polar.dpAu) {
+  if (pixelAu > polar.dpAu && kind !== 'two_color_phase') {
     warnings.global(
       `Detector pixels (${pixelAu.toPrecision(3)} a.u.) are larger than the radial bins (${polar.dpAu.toPrecision(3)} a.u.): neighbouring bins share pixels, so the bootstrap errors come out conservative.`,
     );
@@ -210,6 +210,8 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
   const ws = new ChainWorkspace(chainCfg);
   const wsBoot = new ChainWorkspace(chainCfg);
   const needsHelicity = kind === 'angular_streaking' || kind === 'bicircular';
+  /** Two-colour phase scans have no lobes: no lobe fit, simple-man direction, lobe warnings or bootstrap. */
+  const lobesApply = kind !== 'two_color_phase';
   if (needsHelicity && meta.helicity === null) {
     warnings.global('The file gives no helicity, so offset angles are not signed and are left empty.');
   }
@@ -320,14 +322,15 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
     const polarBins = hPolar.subarray(0, maps.polar.nBins);
     const { expected, sense } = expectedFor(index);
     const seeds = expected.length === nLobes ? expected : null;
-    const chain = analysePolarHistogram(polarBins, chainCfg, seeds, ws);
+    const chainAll = analysePolarHistogram(polarBins, chainCfg, seeds, ws);
+    const chain: ChainResult = lobesApply ? chainAll : { ...chainAll, lobes: [] }; // fills angular and dN/dp only
     const angular = Float64Array.from(ws.angular);
     const radial = Float64Array.from(ws.dNdp);
 
     // bootstrap
     const B = settings.bootstrap.resamples;
     let boot: BootstrapStats | null = null;
-    if (chain.ok && B > 0) {
+    if (lobesApply && chain.ok && B > 0) {
       const repSeeds = seeds ?? chain.lobes.map((l) => l.angleDeg);
       boot = runPolarBootstrap(polarBins, chainCfg, repSeeds, chain, wsBoot, B, settings.bootstrap.seed, index);
       if (boot.failed / B > 0.1) {
@@ -349,14 +352,14 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
       warnings.add(nStep === 1 ? w.detailed : w.sentence, index);
 
     // warnings of this step
-    if (!chain.ok) warnings.add(`No lobe could be found: ${chain.reason}.`, index);
-    if (chain.ok && chain.countsInWindow < LOW_COUNTS_PER_LOBE * nLobes) {
+    if (lobesApply && !chain.ok) warnings.add(`No lobe could be found: ${chain.reason}.`, index);
+    if (lobesApply && chain.ok && chain.countsInWindow < LOW_COUNTS_PER_LOBE * nLobes) {
       warnings.add(
         `Low counts: fewer than ${LOW_COUNTS_PER_LOBE * nLobes} counts in the radial window, so the lobe angles are poorly determined.`,
         index,
       );
     }
-    if (chain.ok && settings.radial_window_au === 'auto' && !chain.windowResolved) {
+    if (lobesApply && chain.ok && settings.radial_window_au === 'auto' && !chain.windowResolved) {
       warnings.add(
         'The automatic radial window did not reach half the peak of dN/dp on both sides; it stops at the grid edge.',
         index,
