@@ -37,6 +37,7 @@ import { delayToPhaseRad, fourierProjection, leastSquaresPhaseFit, wholePeriodSa
 import { createPhaseAccumulator, type PhaseAccumulator, type PhaseMaps } from './phase-maps';
 import { DEFAULT_PHASE_REGIONS, regionCells, sumCells } from './regions';
 import { applyPixelBinMapKernel, buildPixelBinMaps } from './resample';
+import { saturationWarning } from './saturation';
 import { analysePolarHistogram, type ChainConfig, type ChainResult, ChainWorkspace } from './step-analysis';
 import { requireInteger } from './validate';
 import { WarningCollector } from './warnings';
@@ -306,6 +307,8 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
       corrected[p] = v;
       total += v;
     }
+    const saturated = saturationWarning(counts, meta.countsDtype, mask);
+    if (saturated !== null) warnings.add(saturated, index);
     if (negatives > 0)
       warnings.add(`Some raw pixel counts are negative (${negatives} pixels); they were kept as they are.`, index);
     hPolar.fill(0);
