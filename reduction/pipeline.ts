@@ -33,7 +33,7 @@ import {
 } from './formats';
 import { cartesianGrid, polarGrid } from './grids';
 import { lobeCount } from './lobes';
-import { delayToPhaseRad, fourierProjection, leastSquaresPhaseFit, wholePeriodSampling } from './phase-estimators';
+import { delayToPhaseRad, fourierProjection, poissonWeightedPhaseFit, wholePeriodSampling } from './phase-estimators';
 import { createPhaseAccumulator, type PhaseAccumulator, type PhaseMaps } from './phase-maps';
 import { DEFAULT_PHASE_REGIONS, regionCells, sumCells } from './regions';
 import { applyPixelBinMapKernel, buildPixelBinMaps } from './resample';
@@ -531,7 +531,8 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
           const phases = indices.map((i) => phaseOfStep[i]!);
           const regionResults: PhaseRegionResult[] = regions.map((reg, k) => {
             const y = indices.map((i) => regionYields[k]![i]!);
-            const fit = r.method === 'fourier' ? fourierProjection(y, phases, 1) : leastSquaresPhaseFit(y, phases, 1);
+            const fit =
+              r.method === 'fourier' ? fourierProjection(y, phases, 1) : poissonWeightedPhaseFit(y, phases, 1);
             return {
               name: reg.name,
               phase_rad: phases,
