@@ -242,7 +242,10 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
     } else if (nStep < 3) {
       warnings.global(`The phase analysis needs at least 3 phases, got ${nStep}; no phase analysis was done.`);
     } else {
-      phaseAcc = createPhaseAccumulator(cart.n * cart.n, settings.phase.harmonics);
+      // unequal or partial phase steps: the least-squares maps get Poisson weights in low-count cells (§6.2 (b))
+      const stepPhases = Array.from({ length: nStep }, (_, i) => stepPhaseRad(meta, i));
+      const poisson = wholePeriodSampling(stepPhases).equal ? {} : { poissonHarmonics: 8 };
+      phaseAcc = createPhaseAccumulator(cart.n * cart.n, settings.phase.harmonics, poisson);
       regionCellLists = regions.map((r) => regionCells(r, cart));
       regionYields = regions.map(() => new Float64Array(nStep).fill(Number.NaN));
       regionCellLists.forEach((cells, k) => {

@@ -10,6 +10,7 @@ import { describe, expect, it } from 'vitest';
 import { wrapRad } from '@/reduction/angles';
 import { fitCircleGeometric, fitCircleKasa } from '@/reduction/circle-fit';
 import { leastSquaresPhaseFit, poissonWeightedPhaseFit } from '@/reduction/phase-estimators';
+import { createPhaseAccumulator } from '@/reduction/phase-maps';
 import { createPrng } from '@/reduction/prng';
 import { ROOT } from '../scanfile/helpers';
 
@@ -22,6 +23,13 @@ interface PhaseRef {
 const ref = JSON.parse(readFileSync(path.join(ROOT, 'tests/fixtures/numpy/weighted_fits.json'), 'utf8')) as {
   phase: { name: string; phases: number[]; y: number[]; one_pass: PhaseRef; mle: PhaseRef }[];
   circle: { name: string; x: number[]; y: number[]; truth: number[]; kasa: number[]; geometric: number[] }[];
+  maps: {
+    ny: number;
+    nx: number;
+    phases: number[];
+    frames: number[][];
+    pixels: { coef: number[]; kappa: number; unweighted: number[] }[];
+  };
 };
 
 describe('Poisson-weighted least squares of a phase series (SCIENCE.md §6.2 (b))', () => {
@@ -58,6 +66,55 @@ describe('Poisson-weighted least squares of a phase series (SCIENCE.md §6.2 (b)
     expect(f.amplitude[0]!).toBeCloseTo(50, 9);
     expect(f.phase[0]!).toBeCloseTo(2, 9);
     expect(() => poissonWeightedPhaseFit([1, 2], [0, 1], 1)).toThrow(RangeError);
+  });
+});
+
+describe('streamed phase maps with Poisson weights for low-count pixels (SCIENCE.md §6.2 (b))', () => {
+  const m = ref.maps;
+  const run = (poissonHarmonics?: number) => {
+    const acc = createPhaseAccumulator(m.nx * m.ny, 1, poissonHarmonics ? { poissonHarmonics } : {});
+    m.frames.forEach((f, j) => {
+      acc.addFrame(Float64Array.from(f), m.phases[j]!);
+    });
+    return acc.finish({ minCounts: 0.5 });
+  };
+
+  it('each pixel equals scipy’s Poisson maximum likelihood (model contrast below 0.8; frames never stored)', () => {
+    const r = run(12);
+    expect(r.method).toBe('least_squares');
+    let checked = 0;
+    m.pixels.forEach((px, i) => {
+      if (px.kappa >= 0.8) return;
+      const [a, b, c] = px.coef as [number, number, number];
+      // Float32 maps: compare at float32 precision plus the series cut ρ^13 (≤ 4e-4 at κ = 0.8)
+      expect(Math.abs(r.maps.mean[i]! - a) / a, `pixel ${i} A0`).toBeLessThan(2e-4);
+      expect(Math.abs(r.maps.amplitude[i]! - Math.hypot(b, c)) / a, `pixel ${i} A1`).toBeLessThan(2e-4);
+      expect(Math.abs(wrapRad(r.maps.phase_of_max[i]! - Math.atan2(c, b))), `pixel ${i} φ0`).toBeLessThan(1e-3);
+      checked++;
+    });
+    expect(checked).toBeGreaterThan(12);
+    expect(r.poissonWeighted).toBeGreaterThanOrEqual(checked);
+  });
+
+  it('without the option the maps stay the unweighted least squares of numpy (and differ from the weighted ones)', () => {
+    const u = run();
+    const w = run(12);
+    expect(u.poissonWeighted).toBe(0);
+    let differs = 0;
+    m.pixels.forEach((px, i) => {
+      const [a] = px.unweighted as [number, number, number];
+      expect(Math.abs(u.maps.mean[i]! - a) / a).toBeLessThan(1e-6);
+      if (Math.abs(w.maps.mean[i]! - u.maps.mean[i]!) > 1e-3 * a) differs++;
+    });
+    expect(differs).toBeGreaterThan(5);
+  });
+
+  it('a pixel whose model nearly touches zero keeps the unweighted fit', () => {
+    const w = run(12);
+    const i = m.pixels.findIndex((px) => px.kappa > 1);
+    expect(i).toBeGreaterThanOrEqual(0);
+    const [a] = m.pixels[i]!.unweighted as [number, number, number];
+    expect(Math.abs(w.maps.mean[i]! - a) / a).toBeLessThan(1e-6);
   });
 });
 
