@@ -164,7 +164,7 @@ start_app() {
   fi
   mkdir -p "$OUT/logs"
   set -m
-  "$BIN/next" start -H 127.0.0.1 -p "$APP_PORT" >"$OUT/logs/app.log" 2>&1 &
+  "$BIN/tsx" scripts/serve.ts -H 127.0.0.1 -p "$APP_PORT" >"$OUT/logs/app.log" 2>&1 &
   APP_PID=$!
   if [ -f scripts/worker.ts ]; then
     "$BIN/tsx" scripts/worker.ts >"$OUT/logs/worker.log" 2>&1 &
