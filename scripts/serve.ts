@@ -1,7 +1,8 @@
 // `npm run serve` (and start.sh / test.sh): Lobeline's production HTTP server. It is Next's own request handler
 // behind a plain node:http server whose only job is to set x-forwarded-for from the socket address before Next
 // reads it (lib/auth/client-address.ts), so that the sign-in limits and the audit trail see the real client
-// address and not a header the client wrote. Usage: tsx scripts/serve.ts [-H host] [-p port]
+// address and not a header the client wrote; it also answers 400 for a path that is not valid percent-encoding,
+// which Next itself would answer with a 500. Usage: tsx scripts/serve.ts [-H host] [-p port]
 import { createServer } from 'node:http';
 import next from 'next';
 import { forwardedForHeader, parseTrustedProxyHops } from '@/lib/auth/client-address';
@@ -31,7 +32,30 @@ if (hops === null) {
   process.exit(1);
 }
 
+/** A path Next cannot percent-decode (RFC 3986 §2.1) would fail inside Next with a 500: answer 400 here. */
+function malformedPath(url: string | undefined): boolean {
+  const path = (url ?? '/').split('?')[0] ?? '/';
+  try {
+    decodeURIComponent(path);
+    return false;
+  } catch {
+    return true;
+  }
+}
+
 const server = createServer((req, res) => {
+  if (malformedPath(req.url)) {
+    const api = (req.url ?? '').startsWith('/api/');
+    const sentence = 'This address is not valid: it contains a broken percent-encoded character.';
+    res.writeHead(400, {
+      'content-type': api ? 'application/json; charset=utf-8' : 'text/plain; charset=utf-8',
+      'cache-control': 'no-store',
+      'x-content-type-options': 'nosniff',
+      'content-security-policy': "default-src 'none'; frame-ancestors 'none'",
+    });
+    res.end(api ? JSON.stringify({ error: { code: 'bad_request:api', message: sentence } }) : `${sentence}\n`);
+    return;
+  }
   req.headers['x-forwarded-for'] = forwardedForHeader(
     req.headers['x-forwarded-for'],
     req.socket.remoteAddress ?? '',
