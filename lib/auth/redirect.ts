@@ -36,8 +36,6 @@ export function checkRedirectTarget(raw: string, appOrigin: string): RedirectChe
   if (/^\/[/\\]/.test(path) || /^\/[/\\]/.test(decodedPath) || CONTROL.test(decodedPath)) {
     return { ok: false, reason: 'foreign' };
   }
-  // Back to the sign-in page itself would loop: home instead.
-  if (url.pathname === '/sign-in' || url.pathname.startsWith('/sign-in/')) return { ok: true, path: '/' };
   return { ok: true, path };
 }
 
@@ -45,5 +43,9 @@ export function checkRedirectTarget(raw: string, appOrigin: string): RedirectChe
 export function safeNextPath(raw: string | null | undefined, appOrigin: string): string {
   if (!raw) return '/';
   const r = checkRedirectTarget(raw, appOrigin);
-  return r.ok ? r.path : '/';
+  if (!r.ok) return '/';
+  // Back to the sign-in page itself would loop: home instead. (next-auth's own redirects, e.g. to
+  // /sign-in?signedOut=1 after signing out, go through checkRedirectTarget and keep theirs.)
+  const pathname = r.path.split(/[?#]/)[0] ?? '';
+  return pathname === '/sign-in' || pathname.startsWith('/sign-in/') ? '/' : r.path;
 }

@@ -26,6 +26,8 @@ const scanRoute = await import('@/app/api/scans/[scanId]/route');
 const resetRoute = await import('@/app/api/auth/password-reset/route');
 const resetCompleteRoute = await import('@/app/api/auth/password-reset/complete/route');
 const { proxy } = await import('@/proxy');
+const { authOptions } = await import('@/lib/auth/options');
+const { safeNextPath } = await import('@/lib/auth/redirect');
 
 let w: World;
 const ORIGIN = () => getEnv().APP_ORIGIN;
@@ -256,6 +258,19 @@ describe('the return address after signing in (ASVS 4.0 V5.1.5; WHATWG URL)', ()
         expect(location.searchParams.has(key), `${key}=${next}`).toBe(false);
       }
     }
+  });
+
+  it("next-auth's redirects stay on the origin and keep their own sign-in notices", async () => {
+    const redirect = authOptions.callbacks?.redirect as (a: { url: string; baseUrl: string }) => Promise<string>;
+    const base = ORIGIN();
+    expect(await redirect({ url: `${base}/sign-in?signedOut=1`, baseUrl: base })).toBe(`${base}/sign-in?signedOut=1`);
+    expect(await redirect({ url: '/scans/7', baseUrl: base })).toBe(`${base}/scans/7`);
+    for (const url of ['https://evil.example/', '/\\evil.example', '//evil.example', '/%09/evil.example']) {
+      expect(await redirect({ url, baseUrl: base }), url).toBe(base);
+    }
+    // The sign-in form itself never returns to the sign-in page (it would loop).
+    expect(safeNextPath('/sign-in?next=/x', base)).toBe('/');
+    expect(safeNextPath('/scans/7?tab=phase#top', base)).toBe('/scans/7?tab=phase#top');
   });
 
   it('keeps a path of the app and answers 400 for a malformed one', async () => {
