@@ -5,6 +5,13 @@
 set -euo pipefail
 cd "$(dirname "$0")/.."
 
+# Without the app's .env (and no environment of its own) the sections that use the services cannot run: say what
+# to do in one sentence instead of every section listing every missing variable.
+if [ ! -f .env ] && [ -z "${DB_HOST:-}" ] && [ "${LOBELINE_INSTANCE:-}" != "test" ]; then
+  echo "npm run bench needs the app's .env: run \`npm start\` once first (it writes .env and starts the local services), then run \`npm run bench\` again."
+  exit 1
+fi
+
 SECTIONS=(
   "N1|npx tsx scripts/bench/n1-phase.ts"
   "N2|npx tsx scripts/bench/n2-angular.ts"
