@@ -61,7 +61,36 @@ async function scanRow(request: APIRequestContext, cid: number, fileName: string
   return row as { id: number; fileName: string; title: string | null; status: string };
 }
 
-/** Shared between the serial tests below. */
+/** RFC 4180 reader (section 2): comma-separated fields, double-quoted fields with "" for a quote, CRLF records. */
+function readCsv(text: string): string[][] {
+  const rows: string[][] = [];
+  let row: string[] = [];
+  let field = '';
+  let quoted = false;
+  for (let i = 0; i < text.length; i++) {
+    const c = text[i] as string;
+    if (quoted) {
+      if (c === '"' && text[i + 1] === '"') {
+        field += '"';
+        i++;
+      } else if (c === '"') quoted = false;
+      else field += c;
+    } else if (c === '"') quoted = true;
+    else if (c === ',') {
+      row.push(field);
+      field = '';
+    } else if (c === '\r' && text[i + 1] === '\n') {
+      row.push(field);
+      rows.push(row);
+      row = [];
+      field = '';
+      i++;
+    } else field += c;
+  }
+  return rows;
+}
+
+/** Shared between the tests below. */
 const shared: { cid: number; shiftId: number; scanId: number; scanTitle: string; fileName: string; file: string } = {
   file: '',
   cid: 0,
@@ -246,7 +275,14 @@ test.describe('pages follow the worker; flags, trend tools and receipts', () => 
     await ensureScan(browser);
     const op = await asUser(browser, DEMO.operator);
     const fileName = `follow-no-wavelength-${RUN}.h5`;
-    const file = makeExample(fileName, ['--target', 'Ar', '--broken', 'missing_wavelength']);
+    const file = makeExample(fileName, [
+      '--kind',
+      'angular_streaking',
+      '--target',
+      'Ar',
+      '--broken',
+      'missing_wavelength',
+    ]);
     await op.page.goto(`/shifts/${shared.shiftId}`);
     await op.page.waitForLoadState('networkidle');
     await op.page.getByTestId('dropzone-input').setInputFiles([file]);
@@ -280,10 +316,10 @@ test.describe('pages follow the worker; flags, trend tools and receipts', () => 
     const pi = await asUser(browser, DEMO.pi);
     await pi.page.goto(`/campaigns/${shared.cid}`);
     const panel = pi.page.getByTestId('trend-panel');
-    await expect(panel.getByTestId('trend-plot')).toBeVisible();
+    const svg = panel.locator('figure svg').first();
+    await expect(svg).toBeVisible();
     await panel.getByLabel('Show').selectOption('radius');
     await panel.getByTestId('y-scale-log').click();
-    const svg = panel.getByTestId('trend-plot').locator('svg').first();
     await expect(svg).toHaveAttribute('data-y-scale', 'log');
 
     // CSV: one row per step of the plotted scans, the same numbers as the API.
@@ -295,22 +331,20 @@ test.describe('pages follow the worker; flags, trend tools and receipts', () => 
       panel.getByRole('button', { name: 'Table (CSV)' }).click(),
     ]);
     const csv = readFileSync(await csvDl.path(), 'utf8');
-    const lines = csv.split('\r\n').filter((l) => l && !l.startsWith('#'));
-    const header = (lines[0] ?? '').split(',');
+    expect(csv.endsWith('\r\n')).toBe(true);
+    const records = readCsv(csv).filter((r) => !(r[0] ?? '').startsWith('#'));
+    const header = records[0] ?? [];
     expect(header).toContain('radius_au');
     const iScan = header.indexOf('scan_id');
     const iStep = header.indexOf('step_index');
     const iRadius = header.indexOf('radius_au');
+    expect(records.slice(1).every((r) => r.length === header.length)).toBe(true);
     const ours = api.points.filter((p) => p.scanId === shared.scanId);
     expect(ours.length).toBe(3);
     for (const p of ours) {
-      // our scan's title has no comma, so a plain split is safe for its rows
-      const line = lines.find((l) => {
-        const f = l.split(',');
-        return f[iScan] === String(p.scanId) && f[iStep] === String(p.stepIndex);
-      });
-      expect(line, `CSV row of scan ${p.scanId} step ${p.stepIndex}`).toBeDefined();
-      expect(Number((line as string).split(',')[iRadius])).toBe(p.radiusAu);
+      const rec = records.find((r) => r[iScan] === String(p.scanId) && r[iStep] === String(p.stepIndex));
+      expect(rec, `CSV row of scan ${p.scanId} step ${p.stepIndex}`).toBeDefined();
+      expect(Number((rec as string[])[iRadius])).toBe(p.radiusAu);
     }
 
     // SVG: a standalone document with the markers and the log axis.
@@ -366,11 +400,23 @@ test.describe('pages follow the worker; flags, trend tools and receipts', () => 
     await expect(receipt).not.toContainText('has not been sent');
   });
 
-  test('leaving a shift page with a checked but unsent file asks first', async ({ page, browser }) => {
-    await ensureScan(browser);
+  test('leaving a shift page with a checked but unsent file asks first', async ({ page }) => {
     await signIn(page, DEMO.operator);
+    if (!shared.shiftId) {
+      shared.cid = await campaignId(page.request);
+      shared.shiftId = await openShift(page, shared.cid, `Leave warning ${RUN}`);
+    }
     const fileName = `follow-unsent-${RUN}.h5`;
-    const file = makeExample(fileName, ['--target', 'Ar', '--steps', '2', '--size', '128']);
+    const file = makeExample(fileName, [
+      '--kind',
+      'angular_streaking',
+      '--target',
+      'Ar',
+      '--steps',
+      '2',
+      '--size',
+      '128',
+    ]);
     await page.goto(`/shifts/${shared.shiftId}`);
     await page.waitForLoadState('networkidle');
     await page.getByTestId('dropzone-input').setInputFiles([file]);
