@@ -562,6 +562,21 @@ const ROWS: Row[] = [
     },
     expect: analystOnly(200),
   },
+  // Flagging a scan is the analyst's (PRODUCT.md "Who uses it": analyst … flag scans); a fresh scan per call, so
+  // a flag set by one row never leaks into the data other rows read.
+  {
+    route: '/api/scans/[scanId]/flag',
+    method: 'PUT',
+    request: async ({ w, t }) => {
+      const scanId = await w.freshScan(t);
+      return {
+        path: `/api/scans/${scanId}/flag`,
+        params: { scanId: String(scanId) },
+        body: { flagged: true, reason: 'Background frame looks saturated.' },
+      };
+    },
+    expect: analystOnly(200),
+  },
 ];
 
 // DISCOVERY //
