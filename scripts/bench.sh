@@ -11,6 +11,8 @@ SECTIONS=(
   "N3|npx tsx scripts/bench/n3-sha256.ts"
   "N4|npx tsx scripts/bench/n4-multipart.ts"
   "N5|npx tsx scripts/bench/n5-scan-table.ts"
+  # precision of the lobe angles (several minutes; scripts/bench/precision.ts --realisations 10 for a quick look)
+  "PRECISION|npx tsx scripts/bench/precision.ts"
 )
 
 want=("$@")
