@@ -1,6 +1,7 @@
 /**
  * The analysis chain downstream of binning, applied to one polar histogram: radial window (fixed or automatic),
- * angular distribution in the window, circular smoothing, lobe candidates, sub-bin peak fit of each lobe, and the
+ * angular distribution in the angular gate (the automatic window widened to ≈ ±2σ of the ring), circular smoothing,
+ * lobe candidates, the joint Poisson fit of all lobes (lobe-fit.ts; single-lobe fits as fallback), and the
  * radius of each lobe (peak of the momentum-area density along its direction). The same function runs on the
  * measured histogram and on every Poisson-bootstrap replicate, so the bootstrap repeats the whole chain.
  *
