@@ -65,7 +65,15 @@ function buildPlan(H: Float64Array, cfg: ChainConfig, measured: ChainResult, sec
   const dp = g.dpAu;
   const w = measured.pHi - measured.pLo;
   const m = cfg.window === 'auto' ? Math.max(0.25 * w, 3 * dp) : dp;
-  const [fLo, fHi] = ringRange(measured.pLo - m, measured.pHi + m, dp, R, 0);
+  // the angular gate is wider than the window (auto mode): margin on the gate, scaled by the widening
+  const gm = cfg.window === 'auto' ? Math.max(0.25 * (measured.gHi - measured.gLo), 3 * dp) : dp;
+  const [fLo, fHi] = ringRange(
+    Math.min(measured.pLo - m, measured.gLo - gm),
+    Math.max(measured.pHi + m, measured.gHi + gm),
+    dp,
+    R,
+    0,
+  );
   const [sLo, sHi] = ringRange(measured.pLo - w - 3 * m, measured.pHi + w + 3 * m, dp, R, 1);
   const angleMarginDeg = 5;
   const inSector = new Uint8Array(M);
@@ -122,7 +130,7 @@ function withinPlan(plan: SamplingPlan, cfg: ChainConfig, r: ChainResult, measur
   const g = cfg.polar;
   const dp = g.dpAu;
   const R = g.radialBins;
-  const [iLo, iHi] = ringRange(r.pLo, r.pHi, dp, R, 0);
+  const [iLo, iHi] = ringRange(Math.min(r.pLo, r.gLo), Math.max(r.pHi, r.gHi), dp, R, 0);
   if (iLo < plan.fLo || iHi > plan.fHi) return false;
   const w = r.pHi - r.pLo;
   const [rLo, rHi] = ringRange(r.pLo - w, r.pHi + w, dp, R, 1);
@@ -159,6 +167,9 @@ export function runPolarBootstrap(
   index: number,
 ): BootstrapStats {
   const nL = seeds.length;
+  // warm start of the joint fit from the measured widths (the window and the fit are still redone per replicate)
+  const widths = measured.lobes.map((l) => l.widthDeg);
+  cfg = { ...cfg, startWidthsDeg: widths.every((w) => w !== null && w > 0) ? (widths as number[]) : null };
   const rng = createPrng((seed ^ Math.imul(index, 0x9e3779b1)) | 0);
   const rep = new Float64Array(H.length);
   const angles = new Float64Array(B * nL).fill(Number.NaN);

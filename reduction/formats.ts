@@ -79,6 +79,21 @@ export const detectorCalibrationSchema = z
           .default(0.05),
       })
       .optional(),
+    /**
+     * Optional extension: one-standard-deviation uncertainty of `rotation_deg` (degrees). Propagated to a systematic
+     * error of every lobe angle and offset (`angle_sys_err_deg`, `offset_sys_err_deg`), reported apart from the
+     * statistical one.
+     */
+    rotation_err_deg: finite()
+      .refine((v) => v >= 0, 'must be ≥ 0')
+      .optional(),
+    /**
+     * Optional extension: one-standard-deviation uncertainty of each coordinate of `center_px` (pixels). A centre
+     * shift δ moves a lobe at radius r by δ⊥·scale/r (rad); propagated like `rotation_err_deg`.
+     */
+    center_err_px: finite()
+      .refine((v) => v >= 0, 'must be ≥ 0')
+      .optional(),
     /** Optional extension: a free-text note carried with the version. */
     note: z.string().max(2000).optional(),
   })
@@ -136,7 +151,35 @@ export const phaseRegionSchema = z.discriminatedUnion('shape', [
 ]);
 export type PhaseRegion = z.output<typeof phaseRegionSchema>;
 
-export const analysisSettingsSchema = z
+/**
+ * Optional extension `follow_data`: which settings follow the data instead of their fixed defaults.
+ * - `grid`: cells and rings no finer than a detector pixel after calibration (never finer than the fixed default);
+ * - `fit_window`: each lobe's angular fit window is ±3σ of its fitted width, clipped at its neighbours;
+ * - `peak_model`: the von Mises shape (suits broad lobes).
+ * When a settings object has no `follow_data`, each flag is true exactly when the user did not give the setting it
+ * replaces (`grid`/`radial_bins`, `fit_half_width_deg`, `peak_model`): an explicit setting always wins, and a stored
+ * complete object keeps its flags.
+ */
+export const followDataSchema = z
+  .object({ grid: z.boolean(), fit_window: z.boolean(), peak_model: z.boolean() })
+  .strict();
+export type FollowData = z.output<typeof followDataSchema>;
+
+function withFollowData(raw: unknown): unknown {
+  if (raw === null || typeof raw !== 'object' || Array.isArray(raw)) return raw;
+  const o = raw as Record<string, unknown>;
+  if ('follow_data' in o) return o;
+  return {
+    ...o,
+    follow_data: {
+      grid: !('grid' in o) && !('radial_bins' in o),
+      fit_window: !('fit_half_width_deg' in o),
+      peak_model: !('peak_model' in o),
+    },
+  };
+}
+
+const analysisSettingsObject = z
   .object({
     grid: z
       .object({
@@ -178,10 +221,14 @@ export const analysisSettingsSchema = z
         regions: z.array(phaseRegionSchema).max(64).optional(),
       })
       .default(DEFAULT_SETTINGS.phase),
+    /** Optional extension: settings that follow the data (see `followDataSchema`). */
+    follow_data: followDataSchema.optional(),
     /** Optional extension: a free-text note carried with the version. */
     note: z.string().max(2000).optional(),
   })
   .strict();
+
+export const analysisSettingsSchema = z.preprocess(withFollowData, analysisSettingsObject);
 
 export type AnalysisSettingsInput = z.input<typeof analysisSettingsSchema>;
 export type AnalysisSettings = z.output<typeof analysisSettingsSchema>;
@@ -265,6 +312,12 @@ export interface LobeResult {
   radius_au: number | null;
   transverse_shift_au: number | null;
   width_deg: number | null;
+  /** Optional extension: σ(angle) from the inverse Fisher information of the Poisson fit, degrees. */
+  angle_fit_err_deg?: number | null;
+  /** Optional extension: systematic σ(angle) from the calibration's rotation and centre uncertainty, degrees. */
+  angle_sys_err_deg?: number | null;
+  /** Optional extension: the angular fit window used for this lobe [lo, hi], degrees. */
+  fit_window_deg?: [number, number] | null;
 }
 
 export interface StepResult {
@@ -278,6 +331,10 @@ export interface StepResult {
   lobes: LobeResult[];
   offset_deg: number | null;
   offset_err_deg: number | null;
+  /** Optional extension: σ of the step offset from the fit covariances (same weights), degrees. */
+  offset_fit_err_deg?: number | null;
+  /** Optional extension: systematic σ of the step offset from the calibration uncertainties, degrees. */
+  offset_sys_err_deg?: number | null;
 }
 
 export interface PhaseRegionResult {

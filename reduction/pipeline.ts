@@ -88,7 +88,26 @@ export interface ScanReducer {
 /** Counts in the radial window below which a step gets the low-counts warning (per lobe). */
 const LOW_COUNTS_PER_LOBE = 2000;
 
+const DEG = Math.PI / 180;
+
 // FUNCTIONS //
+
+/**
+ * The settings actually used (recorded in the result): with `follow_data.grid`, cells and rings no finer than a
+ * detector pixel in momentum (never finer than the given grid); with `follow_data.peak_model`, the von Mises shape.
+ */
+export function effectiveSettings(s: AnalysisSettings, pixelAu: number): AnalysisSettings {
+  const f = s.follow_data;
+  if (!f) return s;
+  const out: AnalysisSettings = { ...s, grid: { ...s.grid } };
+  if (f.grid && pixelAu > 0 && Number.isFinite(pixelAu)) {
+    const p = s.grid.p_max_au;
+    out.grid.n = Math.max(16, Math.min(s.grid.n, 2 * Math.floor(p / pixelAu) + 1));
+    out.radial_bins = Math.max(8, Math.min(s.radial_bins, Math.floor(p / pixelAu)));
+  }
+  if (f.peak_model) out.peak_model = 'von_mises';
+  return out;
+}
 
 function parseOrThrow<T>(
   what: 'calibration' | 'settings',
@@ -163,13 +182,15 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
   const meta = options.meta;
   validateMeta(meta);
   const calibration = parseOrThrow<DetectorCalibration>('calibration', detectorCalibrationSchema, options.calibration);
-  const settings = parseOrThrow<AnalysisSettings>('settings', analysisSettingsSchema, options.settings);
+  const given = parseOrThrow<AnalysisSettings>('settings', analysisSettingsSchema, options.settings);
   const { nX, nY, nStep } = meta.shape;
   const nPix = nX * nY;
   const kind = meta.experimentKind;
   const warnings = new WarningCollector();
 
   const calMap = calibrationMatrix(calibration);
+  const pixelAu = Math.sqrt(Math.abs(calMap.a[0]! * calMap.a[3]! - calMap.a[1]! * calMap.a[2]!));
+  const settings = effectiveSettings(given, pixelAu);
   const { mask, outside, lowGain } = buildPixelMask(calibration, nX, nY);
   const invGain = buildInverseGain(calibration, nX, nY);
   if (outside > 0)
@@ -193,7 +214,6 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
     yAxis: meta.yAxis,
     subsamples: options.subsamples,
   });
-  const pixelAu = Math.sqrt(Math.abs(calMap.a[0]! * calMap.a[3]! - calMap.a[1]! * calMap.a[2]!));
   if (pixelAu > polar.dpAu && kind !== 'two_color_phase') {
     warnings.global(
       `Detector pixels (${pixelAu.toPrecision(3)} a.u.) are larger than the radial bins (${polar.dpAu.toPrecision(3)} a.u.): neighbouring bins share pixels, so the bootstrap errors come out conservative.`,
@@ -206,7 +226,7 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
     window: settings.radial_window_au,
     smoothingDeg: settings.angular_smoothing_deg,
     peakModel: settings.peak_model,
-    fitHalfWidthDeg: settings.fit_half_width_deg,
+    fitHalfWidthDeg: settings.follow_data?.fit_window ? 'follow' : settings.fit_half_width_deg,
   };
   const ws = new ChainWorkspace(chainCfg);
   const wsBoot = new ChainWorkspace(chainCfg);
@@ -371,11 +391,28 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
         index,
       );
     }
+    if (chain.ok && chain.jointFitFailure !== null) {
+      warnings.add(
+        `The joint Poisson fit of the lobes could not be used (${chain.jointFitFailure}), so each lobe was fitted alone; more counts, a wider radial window or an explicit lobes count usually let the joint fit hold.`,
+        index,
+      );
+    }
     chain.lobes.forEach((l, i) => {
       if (l.method === 'parabola_fallback') {
-        warnings.add(`The peak fit of lobe ${i + 1} fell back to the parabola through the maximum.`, index);
+        warnings.add(
+          `The peak fit of lobe ${i + 1} fell back to the parabola through the maximum; its angle is less precise. More counts, or a wider fit_half_width_deg (about twice the lobe width), let the fit hold.`,
+          index,
+        );
       }
-      if (l.widthDeg !== null && l.widthDeg > settings.fit_half_width_deg) {
+      const fit = l.fitSigmaDeg;
+      const bs = boot ? boot.angleStd[i] : undefined;
+      if (fit !== null && bs !== undefined && Number.isFinite(bs) && bs > 0 && Math.abs(fit / bs - 1) > 0.25) {
+        warnings.add(
+          `For lobe ${i + 1} the fit-covariance error (${fit.toPrecision(2)}°) and the bootstrap error (${bs.toPrecision(2)}°) differ by more than 25 %: the lobe shape may not fit, the counts may not be Poisson (flat field, background subtraction) or the window is unstable; trust the bootstrap error.`,
+          index,
+        );
+      }
+      if (chainCfg.fitHalfWidthDeg !== 'follow' && l.widthDeg !== null && l.widthDeg > settings.fit_half_width_deg) {
         warnings.add(
           `The fitted width of lobe ${i + 1} exceeds fit_half_width_deg; a window of about twice the lobe width gives a stabler width and background.`,
           index,
@@ -411,6 +448,47 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
     }
     done.set(index, step);
     return step;
+  }
+
+  /**
+   * Systematic σ of a lobe angle from the calibration uncertainties (optional `rotation_err_deg`,
+   * `center_err_px`): a rotation error moves every angle by itself; a centre error δ (each coordinate, px) moves a
+   * lobe at radius r by δ⊥·scale/r rad. Null when the calibration states neither.
+   */
+  function lobeSystematicDeg(radiusAu: number | null): number | null {
+    const rot = calibration.rotation_err_deg;
+    const cen = calibration.center_err_px;
+    if (rot === undefined && cen === undefined) return null;
+    let v = (rot ?? 0) ** 2;
+    if (cen !== undefined && cen > 0) {
+      if (radiusAu === null || !(radiusAu > 0)) return null;
+      v += ((cen * pixelAu) / radiusAu / DEG) ** 2;
+    }
+    return Math.sqrt(v);
+  }
+
+  /**
+   * Systematic σ of the weighted step offset: the rotation error enters once (all lobes move together); the centre
+   * error through c = Σ_k w_k (−ê⊥,k) scale/r_k (opposite lobes cancel), σ = center_err_px·|c|.
+   */
+  function offsetSystematicDeg(anglesDeg: number[], radii: (number | null)[], weights: number[]): number | null {
+    const rot = calibration.rotation_err_deg;
+    const cen = calibration.center_err_px;
+    if (rot === undefined && cen === undefined) return null;
+    let v = (rot ?? 0) ** 2;
+    if (cen !== undefined && cen > 0) {
+      let cx = 0;
+      let cy = 0;
+      for (let k = 0; k < anglesDeg.length; k++) {
+        const r = radii[k];
+        if (r === null || r === undefined || !(r > 0)) return null;
+        const t = anglesDeg[k]! * DEG;
+        cx += (weights[k]! * Math.sin(t) * pixelAu) / r;
+        cy -= (weights[k]! * Math.cos(t) * pixelAu) / r;
+      }
+      v += ((cen * Math.hypot(cx, cy)) / DEG) ** 2;
+    }
+    return Math.sqrt(v);
   }
 
   function assembleStep(
@@ -453,16 +531,34 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
         transverse_shift_au:
           offset !== null && radiusAu !== null ? radiusAu * Math.sin((offset * Math.PI) / 180) : null,
         width_deg: l.widthDeg,
+        angle_fit_err_deg: l.fitSigmaDeg,
+        angle_sys_err_deg: lobeSystematicDeg(radiusAu),
+        fit_window_deg: l.windowDeg,
       });
     });
     // step offset: inverse-variance weights when every lobe has an error
     let stepOffset: number | null = null;
     let stepOffsetErr: number | null = null;
+    let stepOffsetFitErr: number | null = null;
+    let stepOffsetSysErr: number | null = null;
     if (offsets.length > 0) {
       const allErr = offsetErrs.every((e) => Number.isFinite(e) && e > 0);
       const w = offsets.map((_, i) => (allErr ? 1 / offsetErrs[i]! ** 2 : 1));
       const sw = w.reduce((a, b) => a + b, 0);
       stepOffset = offsets.reduce((a, o, i) => a + w[i]! * o, 0) / sw;
+      // the lobes with an offset are those with a matched expected direction (all of them when signed)
+      const withOffset = chain.lobes.filter((_, i) => matched[i] !== null);
+      if (withOffset.length === offsets.length) {
+        const fitErrs = withOffset.map((l) => l.fitSigmaDeg);
+        if (fitErrs.every((e) => e !== null && Number.isFinite(e))) {
+          stepOffsetFitErr = Math.sqrt(fitErrs.reduce((a: number, e, i) => a + (w[i]! / sw) ** 2 * e! ** 2, 0));
+        }
+        stepOffsetSysErr = offsetSystematicDeg(
+          withOffset.map((l) => l.angleDeg),
+          withOffset.map((l) => l.radiusAu),
+          w.map((x) => x / sw),
+        );
+      }
       if (boot && allErr) {
         const e = boot.weightedOffsetStd(
           w.map((x) => x / sw),
@@ -504,6 +600,8 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
       lobes,
       offset_deg: stepOffset,
       offset_err_deg: stepOffsetErr,
+      offset_fit_err_deg: stepOffsetFitErr,
+      offset_sys_err_deg: stepOffsetSysErr,
     };
   }
 

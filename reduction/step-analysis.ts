@@ -1,6 +1,7 @@
 /**
  * The analysis chain downstream of binning, applied to one polar histogram: radial window (fixed or automatic),
- * angular distribution in the window, circular smoothing, lobe candidates, sub-bin peak fit of each lobe, and the
+ * angular distribution in the angular gate (the automatic window widened to ≈ ±2σ of the ring), circular smoothing,
+ * lobe candidates, the joint Poisson fit of all lobes (lobe-fit.ts; single-lobe fits as fallback), and the
  * radius of each lobe (peak of the momentum-area density along its direction). The same function runs on the
  * measured histogram and on every Poisson-bootstrap replicate, so the bootstrap repeats the whole chain.
  *
@@ -9,6 +10,7 @@
  * radial window extended by its own width on each side, and refined by a Gaussian + constant fit.
  */
 import type { PolarGrid } from './grids';
+import { fitLobesJointly } from './lobe-fit';
 import { findLobeCandidates } from './lobes';
 import { fitAngularPeak, fitRadialPeak, PeakFitWorkspace, type PeakModel } from './peak-fit';
 import { circularConvolveKernel, gaussianKernel } from './smoothing';
@@ -30,7 +32,10 @@ export interface ChainConfig {
   /** Gaussian σ of the angular smoothing, degrees. */
   smoothingDeg: number;
   peakModel: PeakModel;
-  fitHalfWidthDeg: number;
+  /** Fixed half-window (deg), or `follow` (±3σ of each fitted lobe, clipped at its neighbours; lobe-fit.ts). */
+  fitHalfWidthDeg: number | 'follow';
+  /** Starting widths of the joint fit (the measured widths, for bootstrap replicates), or null. */
+  startWidthsDeg?: readonly number[] | null;
   /** Sector half-width for the radius, degrees (default min(10, 90/N)). */
   radiusSectorHalfWidthDeg?: number;
 }
@@ -42,6 +47,8 @@ export interface ChainLobe {
   method: PeakModel | 'parabola_fallback';
   angleNearEdge: boolean;
   fitSigmaDeg: number | null;
+  /** Angular fit window of this lobe [lo, hi], degrees (null for the single-lobe fallback fits). */
+  windowDeg: [number, number] | null;
   radiusAu: number | null;
   radiusFellBack: boolean;
   radiusNearEdge: boolean;
@@ -53,10 +60,29 @@ export interface ChainResult {
   reason: string | null;
   pLo: number;
   pHi: number;
+  /** Radial gate of the angular distribution [gLo, gHi], a.u. (auto: the window widened to ≈ ±2σ of the ring). */
+  gLo: number;
+  gHi: number;
   windowResolved: boolean;
   countsInWindow: number;
   totalCounts: number;
   lobes: ChainLobe[];
+  /** Why the joint Poisson fit was refused (the lobes then come from the single-lobe fits), null when it held. */
+  jointFitFailure: string | null;
+}
+
+/** Half-maximum points of a Gaussian ring lie at ±1.1774σ; widening by 1.7 reaches ±2.0σ (95 % of the ring). */
+export const ANGULAR_GATE_WIDENING = 1.7;
+
+/**
+ * Radial gate of the angular distribution: a fixed window as given; the automatic window widened about the peak
+ * of dN/dp by {@link ANGULAR_GATE_WIDENING} on each side (at least the first ring, at most the grid).
+ */
+export function angularGate(pLo: number, pHi: number, pPeak: number | null, cfg: ChainConfig): [number, number] {
+  if (cfg.window !== 'auto' || pPeak === null) return [pLo, pHi];
+  const lo = Math.max(0, pPeak - ANGULAR_GATE_WIDENING * (pPeak - pLo));
+  const hi = Math.min(cfg.polar.pMaxAu, pPeak + ANGULAR_GATE_WIDENING * (pHi - pPeak));
+  return [Math.min(lo, pLo), Math.max(hi, pHi)];
 }
 
 // FUNCTIONS //
@@ -117,6 +143,7 @@ export function analysePolarHistogram(
   }
   let pLo: number;
   let pHi: number;
+  let pPeak: number | null = null;
   let resolved = true;
   if (cfg.window === 'auto') {
     const w = autoRadialWindow(g, ws.dNdp, ws.scratch);
@@ -128,22 +155,27 @@ export function analysePolarHistogram(
         reason: 'no positive counts inside the polar grid',
         pLo: 0,
         pHi: g.pMaxAu,
+        gLo: 0,
+        gHi: g.pMaxAu,
         windowResolved: false,
         countsInWindow: 0,
         totalCounts: total,
         lobes: [],
+        jointFitFailure: null,
       };
     }
     pLo = w.pLo;
     pHi = w.pHi;
+    pPeak = w.pPeak;
     resolved = w.resolved;
   } else {
     pLo = cfg.window[0];
     pHi = Math.min(cfg.window[1], g.pMaxAu);
   }
-  radialWindowWeights(g, pLo, pHi, ws.winW);
-  const iLo = Math.max(0, Math.floor(pLo / g.dpAu));
-  const iHi = Math.min(R, Math.ceil(pHi / g.dpAu));
+  const [gLo, gHi] = angularGate(pLo, pHi, pPeak, cfg);
+  radialWindowWeights(g, gLo, gHi, ws.winW);
+  const iLo = Math.max(0, Math.floor(gLo / g.dpAu));
+  const iHi = Math.min(R, Math.ceil(gHi / g.dpAu));
   angularDistributionKernel(M, H, ws.winW, iLo, iHi, ws.angular);
   let inWindow = 0;
   for (let j = 0; j < M; j++) inWindow += ws.angular[j]!;
@@ -154,10 +186,13 @@ export function analysePolarHistogram(
       reason: 'no positive counts inside the radial window',
       pLo,
       pHi,
+      gLo,
+      gHi,
       windowResolved: resolved,
       countsInWindow: inWindow,
       totalCounts: total,
       lobes: [],
+      jointFitFailure: null,
     };
   }
   const candidates = findLobeCandidates(g.thetaCentresDeg, ws.smoothed, cfg.nLobes, seedsDeg);
@@ -166,16 +201,45 @@ export function analysePolarHistogram(
   const rLo = Math.max(1, Math.floor((pLo - width) / g.dpAu));
   const rHi = Math.min(R, Math.ceil((pHi + width) / g.dpAu));
   const lobes: ChainLobe[] = [];
-  for (const c of candidates) {
-    const f = fitAngularPeak(
-      g.thetaCentresDeg,
-      ws.angular,
-      ws.smoothed,
-      c,
-      cfg.peakModel,
-      cfg.fitHalfWidthDeg,
-      ws.peak,
-    );
+  // joint Poisson ML of all lobes (gaussian / von_mises); the single-lobe fits remain for `parabola` and as fallback
+  let jointFitFailure: string | null = null;
+  type AngleFit = {
+    angleDeg: number;
+    widthDeg: number | null;
+    method: PeakModel | 'parabola_fallback';
+    nearEdge: boolean;
+    fitSigmaDeg: number | null;
+    windowDeg: [number, number] | null;
+  };
+  let fits: AngleFit[] | null = null;
+  if (cfg.peakModel !== 'parabola' && candidates.length > 0) {
+    const j = fitLobesJointly(g.thetaCentresDeg, ws.angular, ws.smoothed, candidates, {
+      shape: cfg.peakModel,
+      window: cfg.fitHalfWidthDeg,
+      startWidthsDeg: cfg.startWidthsDeg ?? null,
+    });
+    if (j.ok) {
+      fits = j.lobes.map((l) => ({
+        angleDeg: l.angleDeg,
+        widthDeg: l.widthDeg,
+        method: cfg.peakModel,
+        nearEdge: l.nearEdge,
+        fitSigmaDeg: l.angleSigmaDeg,
+        windowDeg: l.windowDeg,
+      }));
+    } else {
+      jointFitFailure = j.reason;
+    }
+  }
+  if (!fits) {
+    const hw = cfg.fitHalfWidthDeg === 'follow' ? 45 : cfg.fitHalfWidthDeg;
+    fits = candidates.map((c) => ({
+      ...fitAngularPeak(g.thetaCentresDeg, ws.angular, ws.smoothed, c, cfg.peakModel, hw, ws.peak),
+      windowDeg: null,
+    }));
+  }
+  candidates.forEach((c, k) => {
+    const f = fits[k]!;
     const nSec = sectorDensityKernel(g, H, f.angleDeg, sectorHalf, ws.density, ws.sectorCounts);
     const dth = (nSec * g.dthetaDeg * Math.PI) / 180;
     for (let i = 0; i < R; i++) ws.area[i] = g.pCentresAu[i]! * g.dpAu * dth;
@@ -187,19 +251,23 @@ export function analysePolarHistogram(
       method: f.method,
       angleNearEdge: f.nearEdge,
       fitSigmaDeg: f.fitSigmaDeg,
+      windowDeg: f.windowDeg,
       radiusAu: r ? r.radiusAu : null,
       radiusFellBack: r ? r.method === 'parabola_fallback' : true,
       radiusNearEdge: r ? r.nearEdge : false,
     });
-  }
+  });
   return {
     ok: true,
     reason: null,
     pLo,
     pHi,
+    gLo,
+    gHi,
     windowResolved: resolved,
     countsInWindow: inWindow,
     totalCounts: total,
     lobes,
+    jointFitFailure,
   };
 }

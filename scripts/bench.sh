@@ -20,6 +20,8 @@ SECTIONS=(
   "N5|npx tsx scripts/bench/n5-scan-table.ts"
   # 20 signed-in HTTP clients on the running app (start the app and run N5 once first; see the script's header).
   "LOAD|npx tsx scripts/bench/load-app.ts"
+  # precision of the lobe angles (several minutes; scripts/bench/precision.ts --realisations 10 for a quick look)
+  "PRECISION|npx tsx scripts/bench/precision.ts"
 )
 
 want=("$@")

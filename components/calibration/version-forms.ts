@@ -77,7 +77,7 @@ export function formToSettings(f: FormState, base: Record<string, unknown> | nul
   const phase: Record<string, unknown> = { min_counts: num(f.phase_min_counts), harmonics: num(f.phase_harmonics) };
   const basePhase = (base?.phase ?? null) as { regions?: unknown } | null;
   if (basePhase?.regions) phase.regions = basePhase.regions;
-  return {
+  const out: Record<string, unknown> = {
     grid: { p_max_au: num(f.p_max_au), n: num(f.grid_n) },
     radial_window_au: f.window_auto ? 'auto' : [num(f.window_min), num(f.window_max)],
     angular_bins: num(f.angular_bins),
@@ -89,4 +89,19 @@ export function formToSettings(f: FormState, base: Record<string, unknown> | nul
     bootstrap: { resamples: num(f.bootstrap_resamples), seed: num(f.bootstrap_seed) },
     phase,
   };
+  // settings that followed the data keep doing so unless this edit changed them (an explicit value wins)
+  const follow = (base?.follow_data ?? null) as { grid: boolean; fit_window: boolean; peak_model: boolean } | null;
+  if (follow && base) {
+    const g = base.grid as { p_max_au?: number; n?: number } | undefined;
+    out.follow_data = {
+      grid:
+        follow.grid &&
+        g?.p_max_au === num(f.p_max_au) &&
+        g?.n === num(f.grid_n) &&
+        base.radial_bins === num(f.radial_bins),
+      fit_window: follow.fit_window && base.fit_half_width_deg === num(f.fit_half_width_deg),
+      peak_model: follow.peak_model && base.peak_model === f.peak_model,
+    };
+  }
+  return out;
 }

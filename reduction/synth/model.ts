@@ -59,6 +59,13 @@ export interface SynthOptions {
   intensityMaxWcm2: number;
   /** Lobe angle of a single image (deg, lab azimuth; ignored for other kinds). */
   imageAngleDeg: number;
+  /** Optional: lobe width 1/√κ of the von Mises angular shape, degrees (default 15°, 20° for `image`). */
+  lobeWidthDeg?: number;
+  /**
+   * Optional: an isotropic component with the lobes' radial profile (flat in angle) holding this fraction of the
+   * lobe counts (0 … 10; default 0). `signal_counts` is then the lobe counts; the frame holds (1 + f) times that.
+   */
+  isotropicFraction?: number;
 }
 
 export interface TruthLobe {
@@ -109,6 +116,8 @@ export interface ScanPlan {
   /** Radial width σ_r (a.u.) and von Mises concentration κ of every lobe. */
   radialSigmaAu: number;
   kappa: number;
+  /** Isotropic fraction of the options (0 when not asked for). */
+  isotropicFraction: number;
   steps: TruthStep[];
   phase: PhaseTruth | null;
   /** Dark counts per pixel per shot, and the detector's warm spot. */
@@ -229,6 +238,11 @@ export function planScan(partial: Partial<SynthOptions>): ScanPlan {
   if (!(Number.isInteger(o.size) && o.size >= 32 && o.size <= 8192))
     throw new RangeError(`size must be 32…8192, got ${o.size}`);
   if (!(o.counts > 0)) throw new RangeError(`counts must be > 0, got ${o.counts}`);
+  const iso = o.isotropicFraction ?? 0;
+  if (!(iso >= 0 && iso <= 10)) throw new RangeError(`isotropicFraction must be 0…10, got ${iso}`);
+  if (o.lobeWidthDeg !== undefined && !(o.lobeWidthDeg >= 1 && o.lobeWidthDeg <= 90)) {
+    throw new RangeError(`lobeWidthDeg must be 1…90, got ${o.lobeWidthDeg}`);
+  }
   const calibration = synthCalibration(o);
   const n = o.steps;
   const shots = Array.from({ length: n }, (_, k) => 1000 + 100 * k);
@@ -350,7 +364,11 @@ export function planScan(partial: Partial<SynthOptions>): ScanPlan {
     shots,
     backgroundShots,
     radialSigmaAu,
-    kappa,
+    kappa:
+      o.lobeWidthDeg !== undefined && o.kind !== 'two_color_phase'
+        ? 1 / (o.lobeWidthDeg * (Math.PI / 180)) ** 2
+        : kappa,
+    isotropicFraction: o.kind === 'two_color_phase' ? 0 : iso,
     steps,
     phase,
     detectorBackground: {
@@ -384,6 +402,17 @@ function twoColourMean(px: number, py: number, sigma: number): number {
   return ring + core;
 }
 
+/** (1/2π)∫exp(κ(cos u − 1))du = I₀(κ)e^(−κ), by the midpoint rule over 3600 points (exact to rounding). */
+const meanVonMisesCache = new Map<number, number>();
+function meanVonMises(kappa: number): number {
+  const hit = meanVonMisesCache.get(kappa);
+  if (hit !== undefined) return hit;
+  let s = 0;
+  for (let i = 0; i < 3600; i++) s += Math.exp(kappa * (Math.cos(((i + 0.5) * 2 * Math.PI) / 3600) - 1));
+  meanVonMisesCache.set(kappa, s / 3600);
+  return s / 3600;
+}
+
 /**
  * Unnormalised signal density of step k at lab momentum (px, py).
  */
@@ -402,6 +431,11 @@ function density(plan: ScanPlan, k: number, px: number, py: number): number {
     const radial = Math.exp(-((p - lobe.radius_au) ** 2) / s2);
     const ang = Math.exp(plan.kappa * (Math.cos(th - (lobe.angle_deg * Math.PI) / 180) - 1));
     sum += radial * ang;
+  }
+  if (plan.isotropicFraction > 0 && step.lobes.length > 0) {
+    // flat in angle with the same radial profile: its angular integral is f × Σ_k ∫exp(κ(cos u − 1))du
+    const r0 = step.lobes[0]!.radius_au;
+    sum += plan.isotropicFraction * step.lobes.length * meanVonMises(plan.kappa) * Math.exp(-((p - r0) ** 2) / s2);
   }
   return sum;
 }
@@ -437,7 +471,7 @@ export function renderSignal(plan: ScanPlan, k: number, out: Float64Array): Floa
       }
     }
   }
-  const scale = norm > 0 ? step.signal_counts / norm : 0;
+  const scale = norm > 0 ? (step.signal_counts * (1 + plan.isotropicFraction)) / norm : 0;
   for (let i = 0; i < out.length; i++) out[i] = (out[i] as number) * scale;
   return out;
 }

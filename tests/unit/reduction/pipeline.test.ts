@@ -300,12 +300,21 @@ describe('inputs, warnings and errors', () => {
     expect(c.momentum_per_pixel_au).toBe(0.004);
     expect(c.rotation_deg).toBe(0);
   });
-  it('axes: grid centres, angular and radial bin centres', () => {
+  it('axes: grid centres, angular and radial bin centres; the grid follows a coarse pixel unless given', () => {
+    // pixel 0.05 a.u. is coarser than the default cell (0.01 a.u.): cells and rings become one pixel wide
     const red = createScanReducer({ meta: makeMeta({ nX: small, nY: small }), calibration: cal, settings: s0 });
-    expect(red.axes.pxAu.length).toBe(401);
+    expect(red.axes.pxAu.length).toBe(2 * Math.floor(2 / 0.05) + 1);
     expect(red.axes.thetaDeg.length).toBe(360);
-    expect(red.axes.pAu.length).toBe(200);
+    expect(red.axes.pAu.length).toBe(Math.floor(2 / 0.05));
     const { result } = red.finish();
     expect(result.warnings.some((w) => /step 0 missing/.test(w))).toBe(true);
+    expect(result.warnings.some((w) => /larger than the radial bins/.test(w))).toBe(false);
+    expect(result.settings.grid.n).toBe(81);
+    // an explicit grid wins (and then the coarse pixels are warned)
+    const s1 = analysisSettingsSchema.parse({ grid: { p_max_au: 2, n: 401 }, bootstrap: { resamples: 0, seed: 1 } });
+    const red1 = createScanReducer({ meta: makeMeta({ nX: small, nY: small }), calibration: cal, settings: s1 });
+    expect(red1.axes.pxAu.length).toBe(401);
+    expect(red1.axes.pAu.length).toBe(200);
+    expect(red1.finish().result.warnings.some((w) => /larger than the radial bins/.test(w))).toBe(true);
   });
 });
