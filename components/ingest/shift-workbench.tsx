@@ -21,6 +21,8 @@ export function ShiftWorkbench({ initial, initialReceipt }: { initial: ShiftView
     queryKey: ['shift', shiftId],
     queryFn: () => apiFetch<ShiftViewDto>(`/api/shifts/${shiftId}`),
     initialData: initial,
+    // while a worker verifies a large file, the list follows it until the verdict is there
+    refetchInterval: (q) => (q.state.data?.verifying?.length ? 3_000 : false),
   });
   const closed = view.data.shift.status === 'closed';
   const receipt = useQuery({
@@ -56,6 +58,7 @@ export function ShiftWorkbench({ initial, initialReceipt }: { initial: ShiftView
         )}
         <StoredFiles
           files={data.files}
+          verifying={data.verifying ?? []}
           canRelease={data.permissions.release}
           canUpload={data.permissions.upload}
           onChanged={refresh}

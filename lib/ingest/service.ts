@@ -26,6 +26,7 @@ import {
   listShiftLog,
   listTeamAnalystEmails,
   listUnfinishedUploads,
+  listVerifyingUploads,
   markRawFileReplaced,
   markReceiptSent,
   releaseRawFileRows,
@@ -112,9 +113,10 @@ const expiresAt = () => new Date(Date.now() + PRESIGN_SECONDS * 1000).toISOStrin
 export async function getShiftView(actor: Actor, shiftId: number): Promise<ShiftViewDto> {
   const shift = await loadShift(actor, shiftId);
   authorize(actor, 'shift.view', { teamId: shift.teamId, surface: 'shift' });
-  const [files, unfinished, entries] = await Promise.all([
+  const [files, unfinished, verifying, entries] = await Promise.all([
     listShiftFiles({ shiftId }),
     listUnfinishedUploads({ shiftId }),
+    listVerifyingUploads({ shiftId }),
     listShiftLog({ shiftId }),
   ]);
   const teamId = shift.teamId;
@@ -123,6 +125,7 @@ export async function getShiftView(actor: Actor, shiftId: number): Promise<Shift
     shift: shift.header,
     files,
     unfinished,
+    verifying,
     log: entries,
     permissions: {
       upload: open && can(actor, 'upload.create', { teamId }),

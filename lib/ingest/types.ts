@@ -75,10 +75,18 @@ export interface ShiftPermissionsDto {
   release: boolean;
 }
 
+/** An upload whose stored object is being verified by a worker. */
+export interface VerifyingUploadDto {
+  uploadId: number;
+  fileName: string;
+  sizeBytes: number;
+}
+
 export interface ShiftViewDto {
   shift: ShiftHeaderDto;
   files: ShiftFileDto[];
   unfinished: UnfinishedUploadDto[];
+  verifying: VerifyingUploadDto[];
   log: LogEntryDto[];
   permissions: ShiftPermissionsDto;
 }

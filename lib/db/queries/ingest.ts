@@ -12,6 +12,7 @@ import type {
   ShiftFileDto,
   ShiftHeaderDto,
   UnfinishedUploadDto,
+  VerifyingUploadDto,
 } from '@/lib/ingest/types';
 import { Campaign, Membership, RawFile, Scan, Shift, ShiftLogEntry, Team, Upload, User } from '@/models';
 import type { ScanMetadata } from '@/reduction/formats';
@@ -330,6 +331,14 @@ export async function listUnfinishedUploads({ shiftId }: { shiftId: number }): P
       uploadedBy: names.get(u.user_id) ?? null,
       startedAt: iso(u.created_at) ?? '',
     }));
+  });
+}
+
+/** Uploads of the shift whose stored object a worker is verifying now (large files, after the completion answered). */
+export async function listVerifyingUploads({ shiftId }: { shiftId: number }): Promise<VerifyingUploadDto[]> {
+  return db('listVerifyingUploads', async () => {
+    const rows = await Upload.findAll({ where: { shift_id: shiftId, status: 'verifying' }, order: [['id', 'ASC']] });
+    return rows.map((u) => ({ uploadId: u.id, fileName: u.file_name, sizeBytes: Number(u.size_bytes) }));
   });
 }
 
