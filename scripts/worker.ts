@@ -28,6 +28,8 @@ async function main(): Promise<number> {
     return 2;
   }
   loadDotEnv();
+  // the upload verification uses the data layer, which imports 'server-only' (see server-only-shim.ts)
+  await import('./server-only-shim');
   const { EnvError, getEnv } = await import('@/lib/env');
   try {
     getEnv();
