@@ -309,6 +309,7 @@ async function discardUpload(upload: UploadRecord, why: string): Promise<void> {
     // The row already says aborted; leftover parts are only storage, never a catalogued file.
     ilog.warn('could not remove the parts of an aborted upload', { uploadId: upload.id, err });
   }
+  if (!upload.multipartUploadId) await scheduleLeftovers(upload.id);
 }
 
 // COMPLETE AND VERIFY //
@@ -339,6 +340,7 @@ async function removeUploadObjects(upload: UploadRecord, keepKey?: string): Prom
 async function failUpload(upload: UploadRecord, sentence: string): Promise<never> {
   await transitionUpload({ uploadId: upload.id, from: ['verifying'], to: 'failed', error: sentence });
   await removeUploadObjects(upload);
+  await scheduleLeftovers(upload.id);
   throw new AppError('bad_request:upload', {
     message: 'The stored file does not match the file you sent.',
     details: [sentence],
@@ -513,6 +515,40 @@ export async function verifyQueuedUpload(uploadId: number, ip?: string | null): 
   return verifyAndCatalogue(actor, upload, shift, upload.clientSha256, ip ?? undefined, false);
 }
 
+/**
+ * Removes the upload key of a finished upload (completed, failed or aborted) unless the catalogue points at it
+ * (uploads from before keys were copied). Called by a delayed job once the upload's URLs have expired.
+ *
+ * @returns whether a removal was attempted
+ */
+export async function removeUploadLeftovers(uploadId: number): Promise<boolean> {
+  const upload = await getUploadRecord({ uploadId });
+  if (!upload || upload.status === 'open' || upload.status === 'verifying') return false;
+  if (upload.rawFileId) {
+    const raw = await getRawFileRecord({ rawFileId: upload.rawFileId });
+    if (raw?.storageKey === upload.objectKey) return false;
+  }
+  await deleteObject(upload.bucket, upload.objectKey);
+  return true;
+}
+
+/** Asks for the leftover removal of an upload that just finished (a queue outage only delays storage hygiene). */
+async function scheduleLeftovers(uploadId: number): Promise<void> {
+  try {
+    const { scheduleUploadLeftoverRemoval } = await import('@/lib/jobs/verify-upload');
+    let timer: ReturnType<typeof setTimeout> | undefined;
+    // never let an unreachable queue hold up the answer to the browser
+    await Promise.race([
+      scheduleUploadLeftoverRemoval(uploadId, PRESIGN_SECONDS),
+      new Promise((_, reject) => {
+        timer = setTimeout(() => reject(new Error('queue did not answer within 2 s')), 2_000);
+      }),
+    ]).finally(() => clearTimeout(timer));
+  } catch (err) {
+    ilog.warn('could not schedule the removal of an upload key', { uploadId, err });
+  }
+}
+
 /** Marks an upload whose queued verification could not run (after every retry) open again, with the reason. */
 export async function giveUpQueuedVerification(uploadId: number, sentence: string): Promise<void> {
   await transitionUpload({ uploadId, from: ['verifying'], to: 'open', error: sentence });
@@ -565,6 +601,7 @@ async function verifyAndCatalogue(
     const outcome = await catalogue(actor, { ...upload, objectKey: storedKey }, shift, sha256, local, clientSha256, ip);
     // The upload key is not needed any more (a duplicate's copy was removed by linkDuplicate).
     await removeUploadObjects(upload, outcome.outcome === 'duplicate' ? undefined : storedKey);
+    await scheduleLeftovers(uploadId);
     if (outcome.outcome !== 'quarantined' && outcome.reasons.length === 0) await onScanAccepted(outcome.scanId);
     return outcome;
   } catch (err) {

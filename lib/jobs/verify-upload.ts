@@ -61,7 +61,25 @@ export async function closeUploadVerifyQueue(): Promise<void> {
   if (q) await q.close();
 }
 
+/**
+ * Schedules the removal of an upload's key once every URL handed out for it has expired (PRESIGN_SECONDS, plus a
+ * minute): a PUT through a still-valid URL after the upload finished can only (re)create that key, never the
+ * stored one, and this removes what it left.
+ */
+export async function scheduleUploadLeftoverRemoval(uploadId: number, presignSeconds: number): Promise<void> {
+  await getUploadVerifyQueue().add(
+    'leftovers',
+    { uploadId, ip: null },
+    { jobId: `leftovers-${uploadId}`, delay: (presignSeconds + 60) * 1000 },
+  );
+}
+
 async function handle(job: Job<UploadVerifyData>): Promise<{ outcome: string | null }> {
+  if (job.name === 'leftovers') {
+    const { removeUploadLeftovers } = await import('@/lib/ingest/service');
+    const removed = await removeUploadLeftovers(Number(job.data.uploadId));
+    return { outcome: removed ? 'removed' : null };
+  }
   const parsed = uploadVerifyDataSchema.safeParse(job.data);
   if (!parsed.success) throw new UnrecoverableError(`malformed job payload for ${job.id}`);
   const { verifyQueuedUpload, giveUpQueuedVerification } = await import('@/lib/ingest/service');

@@ -31,7 +31,8 @@ const s3 = await import('@/lib/storage/s3');
 const models = await import('@/models');
 const { makeExample } = await import('@/scripts/make-example');
 const { BROKEN_KINDS } = await import('@/reduction/synth/scan-file');
-const { partRange } = await import('@/lib/ingest/plan');
+const { partRange, PRESIGN_SECONDS } = await import('@/lib/ingest/plan');
+const service = await import('@/lib/ingest/service');
 const { Sha256 } = await import('@/lib/ingest/sha256');
 const verify = await import('@/lib/ingest/verify');
 
@@ -477,7 +478,14 @@ describe('uploads through presigned URLs', () => {
     // completing again gives the first verdict and catalogues nothing new
     const again = await call(completePOST, { params: { uploadId: start.json.uploadId }, body: {} });
     expect(again.json).toMatchObject({ outcome: 'accepted', rawFileId: raw!.id, sha256: sha(bytes) });
-    await s3.deleteObject(up!.bucket, up!.object_key);
+    // what the late PUT left under the upload key is removed by a job delayed until every URL has expired
+    const job = await verifyJobs.getUploadVerifyQueue().getJob(`leftovers-${up!.id}`);
+    expect(job?.name).toBe('leftovers');
+    expect(job!.opts.delay).toBeGreaterThan(PRESIGN_SECONDS * 1000);
+    expect(await service.removeUploadLeftovers(up!.id)).toBe(true);
+    await expect(s3.headObject(up!.bucket, up!.object_key)).rejects.toMatchObject({ code: 'not_found:storage' });
+    expect(await storedSha(raw!.id)).toBe(sha(bytes));
+    await job!.remove();
   });
 
   it('the worker reads only the verified bytes: changed bytes under the catalogued key are detected and named', async () => {
