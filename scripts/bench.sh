@@ -17,6 +17,7 @@ SECTIONS=(
   "N2|npx tsx scripts/bench/n2-angular.ts"
   "N3|npx tsx scripts/bench/n3-sha256.ts"
   "N4|npx tsx scripts/bench/n4-multipart.ts"
+  "N3b|npx tsx scripts/bench/n3-browser-sha256.ts"
   "N5|npx tsx scripts/bench/n5-scan-table.ts"
   # 20 signed-in HTTP clients on the running app (start the app and run N5 once first; see the script's header).
   "LOAD|npx tsx scripts/bench/load-app.ts"

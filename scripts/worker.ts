@@ -28,6 +28,8 @@ async function main(): Promise<number> {
     return 2;
   }
   loadDotEnv();
+  // the upload verification uses the data layer, which imports 'server-only' (see server-only-shim.ts)
+  await import('./server-only-shim');
   const { EnvError, getEnv } = await import('@/lib/env');
   try {
     getEnv();
@@ -39,13 +41,16 @@ async function main(): Promise<number> {
     throw err;
   }
   const { startReductionWorker } = await import('@/lib/jobs/worker');
+  const { startUploadVerifyWorker } = await import('@/lib/jobs/verify-upload');
   const { closeSequelize } = await import('@/lib/db');
   const { closeS3Client } = await import('@/lib/storage/s3');
   const { closeMailTransport } = await import('@/lib/mail/transport');
   const { log } = await import('@/lib/log');
   const name = `${hostname()}:${process.pid}`;
   const { worker, close } = startReductionWorker({ concurrency, name });
-  await worker.waitUntilReady();
+  // Large uploads are verified here too, off the web server's request path.
+  const verify = startUploadVerifyWorker({ name });
+  await Promise.all([worker.waitUntilReady(), verify.worker.waitUntilReady()]);
   log.info('reduction worker ready', { name, concurrency });
   console.log(`Lobeline reduction worker ${name} is waiting for jobs (concurrency ${concurrency}). Ctrl-C stops it.`);
   await new Promise<void>((resolve) => {
@@ -59,7 +64,7 @@ async function main(): Promise<number> {
     process.once('SIGINT', () => stop('SIGINT'));
     process.once('SIGTERM', () => stop('SIGTERM'));
   });
-  await close();
+  await Promise.all([close(), verify.close()]);
   await closeSequelize();
   closeS3Client();
   closeMailTransport();

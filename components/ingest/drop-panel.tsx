@@ -32,7 +32,7 @@ const PHASE_WORDS: Record<QueueItem['phase'], string> = {
   queued: 'Waiting to send',
   sending: 'Sending',
   'waiting-hash': 'Finishing the checksum…',
-  verifying: 'Verifying in storage…',
+  verifying: 'Verifying in storage (size, SHA-256, every frame)…',
   done: 'Stored',
   failed: 'Not stored',
   cancelled: 'Cancelled — not stored',
@@ -218,6 +218,11 @@ function ItemRow({
           <div className="text-small text-ink-700" data-testid="item-outcome">
             <p>{item.outcome.message}</p>
             <p className="font-mono text-micro break-all text-ink-500">SHA-256 {item.outcome.sha256}</p>
+            {item.outcome.warnings?.map((w) => (
+              <p key={w} className="text-micro text-flare-900" data-testid="item-warning">
+                {w}
+              </p>
+            ))}
             {item.outcome.reasons.length ? (
               <ul className="mt-1 list-disc pl-5 font-mono text-micro text-fault-700">
                 {item.outcome.reasons.map((r) => (

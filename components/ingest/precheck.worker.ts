@@ -1,11 +1,11 @@
 /// <reference lib="webworker" />
 // The shift page's worker: opens each dropped file with Lobeline's scan-file reader (reduction/hdf5 on h5wasm)
-// and computes the file's SHA-256, off the main thread so the page stays responsive.
+// and computes the file's SHA-256 (WebAssembly, lib/ingest/file-hash.ts), off the main thread so the page stays responsive.
 //
 // The File is mounted with Emscripten's WORKERFS, so HDF5 reads only the bytes the reader asks for (metadata and
 // the first frame) even for a file of many GB; if the mount fails the bytes are copied into the in-memory FS.
 import * as h5wasm from 'h5wasm';
-import { Sha256 } from '@/lib/ingest/sha256';
+import { createChunkHasher } from '@/lib/ingest/file-hash';
 import { openScanBytes, openScanFile } from '@/reduction/hdf5/reader';
 import { type H5Runtime, runtimeFrom } from '@/reduction/hdf5/runtime';
 import { saturationWarning } from '@/reduction/saturation';
@@ -123,10 +123,15 @@ async function precheck(id: number, file: File): Promise<PrecheckResult> {
 }
 
 async function hash(id: number, file: File): Promise<string> {
-  const h = new Sha256();
+  const h = await createChunkHasher();
   let last = 0;
+  const read = (at: number) => file.slice(at, Math.min(file.size, at + HASH_CHUNK)).arrayBuffer();
+  // the next chunk is read from disk while this one is hashed
+  let next = file.size > 0 ? read(0) : null;
   for (let at = 0; at < file.size; at += HASH_CHUNK) {
-    h.update(new Uint8Array(await file.slice(at, Math.min(file.size, at + HASH_CHUNK)).arrayBuffer()));
+    const chunk = new Uint8Array(await next!);
+    next = at + HASH_CHUNK < file.size ? read(at + HASH_CHUNK) : null;
+    h.update(chunk);
     const now = performance.now();
     if (now - last > 200) {
       last = now;

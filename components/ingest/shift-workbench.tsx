@@ -22,9 +22,13 @@ export function ShiftWorkbench({ initial, initialReceipt }: { initial: ShiftView
     queryKey: ['shift', shiftId],
     queryFn: () => apiFetch<ShiftViewDto>(`/api/shifts/${shiftId}`),
     initialData: initial,
-    // follow the worker: "Stored in this shift" asks again while any of its scans is queued or reducing
-    refetchInterval: (q) =>
-      q.state.data?.files.some((f) => f.scanStatus === 'queued' || f.scanStatus === 'reducing') ? 2000 : false,
+    // follow the worker: "Stored in this shift" asks again while any of its scans is queued or reducing, and while
+    // a worker verifies a large file, until the verdict is there
+    refetchInterval: (q) => {
+      const d = q.state.data;
+      if (d?.files.some((f) => f.scanStatus === 'queued' || f.scanStatus === 'reducing')) return 2000;
+      return d?.verifying?.length ? 3_000 : false;
+    },
   });
   const closed = view.data.shift.status === 'closed';
   const receipt = useQuery({
@@ -63,6 +67,7 @@ export function ShiftWorkbench({ initial, initialReceipt }: { initial: ShiftView
         )}
         <StoredFiles
           files={data.files}
+          verifying={data.verifying ?? []}
           canRelease={data.permissions.release}
           canUpload={data.permissions.upload}
           onChanged={refresh}

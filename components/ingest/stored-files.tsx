@@ -4,7 +4,7 @@ import { useRef, useState } from 'react';
 import { Badge, Button, EmptyState, inputClass, Panel } from '@/components/ui';
 import { ApiError, apiFetch } from '@/lib/api/client';
 import { metadataOverrideSchema } from '@/lib/ingest/schemas';
-import type { ShiftFileDto } from '@/lib/ingest/types';
+import type { ShiftFileDto, VerifyingUploadDto } from '@/lib/ingest/types';
 import { formatBytes, KIND_WORDS } from './format';
 
 const STATUS: Record<ShiftFileDto['rawStatus'], { tone: 'good' | 'bad' | 'info' | 'neutral'; word: string }> = {
@@ -129,12 +129,14 @@ function ReleaseForm({ file, onDone }: { file: ShiftFileDto; onDone: () => void 
 
 export function StoredFiles({
   files,
+  verifying,
   canRelease,
   canUpload,
   onChanged,
   onReplace,
 }: {
   files: ShiftFileDto[];
+  verifying: VerifyingUploadDto[];
   canRelease: boolean;
   canUpload: boolean;
   onChanged: () => void;
@@ -166,6 +168,19 @@ export function StoredFiles({
           e.target.value = '';
         }}
       />
+      {verifying.length ? (
+        <ul
+          className="border-b border-ink-100 bg-ink-50 px-5 py-3 text-small text-ink-700"
+          data-testid="verifying-files"
+        >
+          {verifying.map((v) => (
+            <li key={v.uploadId}>
+              {v.fileName} · {formatBytes(v.sizeBytes)} · arrived; storage is checking its size, SHA-256 and every
+              frame. It is listed below when the check is done.
+            </li>
+          ))}
+        </ul>
+      ) : null}
       {files.length === 0 ? (
         <div className="p-5">
           <EmptyState title="No files stored yet">Files appear here once storage has verified them.</EmptyState>
@@ -221,6 +236,11 @@ export function StoredFiles({
                 {f.uploadedBy ? ` · sent by ${f.uploadedBy}` : ''}
               </p>
               <p className="font-mono text-micro break-all text-ink-400">SHA-256 {f.sha256}</p>
+              {f.warnings.map((w) => (
+                <p key={w} className="text-micro text-flare-900" data-testid="stored-warning">
+                  {w}
+                </p>
+              ))}
               {f.reasons.length && f.rawStatus !== 'accepted' ? (
                 <ul
                   className={`mt-1 list-disc pl-5 font-mono text-micro ${f.rawStatus === 'quarantined' ? 'text-fault-700' : 'text-ink-500 line-through'}`}

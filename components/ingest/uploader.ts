@@ -1,12 +1,17 @@
 // The browser side of an upload: asks the server for a ticket (start or resume), sends the bytes straight to S3
-// through presigned URLs (one PUT, or parts with 4 in flight), retries failed parts with exponential backoff,
-// waits while the browser is offline, and asks the server to verify. Cancel aborts everything. Browser only.
+// through presigned URLs (one PUT, or parts; every PUT of the batch takes a slot of one shared PartSlots, so the
+// requests in flight stay bounded however many files are sent at once), retries failed parts with exponential
+// backoff, waits while the browser is offline, asks the server to verify and, for a large file that the server
+// verifies in its worker, asks until the verdict is there. Cancel aborts everything. Browser only.
 import { ApiError, apiFetch } from '@/lib/api/client';
 import { PARALLEL_PARTS, partRange, retryDelayMs } from '@/lib/ingest/plan';
 import type { Precheck } from '@/lib/ingest/schemas';
-import type { PartUrlDto, UploadOutcomeDto, UploadTicketDto } from '@/lib/ingest/types';
+import type { PartUrlDto, UploadOutcomeDto, UploadStateDto, UploadTicketDto } from '@/lib/ingest/types';
 
 const MAX_ATTEMPTS = 6;
+/** First and longest wait between two questions for the verdict on a file the server's worker verifies. */
+const VERDICT_POLL_FIRST_MS = 700;
+const VERDICT_POLL_MAX_MS = 5_000;
 const URL_BATCH = 16;
 
 export interface UploadCallbacks {
@@ -26,7 +31,52 @@ export interface RetryInfo {
   offline: boolean;
 }
 
+/**
+ * A counting semaphore for PUTs to storage, shared by the files of a batch: at most `size` requests in flight in
+ * all. Waiters are served in the order they asked.
+ */
+export class PartSlots {
+  private free: number;
+  private readonly waiting: (() => void)[] = [];
+
+  constructor(readonly size: number) {
+    this.free = size;
+  }
+
+  /** Resolves with the release function once a slot is free (rejects when `signal` aborts first). */
+  acquire(signal: AbortSignal): Promise<() => void> {
+    if (signal.aborted) return Promise.reject(new Cancelled());
+    let released = false;
+    const release = () => {
+      if (released) return;
+      released = true;
+      const next = this.waiting.shift();
+      if (next) next();
+      else this.free++;
+    };
+    if (this.free > 0) {
+      this.free--;
+      return Promise.resolve(release);
+    }
+    return new Promise((resolve, reject) => {
+      const grant = () => {
+        signal.removeEventListener('abort', onAbort);
+        resolve(release);
+      };
+      const onAbort = () => {
+        const i = this.waiting.indexOf(grant);
+        if (i >= 0) this.waiting.splice(i, 1);
+        reject(new Cancelled());
+      };
+      this.waiting.push(grant);
+      signal.addEventListener('abort', onAbort, { once: true });
+    });
+  }
+}
+
 export interface UploadInput {
+  /** Slots shared with the other files being sent (default: this file's own PARALLEL_PARTS). */
+  slots?: PartSlots;
   file: File;
   shiftId: number;
   precheck: Precheck | null;
@@ -157,6 +207,7 @@ export async function uploadFile(
   cb: UploadCallbacks,
 ): Promise<{ outcome: UploadOutcomeDto; uploadId: number }> {
   const { file, signal } = input;
+  const slots = input.slots ?? new PartSlots(PARALLEL_PARTS);
   const ticket = await withRetry(() => startTicket(input), signal, undefined, cb.onRetry);
   const onAbort = () => void abortTicket(ticket.uploadId);
   signal.addEventListener('abort', onAbort, { once: true });
@@ -165,7 +216,14 @@ export async function uploadFile(
       cb.onPhase('sending');
       let url = ticket.url;
       await withRetry(
-        () => put(url, file, signal, (n) => cb.onProgress(n, file.size)),
+        async () => {
+          const release = await slots.acquire(signal);
+          try {
+            await put(url, file, signal, (n) => cb.onProgress(n, file.size));
+          } finally {
+            release();
+          }
+        },
         signal,
         // a fresh ticket carries a fresh URL (the old one may have expired while offline)
         () =>
@@ -215,10 +273,15 @@ export async function uploadFile(
           await withRetry(
             async () => {
               const u = await urlFor(n, fresh);
-              await put(u.url, blob, signal, (loaded) => {
-                inFlight.set(n, loaded);
-                report();
-              });
+              const release = await slots.acquire(signal);
+              try {
+                await put(u.url, blob, signal, (loaded) => {
+                  inFlight.set(n, loaded);
+                  report();
+                });
+              } finally {
+                release();
+              }
             },
             signal,
             () => {
@@ -238,9 +301,9 @@ export async function uploadFile(
     cb.onPhase('waiting-hash');
     const sha256 = await input.sha256;
     cb.onPhase('verifying');
-    const outcome = await withRetry(
+    let state = await withRetry(
       () =>
-        apiFetch<UploadOutcomeDto>(`/api/uploads/${ticket.uploadId}/complete`, {
+        apiFetch<UploadStateDto>(`/api/uploads/${ticket.uploadId}/complete`, {
           method: 'POST',
           json: sha256 ? { sha256 } : {},
         }),
@@ -248,7 +311,20 @@ export async function uploadFile(
       undefined,
       cb.onRetry,
     );
-    return { outcome, uploadId: ticket.uploadId };
+    // A large file is verified by the server's worker after the completion answered: ask until it is done.
+    for (let round = 0; state.state === 'verifying'; round++) {
+      await sleep(Math.min(VERDICT_POLL_MAX_MS, VERDICT_POLL_FIRST_MS * 1.5 ** round), signal);
+      state = await withRetry(
+        () => apiFetch<UploadStateDto>(`/api/uploads/${ticket.uploadId}`, { signal }),
+        signal,
+        undefined,
+        cb.onRetry,
+      );
+    }
+    if (state.state !== 'done') {
+      throw new ApiError(`${state.state}:upload`, state.message, state.state === 'failed' ? 400 : 409);
+    }
+    return { outcome: state as UploadOutcomeDto, uploadId: ticket.uploadId };
   } finally {
     signal.removeEventListener('abort', onAbort);
   }

@@ -3,11 +3,12 @@
 // own: a file is either sent, or stays with the reason it was not.
 import { useCallback, useEffect, useRef, useState } from 'react';
 import { ApiError } from '@/lib/api/client';
+import { PARALLEL_PARTS } from '@/lib/ingest/plan';
 import type { Precheck } from '@/lib/ingest/schemas';
 import type { UploadOutcomeDto } from '@/lib/ingest/types';
 import { FileChecker } from './precheck-client';
 import type { PrecheckResult } from './precheck-protocol';
-import { type RetryInfo, uploadFile } from './uploader';
+import { PartSlots, type RetryInfo, uploadFile } from './uploader';
 
 export type ItemPhase =
   | 'checking'
@@ -71,6 +72,9 @@ function toPrecheck(r: PrecheckResult | null): Precheck | null {
   };
 }
 
+/** Files of a batch sent at the same time. */
+const FILES_AT_ONCE = 2;
+
 const isSendable = (i: QueueItem) => i.phase === 'ready' && (i.precheck?.ok === true || i.sendAnyway);
 
 export function useIngestQueue({ shiftId, onStored }: { shiftId: number; onStored: () => void }) {
@@ -80,7 +84,9 @@ export function useIngestQueue({ shiftId, onStored }: { shiftId: number; onStore
   const checker = useRef<FileChecker | null>(null);
   const controllers = useRef(new Map<string, AbortController>());
   const hashes = useRef(new Map<string, Promise<string | null>>());
-  const running = useRef(false);
+  /** Keys of the files being sent now (the items' phases reach the ref only after the next render). */
+  const sending = useRef(new Set<string>());
+  const slots = useRef(new PartSlots(PARALLEL_PARTS));
   const samples = useRef<{ t: number; loaded: number }[]>([]);
   const [stats, setStats] = useState<BatchStats>({
     total: 0,
@@ -145,63 +151,73 @@ export function useIngestQueue({ shiftId, onStored }: { shiftId: number; onStore
     [patch],
   );
 
-  const pump = useCallback(async () => {
-    if (running.current) return;
-    running.current = true;
-    try {
-      for (;;) {
-        const next = itemsRef.current.find((i) => i.phase === 'queued');
-        if (!next) break;
-        const ctrl = new AbortController();
-        controllers.current.set(next.key, ctrl);
-        patch(next.key, { phase: 'sending', startedAt: Date.now(), error: null, retry: null });
-        try {
-          const { outcome } = await uploadFile(
-            {
-              file: next.file,
-              shiftId,
-              precheck: toPrecheck(next.precheck),
-              replacesRawFileId: next.replacesRawFileId,
-              sha256: hashes.current.get(next.key) ?? Promise.resolve(null),
-              signal: ctrl.signal,
-            },
-            {
-              onProgress: (loaded) => patch(next.key, { loaded }),
-              onPhase: (phase, info) =>
-                patch(next.key, (i) => ({ phase, resumedBytes: info?.resumedBytes ?? i.resumedBytes })),
-              onRetry: (info) => patch(next.key, { retry: info ? { ...info, at: Date.now() } : null }),
-            },
-          );
-          patch(next.key, { phase: 'done', outcome, loaded: next.file.size, retry: null });
-          onStored();
-        } catch (err) {
-          if ((err as Error).name === 'AbortError') patch(next.key, { phase: 'cancelled', retry: null });
-          else {
-            const e =
-              err instanceof ApiError
-                ? { message: err.message, details: err.details }
-                : { message: String((err as Error).message ?? err), details: [] };
-            patch(next.key, { phase: 'failed', error: e, retry: null });
-          }
-          onStored();
-        } finally {
-          controllers.current.delete(next.key);
+  /** Sends one queued file; resolves when it has its verdict, failed or was cancelled. */
+  const sendOne = useCallback(
+    async (next: QueueItem) => {
+      const ctrl = new AbortController();
+      controllers.current.set(next.key, ctrl);
+      patch(next.key, { phase: 'sending', startedAt: Date.now(), error: null, retry: null });
+      try {
+        const { outcome } = await uploadFile(
+          {
+            file: next.file,
+            shiftId,
+            precheck: toPrecheck(next.precheck),
+            replacesRawFileId: next.replacesRawFileId,
+            sha256: hashes.current.get(next.key) ?? Promise.resolve(null),
+            signal: ctrl.signal,
+            slots: slots.current,
+          },
+          {
+            onProgress: (loaded) => patch(next.key, { loaded }),
+            onPhase: (phase, info) =>
+              patch(next.key, (i) => ({ phase, resumedBytes: info?.resumedBytes ?? i.resumedBytes })),
+            onRetry: (info) => patch(next.key, { retry: info ? { ...info, at: Date.now() } : null }),
+          },
+        );
+        patch(next.key, { phase: 'done', outcome, loaded: next.file.size, retry: null });
+        onStored();
+      } catch (err) {
+        if ((err as Error).name === 'AbortError') patch(next.key, { phase: 'cancelled', retry: null });
+        else {
+          const e =
+            err instanceof ApiError
+              ? { message: err.message, details: err.details }
+              : { message: String((err as Error).message ?? err), details: [] };
+          patch(next.key, { phase: 'failed', error: e, retry: null });
         }
+        onStored();
+      } finally {
+        controllers.current.delete(next.key);
       }
-    } finally {
-      running.current = false;
+    },
+    [patch, shiftId, onStored],
+  );
+
+  // Up to FILES_AT_ONCE files are sent at the same time; their PUTs share the PARALLEL_PARTS slots.
+  const pump = useCallback(() => {
+    for (;;) {
+      if (sending.current.size >= FILES_AT_ONCE) return;
+      const next = itemsRef.current.find((i) => i.phase === 'queued' && !sending.current.has(i.key));
+      if (!next) return;
+      sending.current.add(next.key);
+      void sendOne(next).finally(() => {
+        sending.current.delete(next.key);
+        // the state has settled once the next render ran; pick the next queued file then
+        setTimeout(() => pump(), 0);
+      });
     }
-  }, [patch, shiftId, onStored]);
+  }, [sendOne]);
 
   const sendAll = useCallback(() => {
     setItems((list) => list.map((i) => (isSendable(i) ? { ...i, phase: 'queued' } : i)));
-    setTimeout(() => void pump(), 0);
+    setTimeout(() => pump(), 0);
   }, [pump]);
 
   const retry = useCallback(
     (key: string) => {
       patch(key, { phase: 'queued', error: null });
-      setTimeout(() => void pump(), 0);
+      setTimeout(() => pump(), 0);
     },
     [patch, pump],
   );

@@ -87,3 +87,19 @@ export function retryDelayMs(attempt: number, random: () => number = Math.random
   const base = Math.min(30_000, 500 * 2 ** (attempt - 1));
   return Math.round(base * (0.75 + 0.5 * random()));
 }
+
+/** Prefix of the keys that presigned URLs name (where browsers put bytes). */
+export const INCOMING_PREFIX = 'incoming/';
+
+/**
+ * The key a verified raw file is kept under. The bytes are copied there inside the store before they are hashed
+ * and read, and no presigned URL ever names this key: nothing a browser was handed can change what the catalogue
+ * points at once it is verified. (Uploads started before keys had the `incoming/` prefix get a `.verified` suffix.)
+ *
+ * @example storedKeyFor('incoming/amo/7/0b1c….h5') // returns 'raw/amo/7/0b1c….h5'
+ */
+export function storedKeyFor(uploadKey: string): string {
+  return uploadKey.startsWith(INCOMING_PREFIX)
+    ? `raw/${uploadKey.slice(INCOMING_PREFIX.length)}`
+    : `${uploadKey.replace(/\.h5$/, '')}.verified.h5`;
+}

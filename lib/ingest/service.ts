@@ -7,6 +7,7 @@ import { randomUUID } from 'node:crypto';
 import { UniqueConstraintError } from 'sequelize';
 import { recordAudit } from '@/lib/audit';
 import { getDb } from '@/lib/db';
+import { getActorByUserId } from '@/lib/db/queries/accounts';
 import {
   ABANDONED_AT_CLOSE,
   closeShiftRow,
@@ -25,6 +26,7 @@ import {
   listShiftLog,
   listTeamAnalystEmails,
   listUnfinishedUploads,
+  listVerifyingUploads,
   markRawFileReplaced,
   markReceiptSent,
   releaseRawFileRows,
@@ -42,6 +44,7 @@ import {
   abortMultipart,
   buckets,
   completeMultipart,
+  copyObjectAnySize,
   createMultipart,
   deleteObject,
   headObject,
@@ -49,11 +52,20 @@ import {
   presignPut,
   presignUploadPart,
 } from '@/lib/storage/s3';
+import { catalogueLimits } from './catalogue-limits';
 import { onScanAccepted } from './on-scan-accepted';
-import { PRESIGN_SECONDS, partRange, planUpload } from './plan';
+import { INCOMING_PREFIX, PRESIGN_SECONDS, partRange, planUpload, storedKeyFor } from './plan';
 import { buildReceipt, type Receipt, receiptHtml, receiptText } from './receipt';
 import type { LogEntryBody, ReleaseBody, StartUploadBody } from './schemas';
-import type { LogEntryDto, PartUrlDto, ShiftViewDto, UploadOutcomeDto, UploadTicketDto } from './types';
+import type {
+  LogEntryDto,
+  PartUrlDto,
+  ShiftViewDto,
+  UploadOutcomeDto,
+  UploadPendingDto,
+  UploadStateDto,
+  UploadTicketDto,
+} from './types';
 import { downloadAndHash, scratchDir, validateScanPath } from './verify';
 
 const ilog = log.child({ surface: 'upload' });
@@ -101,9 +113,10 @@ const expiresAt = () => new Date(Date.now() + PRESIGN_SECONDS * 1000).toISOStrin
 export async function getShiftView(actor: Actor, shiftId: number): Promise<ShiftViewDto> {
   const shift = await loadShift(actor, shiftId);
   authorize(actor, 'shift.view', { teamId: shift.teamId, surface: 'shift' });
-  const [files, unfinished, entries] = await Promise.all([
+  const [files, unfinished, verifying, entries] = await Promise.all([
     listShiftFiles({ shiftId }),
     listUnfinishedUploads({ shiftId }),
+    listVerifyingUploads({ shiftId }),
     listShiftLog({ shiftId }),
   ]);
   const teamId = shift.teamId;
@@ -112,6 +125,7 @@ export async function getShiftView(actor: Actor, shiftId: number): Promise<Shift
     shift: shift.header,
     files,
     unfinished,
+    verifying,
     log: entries,
     permissions: {
       upload: open && can(actor, 'upload.create', { teamId }),
@@ -166,7 +180,7 @@ export async function startUpload(
   });
   if (existing) return ticketFor(existing, true);
 
-  const key = `raw/${shift.teamSlug}/${shift.id}/${randomUUID()}.h5`;
+  const key = `${INCOMING_PREFIX}${shift.teamSlug}/${shift.id}/${randomUUID()}.h5`;
   const bucket = buckets().raw;
   let multipartUploadId: string | null = null;
   if (plan.mode === 'multipart') {
@@ -295,23 +309,100 @@ async function discardUpload(upload: UploadRecord, why: string): Promise<void> {
     // The row already says aborted; leftover parts are only storage, never a catalogued file.
     ilog.warn('could not remove the parts of an aborted upload', { uploadId: upload.id, err });
   }
+  if (!upload.multipartUploadId) await scheduleLeftovers(upload.id);
 }
 
 // COMPLETE AND VERIFY //
 
-function outcomeFrom(upload: UploadRecord, o: Omit<UploadOutcomeDto, 'uploadId'>): UploadOutcomeDto {
-  return { uploadId: upload.id, ...o };
+const MiB = 1024 * 1024;
+
+/**
+ * Objects up to this size are verified inside the completion request (well under a second of hashing and
+ * reading); larger ones are verified by a worker (lib/jobs/verify-upload.ts), off the web server's request path,
+ * and the completion answers at once with `verifying`.
+ */
+export const INLINE_VERIFY_MAX_BYTES = 8 * MiB;
+
+function outcomeFrom(upload: UploadRecord, o: Omit<UploadOutcomeDto, 'uploadId' | 'state'>): UploadOutcomeDto {
+  return { uploadId: upload.id, state: 'done', ...o };
 }
 
-async function failUpload(upload: UploadRecord, sentence: string, removeObject: boolean): Promise<never> {
+/** Removes what an upload left in the store: its upload key and its verified copy (never a catalogued object). */
+async function removeUploadObjects(upload: UploadRecord, keepKey?: string): Promise<void> {
+  for (const key of [upload.objectKey, storedKeyFor(upload.objectKey)]) {
+    if (key === keepKey) continue;
+    await deleteObject(upload.bucket, key).catch((err) =>
+      ilog.warn('could not remove an object of a finished upload', { uploadId: upload.id, key, err }),
+    );
+  }
+}
+
+async function failUpload(upload: UploadRecord, sentence: string): Promise<never> {
   await transitionUpload({ uploadId: upload.id, from: ['verifying'], to: 'failed', error: sentence });
-  if (removeObject) await deleteObject(upload.bucket, upload.objectKey).catch(() => undefined);
+  await removeUploadObjects(upload);
+  await scheduleLeftovers(upload.id);
   throw new AppError('bad_request:upload', {
     message: 'The stored file does not match the file you sent.',
     details: [sentence],
   });
 }
 
+/**
+ * Answer of the completion route: the verdict when the file was verified in the request, else `verifying` (the
+ * worker's queue has it; GET /api/uploads/[id] tells when it is done).
+ */
+export async function finishUpload(
+  actor: Actor,
+  uploadId: number,
+  clientSha256: string | undefined,
+  ip?: string,
+): Promise<UploadStateDto> {
+  const now = await loadOwnUpload(actor, uploadId);
+  if (now.status === 'verifying' && now.sizeBytes > INLINE_VERIFY_MAX_BYTES) {
+    // A completion asked again (its first answer was lost): the same job id makes this a no-op if it is queued.
+    const { enqueueUploadVerification } = await import('@/lib/jobs/verify-upload');
+    await enqueueUploadVerification({ uploadId, ip: ip ?? null });
+    return pendingState(uploadId, 'verifying');
+  }
+  const ready = await prepareCompletion(actor, uploadId, clientSha256, {});
+  if ('done' in ready) return ready.done;
+  if (ready.upload.sizeBytes <= INLINE_VERIFY_MAX_BYTES) {
+    return verifyAndCatalogue(actor, ready.upload, ready.shift, clientSha256 ?? null, ip);
+  }
+  const { enqueueUploadVerification } = await import('@/lib/jobs/verify-upload');
+  try {
+    await enqueueUploadVerification({ uploadId, ip: ip ?? null });
+  } catch (err) {
+    // The queue is unreachable: the upload goes back to open, so completing again (the browser retries) queues it.
+    await transitionUpload({ uploadId, from: ['verifying'], to: 'open' }).catch(() => undefined);
+    throw err;
+  }
+  return pendingState(ready.upload.id, 'verifying');
+}
+
+function pendingState(uploadId: number, state: UploadPendingDto['state'], error?: string | null): UploadPendingDto {
+  const message =
+    state === 'verifying'
+      ? 'Stored; the file store copy is being checked (size, SHA-256, every frame). This page updates when it is done.'
+      : state === 'failed'
+        ? `The upload was refused${error ? `: ${error}` : '.'}`
+        : state === 'aborted'
+          ? `The upload was cancelled${error ? `: ${error}` : '.'}`
+          : (error ?? 'The upload is not finished yet.');
+  return { uploadId, state, message };
+}
+
+/** Where an upload stands (the browser polls this while a large file is verified). */
+export async function getUploadState(actor: Actor, uploadId: number): Promise<UploadStateDto> {
+  const upload = await loadOwnUpload(actor, uploadId);
+  if (upload.status === 'completed') return previousOutcome(upload);
+  return pendingState(upload.id, upload.status, upload.error);
+}
+
+/**
+ * Server-side completion that verifies in the caller (scripts): same checks, copy, hash, validation and
+ * cataloguing as the route, whatever the size.
+ */
 export async function completeUpload(
   actor: Actor,
   uploadId: number,
@@ -319,8 +410,23 @@ export async function completeUpload(
   ip?: string,
   options: ServerUploadOptions = {},
 ): Promise<UploadOutcomeDto> {
+  const ready = await prepareCompletion(actor, uploadId, clientSha256, options);
+  if ('done' in ready) return ready.done;
+  return verifyAndCatalogue(actor, ready.upload, ready.shift, clientSha256 ?? null, ip);
+}
+
+/**
+ * The request-path part of a completion: access, state, assembling the parts, the size of the stored object.
+ * Leaves the upload `verifying` with the browser's checksum recorded.
+ */
+async function prepareCompletion(
+  actor: Actor,
+  uploadId: number,
+  clientSha256: string | undefined,
+  options: ServerUploadOptions,
+): Promise<{ done: UploadOutcomeDto } | { upload: UploadRecord; shift: ShiftRecord }> {
   const upload = await loadOwnUpload(actor, uploadId);
-  if (upload.status === 'completed') return previousOutcome(actor, upload);
+  if (upload.status === 'completed') return { done: await previousOutcome(upload) };
   if (upload.status !== 'open') {
     throw new AppError('conflict:upload', {
       message:
@@ -331,6 +437,7 @@ export async function completeUpload(
   }
   const shift = await loadShift(actor, upload.shiftId);
   if (!options.intoClosedShift) requireOpen(shift);
+  const to = { uploadId, from: ['open' as const], to: 'verifying' as const, clientSha256: clientSha256 ?? null };
 
   if (upload.multipartUploadId) {
     const parts = await goodParts(upload);
@@ -343,10 +450,11 @@ export async function completeUpload(
         details: [`missing parts: ${missing.slice(0, 20).join(', ')}${missing.length > 20 ? ', …' : ''}`],
       });
     }
-    if (!(await transitionUpload({ uploadId, from: ['open'], to: 'verifying' }))) {
+    if (!(await transitionUpload(to))) {
       throw new AppError('conflict:upload', { message: 'This file is being verified right now.' });
     }
     try {
+      // After this the store refuses every part URL of the upload (the multipart upload no longer exists).
       await completeMultipart({
         bucket: upload.bucket,
         key: upload.objectKey,
@@ -357,47 +465,148 @@ export async function completeUpload(
       await transitionUpload({ uploadId, from: ['verifying'], to: 'open' });
       throw err;
     }
-  } else if (!(await transitionUpload({ uploadId, from: ['open'], to: 'verifying' }))) {
+  } else if (!(await transitionUpload(to))) {
     throw new AppError('conflict:upload', { message: 'This file is being verified right now.' });
   }
 
+  let head: Awaited<ReturnType<typeof headObject>>;
+  try {
+    head = await headObject(upload.bucket, upload.objectKey);
+  } catch (err) {
+    if (err instanceof AppError && err.code === 'not_found:storage') {
+      await transitionUpload({ uploadId, from: ['verifying'], to: 'open' });
+      throw new AppError('conflict:upload', { message: 'The file has not arrived in storage yet; send it first.' });
+    }
+    await transitionUpload({ uploadId, from: ['verifying'], to: 'open' }).catch(() => undefined);
+    throw err;
+  }
+  if (head.size !== upload.sizeBytes) {
+    await failUpload(
+      upload,
+      `The stored object has ${head.size} bytes but the file has ${upload.sizeBytes}; it was not stored. Drop the file again.`,
+    );
+  }
+  return { upload: { ...upload, status: 'verifying', clientSha256: clientSha256 ?? null }, shift };
+}
+
+/**
+ * The worker's entry (lib/jobs/verify-upload.ts): verifies and catalogues an upload left `verifying` by the
+ * completion route. Does nothing for an upload in any other state (a job run twice, or a stale job).
+ *
+ * @returns the verdict, or null when there was nothing to do
+ */
+export async function verifyQueuedUpload(uploadId: number, ip?: string | null): Promise<UploadOutcomeDto | null> {
+  const upload = await getUploadRecord({ uploadId });
+  if (upload?.status !== 'verifying') return null;
+  const [actor, shift] = await Promise.all([
+    getActorByUserId({ userId: upload.userId }),
+    getShiftRecord({ shiftId: upload.shiftId }),
+  ]);
+  if (!actor || !shift) {
+    await transitionUpload({
+      uploadId,
+      from: ['verifying'],
+      to: 'failed',
+      error: 'The user or the shift of this upload no longer exists.',
+    });
+    await removeUploadObjects(upload);
+    return null;
+  }
+  return verifyAndCatalogue(actor, upload, shift, upload.clientSha256, ip ?? undefined, false);
+}
+
+/**
+ * Removes the upload key of a finished upload (completed, failed or aborted) unless the catalogue points at it
+ * (uploads from before keys were copied). Called by a delayed job once the upload's URLs have expired.
+ *
+ * @returns whether a removal was attempted
+ */
+export async function removeUploadLeftovers(uploadId: number): Promise<boolean> {
+  const upload = await getUploadRecord({ uploadId });
+  if (!upload || upload.status === 'open' || upload.status === 'verifying') return false;
+  if (upload.rawFileId) {
+    const raw = await getRawFileRecord({ rawFileId: upload.rawFileId });
+    if (raw?.storageKey === upload.objectKey) return false;
+  }
+  await deleteObject(upload.bucket, upload.objectKey);
+  return true;
+}
+
+/** Asks for the leftover removal of an upload that just finished (a queue outage only delays storage hygiene). */
+async function scheduleLeftovers(uploadId: number): Promise<void> {
+  try {
+    const { scheduleUploadLeftoverRemoval } = await import('@/lib/jobs/verify-upload');
+    let timer: ReturnType<typeof setTimeout> | undefined;
+    // never let an unreachable queue hold up the answer to the browser
+    await Promise.race([
+      scheduleUploadLeftoverRemoval(uploadId, PRESIGN_SECONDS),
+      new Promise((_, reject) => {
+        timer = setTimeout(() => reject(new Error('queue did not answer within 2 s')), 2_000);
+      }),
+    ]).finally(() => clearTimeout(timer));
+  } catch (err) {
+    ilog.warn('could not schedule the removal of an upload key', { uploadId, err });
+  }
+}
+
+/** Marks an upload whose queued verification could not run (after every retry) open again, with the reason. */
+export async function giveUpQueuedVerification(uploadId: number, sentence: string): Promise<void> {
+  await transitionUpload({ uploadId, from: ['verifying'], to: 'open', error: sentence });
+}
+
+/**
+ * Copy to the stored key, hash and read the copy, catalogue. The upload is `verifying`; on a refusal it ends
+ * `failed` with nothing left in the store; on an infrastructure failure it stays `verifying` for the worker to
+ * retry (the inline path puts it back to `open` so the browser can complete it again).
+ */
+async function verifyAndCatalogue(
+  actor: Actor,
+  upload: UploadRecord,
+  shift: ShiftRecord,
+  clientSha256: string | null,
+  ip: string | undefined,
+  inline = true,
+): Promise<UploadOutcomeDto> {
+  const uploadId = upload.id;
+  const storedKey = storedKeyFor(upload.objectKey);
   const scratch = await scratchDir();
   try {
-    let head: Awaited<ReturnType<typeof headObject>>;
+    // 1. Copy inside the store to a key no URL names. A PUT through an old URL after this point changes only the
+    // upload key, which is removed below and never read again.
     try {
-      head = await headObject(upload.bucket, upload.objectKey);
+      await copyObjectAnySize({
+        fromBucket: upload.bucket,
+        fromKey: upload.objectKey,
+        toBucket: upload.bucket,
+        toKey: storedKey,
+        sizeBytes: upload.sizeBytes,
+      });
     } catch (err) {
-      if (err instanceof AppError && err.code === 'not_found:storage') {
-        await transitionUpload({ uploadId, from: ['verifying'], to: 'open' });
-        throw new AppError('conflict:upload', { message: 'The file has not arrived in storage yet; send it first.' });
-      }
-      throw err;
+      // A job run again after a crash: the upload key may be gone but the copy is there.
+      if (!(err instanceof AppError && err.code === 'not_found:storage')) throw err;
+      await headObject(upload.bucket, storedKey);
     }
-    if (head.size !== upload.sizeBytes) {
-      await failUpload(
-        upload,
-        `The stored object has ${head.size} bytes but the file has ${upload.sizeBytes}; it was not stored. Drop the file again.`,
-        true,
-      );
-    }
+    // 2. Hash and read the copy: these bytes are the ones catalogued.
     const local = scratch.file('object.h5');
-    const { sha256, bytes } = await downloadAndHash(upload.bucket, upload.objectKey, local);
+    const { sha256, bytes } = await downloadAndHash(upload.bucket, storedKey, local);
     if (bytes !== upload.sizeBytes) {
-      await failUpload(upload, `Reading the stored object gave ${bytes} bytes, not ${upload.sizeBytes}.`, true);
+      await failUpload(upload, `Reading the stored object gave ${bytes} bytes, not ${upload.sizeBytes}.`);
     }
     if (clientSha256 && clientSha256 !== sha256) {
       await failUpload(
         upload,
         `The SHA-256 of the stored object (${sha256}) differs from the one your browser computed (${clientSha256}); the transfer was damaged and nothing was stored. Drop the file again.`,
-        true,
       );
     }
-    const outcome = await catalogue(actor, upload, shift, sha256, local, clientSha256 ?? null, ip);
+    const outcome = await catalogue(actor, { ...upload, objectKey: storedKey }, shift, sha256, local, clientSha256, ip);
+    // The upload key is not needed any more (a duplicate's copy was removed by linkDuplicate).
+    await removeUploadObjects(upload, outcome.outcome === 'duplicate' ? undefined : storedKey);
+    await scheduleLeftovers(uploadId);
     if (outcome.outcome !== 'quarantined' && outcome.reasons.length === 0) await onScanAccepted(outcome.scanId);
     return outcome;
   } catch (err) {
     // An infrastructure failure (database, storage) leaves the upload open so the browser can complete it again.
-    if (!(err instanceof AppError && err.surface === 'upload')) {
+    if (inline && !(err instanceof AppError && err.surface === 'upload')) {
       await transitionUpload({ uploadId, from: ['verifying'], to: 'open' }).catch(() => undefined);
     }
     throw err;
@@ -419,8 +628,10 @@ async function catalogue(
   if (duplicate && duplicate.storageKey !== upload.objectKey) {
     return linkDuplicate(actor, upload, shift, duplicate, clientSha256, ip);
   }
-  const validation = await validateScanPath(localPath);
-  const status = validation.ok ? 'accepted' : 'quarantined';
+  const read = await validateScanPath(localPath);
+  const limits = catalogueLimits(read.metadata);
+  const validation = { ...read, problems: [...read.problems, ...limits.problems] };
+  const status = read.ok && limits.problems.length === 0 ? 'accepted' : 'quarantined';
   const replaces = (upload.precheck as { replacesRawFileId?: unknown } | null)?.replacesRawFileId;
   try {
     const ids = await getDb().transaction(async (transaction) => {
@@ -484,6 +695,7 @@ async function catalogue(
       sha256,
       sizeBytes: upload.sizeBytes,
       reasons: validation.problems,
+      warnings: limits.warnings,
       message:
         status === 'accepted'
           ? 'Verified and catalogued.'
@@ -551,17 +763,17 @@ async function linkDuplicate(
     sha256: existing.sha256,
     sizeBytes: existing.sizeBytes,
     reasons: quarantined ? existing.quarantineReasons : [],
+    warnings: catalogueLimits(existing.metadata).warnings,
     message: quarantined
       ? 'Identical to a file already stored (and quarantined); linked to it instead of storing a second copy.'
       : 'Identical to a file already stored; linked to it instead of storing a second copy.',
   });
 }
 
-async function previousOutcome(actor: Actor, upload: UploadRecord): Promise<UploadOutcomeDto> {
+async function previousOutcome(upload: UploadRecord): Promise<UploadOutcomeDto> {
   const files = await listShiftFiles({ shiftId: upload.shiftId });
   const f = files.find((x) => x.rawFileId === upload.rawFileId);
   if (!f) throw new AppError('conflict:upload', { message: 'This upload was already completed.' });
-  void actor;
   return outcomeFrom(upload, {
     outcome: f.duplicateLinked ? 'duplicate' : f.rawStatus === 'quarantined' ? 'quarantined' : 'accepted',
     scanId: f.scanId,
@@ -569,6 +781,7 @@ async function previousOutcome(actor: Actor, upload: UploadRecord): Promise<Uplo
     sha256: f.sha256,
     sizeBytes: f.sizeBytes,
     reasons: f.reasons,
+    warnings: f.warnings,
     message: 'This upload was already completed.',
   });
 }

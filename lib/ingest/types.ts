@@ -26,6 +26,8 @@ export interface ShiftFileDto {
   scanStatus: string;
   /** The reader's sentences for a quarantined file. */
   reasons: string[];
+  /** What the catalogue shortened (see lib/ingest/catalogue-limits.ts). */
+  warnings: string[];
   /** True when this upload was identical to a file already stored (the existing file was linked). */
   duplicateLinked: boolean;
   uploadedAt: string;
@@ -73,10 +75,18 @@ export interface ShiftPermissionsDto {
   release: boolean;
 }
 
+/** An upload whose stored object is being verified by a worker. */
+export interface VerifyingUploadDto {
+  uploadId: number;
+  fileName: string;
+  sizeBytes: number;
+}
+
 export interface ShiftViewDto {
   shift: ShiftHeaderDto;
   files: ShiftFileDto[];
   unfinished: UnfinishedUploadDto[];
+  verifying: VerifyingUploadDto[];
   log: LogEntryDto[];
   permissions: ShiftPermissionsDto;
 }
@@ -109,17 +119,29 @@ export interface PartUrlDto {
   expiresAt: string;
 }
 
-/** Answer of POST /api/uploads/[id]/complete. */
+/** Verdict on a verified upload (POST /api/uploads/[id]/complete, GET /api/uploads/[id]). */
 export interface UploadOutcomeDto {
   uploadId: number;
+  state: 'done';
   outcome: 'accepted' | 'quarantined' | 'duplicate';
   scanId: number;
   rawFileId: number;
   sha256: string;
   sizeBytes: number;
   reasons: string[];
+  /** What the catalogue changed or could not keep (e.g. a title shortened to the column's length). */
+  warnings: string[];
   /** Set when the browser's checksum differed from the stored object's (the upload is then refused). */
   message: string;
 }
 
 export type { Precheck };
+
+/** An upload that has no verdict yet (large files are verified by a worker after the completion answered). */
+export interface UploadPendingDto {
+  uploadId: number;
+  state: 'open' | 'verifying' | 'failed' | 'aborted';
+  message: string;
+}
+
+export type UploadStateDto = UploadOutcomeDto | UploadPendingDto;

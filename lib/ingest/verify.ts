@@ -54,6 +54,40 @@ export async function downloadAndHash(
   return { sha256: hash.digest('hex'), bytes };
 }
 
+/** The stored bytes differ from what the catalogue recorded when the file was verified. */
+export class StoredFileMismatchError extends Error {
+  constructor(
+    readonly expected: { sha256: string; sizeBytes: number },
+    readonly found: { sha256: string; bytes: number },
+  ) {
+    super(
+      found.bytes !== expected.sizeBytes
+        ? `The stored raw file has ${found.bytes} bytes, but ${expected.sizeBytes} were verified and catalogued; it was not used.`
+        : `The stored raw file's SHA-256 is ${found.sha256}, not the catalogued ${expected.sha256}: its bytes changed after verification and were not used. Tell the data steward.`,
+    );
+    this.name = 'StoredFileMismatchError';
+  }
+}
+
+/**
+ * Streams a catalogued object to `destPath` and checks its size and SHA-256 against the catalogue on the way
+ * (where the worker reads a raw file).
+ *
+ * @throws StoredFileMismatchError when the bytes are not the verified ones
+ */
+export async function downloadVerified(
+  bucket: string,
+  key: string,
+  destPath: string,
+  expected: { sha256: string; sizeBytes: number },
+): Promise<{ sha256: string; bytes: number }> {
+  const got = await downloadAndHash(bucket, key, destPath);
+  if (got.bytes !== expected.sizeBytes || got.sha256 !== expected.sha256) {
+    throw new StoredFileMismatchError(expected, got);
+  }
+  return got;
+}
+
 /** Range size and number of ranges in flight for `hashObjectRanged`. */
 const RANGE_BYTES = 16 * 1024 * 1024;
 const RANGES_IN_FLIGHT = 4;

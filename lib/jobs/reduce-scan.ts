@@ -5,17 +5,17 @@
 // Idempotent: the result row is unique per (scan, calibration, settings); a job that finds it succeeds without a
 // second row, and a job killed anywhere before the transaction's commit leaves nothing half-written in MariaDB
 // (the derived object has a deterministic key and is simply overwritten by the retry).
-import { createReadStream, createWriteStream } from 'node:fs';
+import { createReadStream } from 'node:fs';
 import { mkdtemp, rm, stat } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
-import { pipeline } from 'node:stream/promises';
 import { UniqueConstraintError } from 'sequelize';
 import { recordAudit } from '@/lib/audit';
 import { getDb } from '@/lib/db';
+import { downloadVerified, StoredFileMismatchError } from '@/lib/ingest/verify';
 import { log } from '@/lib/log';
 import { type ReductionJobData, type ReductionJobOutcome, reductionBackoffMs } from '@/lib/queue/reduction-queue';
-import { buckets, getObjectStream, putObject } from '@/lib/storage/s3';
+import { buckets, putObject } from '@/lib/storage/s3';
 import {
   AnalysisSettingsVersion,
   DetectorCalibrationVersion,
@@ -165,12 +165,19 @@ export async function processReduction(data: ReductionJobData, ctx: JobContext):
     // 1. Raw file → temp file, streamed (never held in memory).
     workDir = await mkdtemp(path.join(tmpdir(), `lobeline-reduce-${scanId}-`));
     const rawPath = path.join(workDir, 'raw.h5');
-    const { body } = await getObjectStream(file.bucket, file.storage_key);
-    await pipeline(body, createWriteStream(rawPath));
-    const size = (await stat(rawPath)).size;
-    if (size !== Number(file.size_bytes)) {
-      // A short download is a transport problem, worth another attempt.
-      throw new Error(`ECONNRESET-like short download: ${size} of ${Number(file.size_bytes)} bytes`);
+    // Size and SHA-256 are checked against the catalogue on the way: only the verified bytes are reduced.
+    try {
+      await downloadVerified(file.bucket, file.storage_key, rawPath, {
+        sha256: file.sha256,
+        sizeBytes: Number(file.size_bytes),
+      });
+    } catch (err) {
+      if (!(err instanceof StoredFileMismatchError)) throw err;
+      // A short download is a transport problem, worth another attempt; other bytes of the right size are not.
+      if (err.found.bytes !== err.expected.sizeBytes) {
+        throw new Error(`ECONNRESET-like short download: ${err.found.bytes} of ${err.expected.sizeBytes} bytes`);
+      }
+      throw new ReductionRefusedError(err.message);
     }
     await progress(0.05, true);
 

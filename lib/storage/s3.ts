@@ -15,6 +15,7 @@ import {
   S3Client,
   type StorageClass,
   UploadPartCommand,
+  UploadPartCopyCommand,
 } from '@aws-sdk/client-s3';
 import { getSignedUrl } from '@aws-sdk/s3-request-presigner';
 import { getEnv } from '@/lib/env';
@@ -206,6 +207,62 @@ export async function copyObject(input: {
     );
     return { etag: out.CopyObjectResult?.ETag };
   });
+}
+
+/** S3's largest single CopyObject (5 GiB); larger objects are copied part by part (UploadPartCopy). */
+export const MAX_SINGLE_COPY_BYTES = 5 * 1024 * 1024 * 1024;
+
+/**
+ * A server-side copy of an object of `sizeBytes` within the store, of any size: one CopyObject up to
+ * `singleMaxBytes` (default S3's 5 GiB limit), else a multipart upload of UploadPartCopy ranges of `partBytes`
+ * (S3 rules: parts ≥ 5 MiB but the last, ≤ 10 000 parts). The bytes never pass through this process.
+ */
+export async function copyObjectAnySize(input: {
+  fromBucket: string;
+  fromKey: string;
+  toBucket: string;
+  toKey: string;
+  sizeBytes: number;
+  singleMaxBytes?: number;
+  partBytes?: number;
+}): Promise<void> {
+  const singleMax = input.singleMaxBytes ?? MAX_SINGLE_COPY_BYTES;
+  if (input.sizeBytes <= singleMax) {
+    await copyObject(input);
+    return;
+  }
+  const partBytes = Math.max(
+    input.partBytes ?? 512 * 1024 * 1024,
+    Math.ceil(input.sizeBytes / 10_000),
+    5 * 1024 * 1024,
+  );
+  const { uploadId } = await createMultipart({ bucket: input.toBucket, key: input.toKey });
+  const where = { bucket: input.toBucket, key: input.toKey };
+  try {
+    const parts: { partNumber: number; etag: string }[] = [];
+    for (let start = 0, n = 1; start < input.sizeBytes; start += partBytes, n++) {
+      const end = Math.min(input.sizeBytes, start + partBytes) - 1;
+      const etag = await run('uploadPartCopy', { ...where, partNumber: n }, async () => {
+        const out = await getS3Client().send(
+          new UploadPartCopyCommand({
+            Bucket: input.toBucket,
+            Key: input.toKey,
+            UploadId: uploadId,
+            PartNumber: n,
+            CopySource: copySource(input.fromBucket, input.fromKey),
+            CopySourceRange: `bytes=${start}-${end}`,
+          }),
+        );
+        if (!out.CopyPartResult?.ETag) throw new Error('no ETag in the UploadPartCopy answer');
+        return out.CopyPartResult.ETag;
+      });
+      parts.push({ partNumber: n, etag });
+    }
+    await completeMultipart({ ...where, uploadId, parts });
+  } catch (err) {
+    await abortMultipart({ ...where, uploadId }).catch(() => undefined);
+    throw err;
+  }
 }
 
 export async function deleteObject(bucket: string, key: string): Promise<void> {

@@ -1,10 +1,12 @@
 // End-of-shift ingest (C2) through the real S3 service (@20minutes/s3rver, which checks SigV4) and MariaDB that
 // scripts/test.sh starts. Route handlers are called in-process; the signed-in user comes from the session test
 // hook of lib/auth/session-source.ts. Checksums are compared with node:crypto (OpenSSL's SHA-256, FIPS 180-4).
+import { execFileSync } from 'node:child_process';
 import { createHash, randomBytes, randomInt } from 'node:crypto';
-import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
+import { QueueEvents } from 'bullmq';
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
 
 vi.mock('server-only', () => ({}));
@@ -13,6 +15,9 @@ const { POST: startPOST } = await import('@/app/api/uploads/route');
 const parts = await import('@/app/api/uploads/[uploadId]/parts/route');
 const { POST: completePOST } = await import('@/app/api/uploads/[uploadId]/complete/route');
 const { POST: abortPOST } = await import('@/app/api/uploads/[uploadId]/abort/route');
+const { GET: uploadGET } = await import('@/app/api/uploads/[uploadId]/route');
+const verifyJobs = await import('@/lib/jobs/verify-upload');
+const { createRedisConnection, closeQueueConnections } = await import('@/lib/queue/connection');
 const { GET: shiftGET } = await import('@/app/api/shifts/[shiftId]/route');
 const { POST: closePOST } = await import('@/app/api/shifts/[shiftId]/close/route');
 const { POST: logPOST } = await import('@/app/api/shifts/[shiftId]/log/route');
@@ -26,8 +31,10 @@ const s3 = await import('@/lib/storage/s3');
 const models = await import('@/models');
 const { makeExample } = await import('@/scripts/make-example');
 const { BROKEN_KINDS } = await import('@/reduction/synth/scan-file');
-const { partRange } = await import('@/lib/ingest/plan');
+const { partRange, PRESIGN_SECONDS } = await import('@/lib/ingest/plan');
+const service = await import('@/lib/ingest/service');
 const { Sha256 } = await import('@/lib/ingest/sha256');
+const verify = await import('@/lib/ingest/verify');
 
 // FIXTURES //
 
@@ -77,6 +84,28 @@ async function example(name: string, extra: string[] = []): Promise<Uint8Array> 
     ...extra,
   ]);
   return new Uint8Array(readFileSync(out));
+}
+
+/**
+ * Rewrites string datasets of a scan file with h5py (Debian's python3-h5py, independent of the app's writer) and,
+ * when given, adds /entry/sample/ionization_energy in eV.
+ */
+function rewriteStrings(bytes: Uint8Array, name: string, strings: Record<string, string>, ionizationEv?: number) {
+  const file = path.join(dir, `${name}.h5`);
+  writeFileSync(file, bytes);
+  const script = [
+    'import sys, json, h5py',
+    'f = h5py.File(sys.argv[1], "a")',
+    'for k, v in json.loads(sys.argv[2]).items():',
+    '    del f[k]',
+    '    f[k] = v',
+    'if sys.argv[3] != "-":',
+    '    d = f.create_dataset("/entry/sample/ionization_energy", data=float(sys.argv[3]))',
+    '    d.attrs["units"] = "eV"',
+    'f.close()',
+  ].join('\n');
+  execFileSync('/usr/bin/python3', ['-c', script, file, JSON.stringify(strings), ionizationEv?.toString() ?? '-']);
+  return new Uint8Array(readFileSync(file));
 }
 
 async function putTo(url: string, body: Uint8Array): Promise<Response> {
@@ -171,6 +200,8 @@ afterAll(async () => {
   rmSync(dir, { recursive: true, force: true });
   s3.closeS3Client();
   closeMailTransport();
+  await verifyJobs.closeUploadVerifyQueue();
+  await closeQueueConnections();
   await closeSequelize();
 });
 
@@ -247,10 +278,42 @@ describe('uploads through presigned URLs', () => {
     // the browser's incremental SHA-256 over the same chunks equals node:crypto's
     const h = new Sha256();
     for (let i = 0; i < bytes.length; i += 5_000_000) h.update(bytes.subarray(i, i + 5_000_000));
-    const done = await call(completePOST, { params: { uploadId: first.json.uploadId }, body: { sha256: h.hex() } });
+    // 20 MiB is above INLINE_VERIFY_MAX_BYTES: the completion answers at once and a worker verifies the file
+    const id = first.json.uploadId as number;
+    const events = new QueueEvents(verifyJobs.UPLOAD_VERIFY_QUEUE, {
+      connection: createRedisConnection('test-events'),
+    });
+    await events.waitUntilReady();
+    const finished = new Promise<void>((resolve, reject) => {
+      events.on('completed', ({ jobId }) => jobId === verifyJobs.uploadVerifyJobId(id) && resolve());
+      events.on('failed', ({ jobId, failedReason }) => {
+        if (jobId === verifyJobs.uploadVerifyJobId(id)) reject(new Error(failedReason));
+      });
+    });
+    const pending = await call(completePOST, { params: { uploadId: id }, body: { sha256: h.hex() } });
+    expect(pending.status, JSON.stringify(pending.json)).toBe(202);
+    expect(pending.json).toMatchObject({ uploadId: id, state: 'verifying' });
+    // no worker runs yet: the state stays `verifying`, and the upload takes no more parts
+    expect((await call(uploadGET, { method: 'GET', params: { uploadId: id } })).json.state).toBe('verifying');
+    expect((await call(parts.POST, { params: { uploadId: id }, body: { partNumbers: [1] } })).status).toBe(409);
+    const worker = verifyJobs.startUploadVerifyWorker({ name: `ingest-test-${run}` });
+    try {
+      await finished;
+    } finally {
+      await worker.close();
+      await events.close();
+    }
+    const done = await call(uploadGET, { method: 'GET', params: { uploadId: id } });
     expect(done.status, JSON.stringify(done.json)).toBe(200);
-    expect(done.json.outcome).toBe('accepted');
+    expect(done.json).toMatchObject({ state: 'done', outcome: 'accepted', sha256: sha(bytes) });
     expect(await storedSha(done.json.rawFileId)).toBe(sha(bytes));
+    // After completion a PUT through an old part URL cannot touch the catalogued object. (S3 answers NoSuchUpload;
+    // the local S3 service used here accepts the PUT with 200, so only the outcome is asserted.)
+    await putTo(urls.json.parts[0].url, new Uint8Array(randomBytes(urls.json.parts[0].size)));
+    expect((await call(parts.POST, { params: { uploadId: id }, body: { partNumbers: [2] } })).status).toBe(409);
+    expect(await storedSha(done.json.rawFileId)).toBe(sha(bytes));
+    const row = await models.Upload.findByPk(id);
+    await expect(s3.headObject(row!.bucket, row!.object_key)).rejects.toMatchObject({ code: 'not_found:storage' });
   });
 
   it('refuses a tampered presigned URL and an expired one at the S3 service (SigV4)', async () => {
@@ -389,6 +452,91 @@ describe('uploads through presigned URLs', () => {
     const view = await call(shiftGET, { method: 'GET', params: { shiftId: ids.shiftA } });
     const linked = view.json.files.find((f: { scanId: number }) => f.scanId === second.json.scanId);
     expect(linked).toMatchObject({ fileName: 'dup-again.h5', duplicateLinked: true });
+  });
+
+  it('keeps a verified file immutable: a second PUT through the old URL changes nothing the catalogue reads', async () => {
+    as(ids.opA);
+    const bytes = await example('immutable');
+    const start = await call(startPOST, {
+      body: { shiftId: ids.shiftA, fileName: 'immutable.h5', sizeBytes: bytes.length, lastModifiedMs: 31 },
+    });
+    expect((await putTo(start.json.url, bytes)).status).toBe(200);
+    const done = await call(completePOST, { params: { uploadId: start.json.uploadId }, body: { sha256: sha(bytes) } });
+    expect(done.status, JSON.stringify(done.json)).toBe(200);
+    expect(done.json.outcome).toBe('accepted');
+    const raw = await models.RawFile.findByPk(done.json.rawFileId);
+    const up = await models.Upload.findByPk(start.json.uploadId);
+    // the catalogued key is not the one the presigned URL names, and the upload key was removed
+    expect(raw!.storage_key).not.toBe(up!.object_key);
+    await expect(s3.headObject(up!.bucket, up!.object_key)).rejects.toMatchObject({ code: 'not_found:storage' });
+    // other bytes of the same size through the still-valid URL (the store may accept the PUT) ...
+    const other = new Uint8Array(randomBytes(bytes.length));
+    await putTo(start.json.url, other);
+    // ... leave the catalogued object as verified (checked with node:crypto over the bytes read back)
+    expect(await storedSha(raw!.id)).toBe(sha(bytes));
+    expect((await models.RawFile.findByPk(raw!.id))!.sha256).toBe(sha(bytes));
+    // completing again gives the first verdict and catalogues nothing new
+    const again = await call(completePOST, { params: { uploadId: start.json.uploadId }, body: {} });
+    expect(again.json).toMatchObject({ outcome: 'accepted', rawFileId: raw!.id, sha256: sha(bytes) });
+    // what the late PUT left under the upload key is removed by a job delayed until every URL has expired
+    const job = await verifyJobs.getUploadVerifyQueue().getJob(`leftovers-${up!.id}`);
+    expect(job?.name).toBe('leftovers');
+    expect(job!.opts.delay).toBeGreaterThan(PRESIGN_SECONDS * 1000);
+    expect(await service.removeUploadLeftovers(up!.id)).toBe(true);
+    await expect(s3.headObject(up!.bucket, up!.object_key)).rejects.toMatchObject({ code: 'not_found:storage' });
+    expect(await storedSha(raw!.id)).toBe(sha(bytes));
+    await job!.remove();
+  });
+
+  it('the worker reads only the verified bytes: changed bytes under the catalogued key are detected and named', async () => {
+    as(ids.opA);
+    const bytes = await example('fixity');
+    const done = await uploadWhole(ids.shiftA, 'fixity.h5', bytes, 32);
+    expect(done.json.outcome).toBe('accepted');
+    const raw = await models.RawFile.findByPk(done.json.rawFileId);
+    const expected = { sha256: raw!.sha256, sizeBytes: Number(raw!.size_bytes) };
+    const local = path.join(dir, 'fixity-read.h5');
+    // the untouched object passes the check
+    expect((await verify.downloadVerified(raw!.bucket, raw!.storage_key, local, expected)).sha256).toBe(sha(bytes));
+    // someone with store credentials overwrites it with other bytes of the same size
+    const other = new Uint8Array(randomBytes(bytes.length));
+    await s3.putObject({ bucket: raw!.bucket, key: raw!.storage_key, body: other });
+    const refused = verify.downloadVerified(raw!.bucket, raw!.storage_key, local, expected);
+    await expect(refused).rejects.toBeInstanceOf(verify.StoredFileMismatchError);
+    await expect(refused).rejects.toThrow(new RegExp(`SHA-256 is ${sha(other)}, not the catalogued ${sha(bytes)}`));
+    await s3.putObject({ bucket: raw!.bucket, key: raw!.storage_key, body: bytes });
+  });
+
+  it('catalogues a file whose title is longer than the column, shortened with a warning', async () => {
+    as(ids.opA);
+    const title = `Harbor Point overnight run ${'ϑ'.repeat(4_973)}`; // 5000 characters, multi-byte in UTF-8
+    expect([...title].length).toBe(5000);
+    const bytes = rewriteStrings(await example('long-title'), 'long-title-5000', { '/entry/title': title });
+    const done = await uploadWhole(ids.shiftA, 'long-title.h5', bytes, 33);
+    expect(done.status, JSON.stringify(done.json)).toBe(200);
+    expect(done.json.outcome).toBe('accepted');
+    expect(done.json.warnings).toEqual([expect.stringContaining('/entry/title: 5000 characters')]);
+    const scan = await models.Scan.findByPk(done.json.scanId);
+    expect(scan!.title).toBe([...title].slice(0, 255).join(''));
+    const raw = await models.RawFile.findByPk(done.json.rawFileId);
+    expect(raw!.metadata!.title).toBe(title);
+    expect(await storedSha(raw!.id)).toBe(sha(bytes));
+    const view = await call(shiftGET, { method: 'GET', params: { shiftId: ids.shiftA } });
+    const row = view.json.files.find((f: { scanId: number }) => f.scanId === done.json.scanId);
+    expect(row.warnings[0]).toContain('5000 characters');
+  });
+
+  it('quarantines a file whose target name is longer than the catalogue holds, with the rule', async () => {
+    as(ids.opA);
+    const target = 'Harbor-Point-custom-molecule-mixture-7'; // 38 characters, not in the table of gases
+    const bytes = rewriteStrings(await example('long-target'), 'long-target', { '/entry/sample/name': target }, 12.1);
+    const done = await uploadWhole(ids.shiftA, 'long-target.h5', bytes, 34);
+    expect(done.status, JSON.stringify(done.json)).toBe(200);
+    expect(done.json.outcome).toBe('quarantined');
+    expect(done.json.reasons).toContain(
+      '/entry/sample/name: at most 32 characters (this one has 38); name the target gas or molecule, e.g. He, Ar, N2.',
+    );
+    expect(await storedSha(done.json.rawFileId)).toBe(sha(bytes));
   });
 
   it('cancels an unfinished multipart upload', async () => {

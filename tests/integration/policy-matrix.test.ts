@@ -409,6 +409,15 @@ const ROWS: Row[] = [
     expect: shiftCrew(201),
   },
   {
+    route: '/api/uploads/[uploadId]',
+    method: 'GET',
+    request: async (ctx) => {
+      const id = await ctx.w.freshUpload(ctx.t, uploadOwner(ctx), 'single');
+      return { path: `/api/uploads/${id}`, params: { uploadId: String(id) } };
+    },
+    expect: shiftCrew(200),
+  },
+  {
     route: '/api/uploads/[uploadId]/parts',
     method: 'GET',
     request: async (ctx) => {

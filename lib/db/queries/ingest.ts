@@ -4,12 +4,15 @@ import 'server-only';
 import { Op, type Transaction } from 'sequelize';
 import { getDb } from '@/lib/db';
 import { AppError } from '@/lib/errors';
+import { catalogueLimits, clipChars, TARGET_MAX_CHARS, TITLE_MAX_CHARS } from '@/lib/ingest/catalogue-limits';
+import { storedKeyFor } from '@/lib/ingest/plan';
 import type {
   LogEntryDto,
   RawFileStatusDto,
   ShiftFileDto,
   ShiftHeaderDto,
   UnfinishedUploadDto,
+  VerifyingUploadDto,
 } from '@/lib/ingest/types';
 import { Campaign, Membership, RawFile, Scan, Shift, ShiftLogEntry, Team, Upload, User } from '@/models';
 import type { ScanMetadata } from '@/reduction/formats';
@@ -331,6 +334,14 @@ export async function listUnfinishedUploads({ shiftId }: { shiftId: number }): P
   });
 }
 
+/** Uploads of the shift whose stored object a worker is verifying now (large files, after the completion answered). */
+export async function listVerifyingUploads({ shiftId }: { shiftId: number }): Promise<VerifyingUploadDto[]> {
+  return db('listVerifyingUploads', async () => {
+    const rows = await Upload.findAll({ where: { shift_id: shiftId, status: 'verifying' }, order: [['id', 'ASC']] });
+    return rows.map((u) => ({ uploadId: u.id, fileName: u.file_name, sizeBytes: Number(u.size_bytes) }));
+  });
+}
+
 export async function listOpenUploadRecords({ shiftId }: { shiftId: number }): Promise<UploadRecord[]> {
   return db('listOpenUploadRecords', async () =>
     (await Upload.findAll({ where: { shift_id: shiftId, status: { [Op.in]: ['open', 'verifying'] } } })).map(
@@ -387,8 +398,9 @@ export async function getRawFileRecord({ rawFileId }: { rawFileId: number }): Pr
 export function scanColumnsFrom(meta: ScanMetadata | null) {
   return {
     experiment_kind: meta?.experimentKind ?? null,
-    title: meta?.title ?? null,
-    target: meta?.target ?? null,
+    // the columns hold a bounded prefix; the metadata JSON keeps the whole value (lib/ingest/catalogue-limits.ts)
+    title: meta?.title == null ? null : clipChars(meta.title, TITLE_MAX_CHARS),
+    target: meta?.target == null ? null : clipChars(meta.target, TARGET_MAX_CHARS),
     wavelength_nm: meta?.wavelengthNm ?? null,
     ellipticity: meta?.ellipticity ?? null,
     helicity: meta?.helicity ?? null,
@@ -585,7 +597,11 @@ export async function listShiftFiles({ shiftId }: { shiftId: number }): Promise<
       const raw = (s as Scan & { rawFile?: RawFile }).rawFile;
       const upload = uploadByScan.get(s.id);
       // A duplicate upload's own object was deleted; its scan points at the raw file stored earlier.
-      const duplicateLinked = !!upload && !!raw && upload.object_key !== raw.storage_key;
+      const duplicateLinked =
+        !!upload &&
+        !!raw &&
+        upload.object_key !== raw.storage_key &&
+        storedKeyFor(upload.object_key) !== raw.storage_key;
       return {
         scanId: s.id,
         rawFileId: s.raw_file_id,
@@ -595,6 +611,7 @@ export async function listShiftFiles({ shiftId }: { shiftId: number }): Promise<
         rawStatus: (raw?.status ?? 'accepted') as RawFileStatusDto,
         scanStatus: s.status,
         reasons: raw?.quarantine_reasons ?? [],
+        warnings: catalogueLimits((raw?.metadata as ScanMetadata | null) ?? null).warnings,
         duplicateLinked,
         uploadedAt: iso(s.created_at) ?? '',
         uploadedBy: s.created_by ? (names.get(s.created_by) ?? null) : null,
