@@ -59,6 +59,7 @@ export function ShiftWorkbench({ initial, initialReceipt }: { initial: ShiftView
           canRelease={data.permissions.release}
           canUpload={data.permissions.upload}
           onChanged={refresh}
+          suggest={{ target: data.shift.campaign.target, wavelengthNm: data.shift.campaign.wavelengthNm }}
           onReplace={(file, rawFileId) => queue.addFiles([file], rawFileId)}
         />
       </div>

@@ -4,6 +4,7 @@
 import { useQuery } from '@tanstack/react-query';
 import Link from 'next/link';
 import { useEffect, useState } from 'react';
+import { overridePhrases } from '@/components/ingest/release-fields';
 import { formatNumber } from '@/components/plots/scales';
 import { XYPlot } from '@/components/plots/xy-plot';
 import { EmptyState, ErrorState, LoadingBlock, PageHeader, Panel } from '@/components/ui';
@@ -166,6 +167,14 @@ export function ScanView({ scanId }: { scanId: number }) {
                   calibration v{resultQ.data.calibrationVersion} · settings v{resultQ.data.settingsVersion}
                   <br />
                   {formatDateTime(resultQ.data.createdAt)} · lobeline {result.software.version}
+                  {result.input.overrides ? (
+                    <>
+                      <br />
+                      <span data-testid="result-overrides">
+                        Corrected at release: {overridePhrases(result.input.overrides).join(' · ')}
+                      </span>
+                    </>
+                  ) : null}
                 </div>
               </div>
               {results.length > 1 ? (
