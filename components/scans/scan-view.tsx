@@ -19,7 +19,19 @@ import { ScanStatusBadge } from './status-badge';
 import { StepTable } from './step-table';
 import type { ResultResponse, ScanResponse } from './types';
 
-export function ScanView({ scanId }: { scanId: number }) {
+const DOWNLOAD_PROBLEMS = {
+  missing:
+    'The result file of this result is not in storage any more, so it could not be downloaded. Reduce the scan again to rebuild it, or tell the data steward.',
+  unavailable: 'The storage service did not answer, so the result file could not be downloaded. Try again in a minute.',
+} as const;
+
+export function ScanView({
+  scanId,
+  downloadProblem = null,
+}: {
+  scanId: number;
+  downloadProblem?: keyof typeof DOWNLOAD_PROBLEMS | null;
+}) {
   const scanQ = useQuery({
     queryKey: ['scan', scanId],
     queryFn: () => apiFetch<ScanResponse>(`/api/scans/${scanId}`),
@@ -94,6 +106,16 @@ export function ScanView({ scanId }: { scanId: number }) {
         >
           {scan.status === 'failed' ? <p className="mb-1 font-semibold">The reduction failed</p> : null}
           {scan.statusMessage}
+        </div>
+      ) : null}
+
+      {downloadProblem ? (
+        <div
+          role="alert"
+          data-testid="download-problem"
+          className="rounded-md border border-fault-100 bg-fault-50 px-4 py-3 text-small text-fault-700"
+        >
+          {DOWNLOAD_PROBLEMS[downloadProblem]}
         </div>
       ) : null}
 
