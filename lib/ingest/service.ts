@@ -12,6 +12,7 @@ import {
   closeShiftRow,
   findRawFileBySha256,
   findResumableUpload,
+  firstScanOfFileInCampaign,
   getRawFileRecord,
   getShiftRecord,
   getUploadRecord,
@@ -393,7 +394,9 @@ export async function completeUpload(
       );
     }
     const outcome = await catalogue(actor, upload, shift, sha256, local, clientSha256 ?? null, ip);
-    if (outcome.outcome !== 'quarantined' && outcome.reasons.length === 0) await onScanAccepted(outcome.scanId);
+    if (outcome.outcome !== 'quarantined' && outcome.reasons.length === 0 && !outcome.countedAsScanId) {
+      await onScanAccepted(outcome.scanId);
+    }
     return outcome;
   } catch (err) {
     // An infrastructure failure (database, storage) leaves the upload open so the browser can complete it again.
@@ -508,6 +511,10 @@ async function linkDuplicate(
   ip: string | undefined,
 ): Promise<UploadOutcomeDto> {
   const quarantined = existing.status === 'quarantined' || existing.status === 'replaced';
+  // Already a scan of this campaign: the new row records that the file was sent in this shift too, but it is not
+  // a second scan (the campaign's counts, table and trend count the first one; lib/db/queries/scans.ts), and it is
+  // not reduced again.
+  const countedAs = await firstScanOfFileInCampaign({ rawFileId: existing.id, campaignId: shift.campaignId });
   const scanId = await getDb().transaction(async (transaction) => {
     const id = await insertScan({
       upload,
@@ -515,7 +522,11 @@ async function linkDuplicate(
       rawFileId: existing.id,
       metadata: existing.metadata,
       status: quarantined ? 'quarantined' : 'uploaded',
-      statusMessage: quarantined ? (existing.quarantineReasons[0] ?? 'quarantined') : null,
+      statusMessage: quarantined
+        ? (existing.quarantineReasons[0] ?? 'quarantined')
+        : countedAs
+          ? `Identical to scan ${countedAs} of this campaign; linked to it and counted once, not reduced again.`
+          : null,
       transaction,
     });
     await setUploadOutcome({ uploadId: upload.id, rawFileId: existing.id, scanId: id, clientSha256, transaction });
@@ -553,7 +564,10 @@ async function linkDuplicate(
     reasons: quarantined ? existing.quarantineReasons : [],
     message: quarantined
       ? 'Identical to a file already stored (and quarantined); linked to it instead of storing a second copy.'
-      : 'Identical to a file already stored; linked to it instead of storing a second copy.',
+      : countedAs
+        ? `Identical to scan ${countedAs} of this campaign; linked to it and counted once, not as a second scan.`
+        : 'Identical to a file already stored; linked to it instead of storing a second copy.',
+    countedAsScanId: countedAs,
   });
 }
 

@@ -427,6 +427,17 @@ const ROWS: Row[] = [
     },
     expect: shiftCrew(200),
   },
+  // Before sending, the drop panel asks which checksums the team already stored: for those who upload.
+  {
+    route: '/api/shifts/[shiftId]/stored',
+    method: 'GET',
+    request: ({ t }) => ({
+      path: `/api/shifts/${t.shiftId}/stored`,
+      params: { shiftId: String(t.shiftId) },
+      query: { sha256: 'ab'.repeat(32) },
+    }),
+    expect: shiftCrew(200),
+  },
   // Releasing a quarantined file is analyst work; the steward sees raw files (C10) but does not release them.
   {
     route: '/api/raw-files/[id]/release',

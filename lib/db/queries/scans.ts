@@ -38,6 +38,15 @@ async function guard<T>(what: string, fn: () => Promise<T>): Promise<T> {
   }
 }
 
+/**
+ * SQL condition: the scan `alias` is the first scan of its raw file in its campaign. A file sent twice (a linked
+ * duplicate, lib/ingest/service.ts) keeps a scan row per upload so each shift shows what was sent, but the
+ * campaign counts, lists and trends it once.
+ */
+export function firstOfItsFile(alias: string): string {
+  return `NOT EXISTS (SELECT 1 FROM scans dup WHERE dup.campaign_id = ${alias}.campaign_id AND dup.raw_file_id = ${alias}.raw_file_id AND dup.id < ${alias}.id)`;
+}
+
 // CAMPAIGN //
 
 export interface CampaignDto {
@@ -84,7 +93,7 @@ export async function getCampaignOverview({ campaignId }: { campaignId: number }
       Team.findByPk(c.team_id, { attributes: ['slug', 'name'] }),
       Shift.findAll({ where: { campaign_id: campaignId }, order: [['opened_at', 'DESC']] }),
       db.query<{ status: ScanStatus; n: number }>(
-        'SELECT status, COUNT(*) AS n FROM scans WHERE campaign_id = ? GROUP BY status',
+        `SELECT s.status, COUNT(*) AS n FROM scans s WHERE s.campaign_id = ? AND ${firstOfItsFile('s')} GROUP BY s.status`,
         { replacements: [campaignId], type: QueryTypes.SELECT },
       ),
       db.query<{ shift_id: number; n: number }>(
@@ -193,7 +202,7 @@ function likeEscape(s: string): string {
 /** One page of a campaign's scans, sorted and filtered in MariaDB, with the total matching the filter. */
 export async function listCampaignScans(q: ScanListQuery): Promise<{ rows: ScanRowDto[]; total: number }> {
   return guard('listCampaignScans', async () => {
-    const where: string[] = ['s.campaign_id = :campaignId'];
+    const where: string[] = ['s.campaign_id = :campaignId', firstOfItsFile('s')];
     const repl: Record<string, unknown> = { campaignId: q.campaignId };
     if (q.status?.length) {
       where.push('s.status IN (:status)');
@@ -519,7 +528,7 @@ export async function getCampaignTrend({ campaignId }: { campaignId: number }): 
               st.intensity_err_wcm2, st.transverse_shift_au
          FROM scans s
          JOIN scan_result_steps st ON st.result_id = s.latest_result_id
-        WHERE s.campaign_id = ? AND s.status = 'reduced'
+        WHERE s.campaign_id = ? AND s.status = 'reduced' AND ${firstOfItsFile('s')}
         ORDER BY s.id, st.step_index
         LIMIT 20000`,
       { replacements: [campaignId], type: QueryTypes.SELECT },
@@ -614,12 +623,12 @@ export async function listBatches({
 /** Ids of a campaign's scans that can be reduced (not quarantined). */
 export async function listReducibleScanIds({ campaignId }: { campaignId: number }): Promise<number[]> {
   return guard('listReducibleScanIds', async () => {
-    const rows = await Scan.findAll({
-      where: { campaign_id: campaignId, status: { [Op.ne]: 'quarantined' } },
-      attributes: ['id'],
-      order: [['id', 'ASC']],
-    });
-    return rows.map((r) => r.id);
+    const rows = await getDb().query<{ id: number }>(
+      `SELECT s.id FROM scans s WHERE s.campaign_id = ? AND s.status <> 'quarantined' AND ${firstOfItsFile('s')}
+        ORDER BY s.id`,
+      { replacements: [campaignId], type: QueryTypes.SELECT },
+    );
+    return rows.map((r) => Number(r.id));
   });
 }
 
