@@ -33,7 +33,7 @@ export function ShiftWorkbench({ initial, initialReceipt }: { initial: ShiftView
   const refresh = useCallback(() => {
     void qc.invalidateQueries({ queryKey: ['shift', shiftId] });
   }, [qc, shiftId]);
-  const queue = useIngestQueue({ shiftId, onStored: refresh });
+  const queue = useIngestQueue({ shiftId, onStored: refresh, campaign: initial.shift.campaign });
   const data = view.data;
   const busy = queue.items.filter((i) => ['queued', 'sending', 'waiting-hash', 'verifying'].includes(i.phase)).length;
 
