@@ -151,7 +151,11 @@ export function ScanView({
             <p className="text-small text-ink-600">Your role shows this scan&apos;s metadata only.</p>
           ) : shownId == null ? (
             <EmptyState title="No result yet">
-              {scan.status === 'failed' ? 'See the reason above.' : 'The result appears here when the worker is done.'}
+              {scan.status === 'failed'
+                ? 'See the reason above.'
+                : results.some((r) => r.trial)
+                  ? 'No result with approved versions yet; the trial results are listed below.'
+                  : 'The result appears here when the worker is done.'}
             </EmptyState>
           ) : resultQ.isPending ? (
             <LoadingBlock lines={3} />
@@ -199,21 +203,36 @@ export function ScanView({
                   ) : null}
                 </div>
               </div>
-              {results.length > 1 ? (
+              {results.find((r) => r.id === shownId)?.trial ? (
+                <p
+                  className="rounded-md border border-flare-200 bg-flare-50 px-3 py-2 text-small text-flare-900"
+                  data-testid="trial-result-banner"
+                >
+                  Trial result: calibration v{resultQ.data.calibrationVersion} / settings v
+                  {resultQ.data.settingsVersion} includes a version that was never approved. It is not this scan&apos;s
+                  result and is not in the campaign trend.
+                </p>
+              ) : null}
+              {results.filter((r) => !r.trial).length > 1 ? (
                 <label className="block text-micro text-ink-600">
                   Result shown
                   <select
                     className="ml-2 rounded border border-ink-200 px-2 py-1 text-small"
-                    value={shownId}
+                    value={results.find((r) => r.id === shownId && !r.trial) ? shownId : ''}
                     onChange={(e) => setResultId(Number(e.target.value))}
                   >
-                    {results.map((r) => (
-                      <option key={r.id} value={r.id}>
-                        cal v{r.calibrationVersion} / set v{r.settingsVersion} ·{' '}
-                        {valueWithError(r.offsetDeg, r.offsetErrDeg, '°')}
-                        {r.isLatest ? ' (latest)' : ''}
-                      </option>
-                    ))}
+                    {results.find((r) => r.id === shownId && !r.trial) ? null : (
+                      <option value="">a trial result</option>
+                    )}
+                    {results
+                      .filter((r) => !r.trial)
+                      .map((r) => (
+                        <option key={r.id} value={r.id}>
+                          cal v{r.calibrationVersion} / set v{r.settingsVersion} ·{' '}
+                          {valueWithError(r.offsetDeg, r.offsetErrDeg, '°')}
+                          {r.isLatest ? ' (current)' : ''}
+                        </option>
+                      ))}
                   </select>
                 </label>
               ) : null}
@@ -271,6 +290,38 @@ export function ScanView({
                   </>
                 ) : null}
               </div>
+            </div>
+          ) : null}
+          {can.viewResults && results.some((r) => r.trial) ? (
+            <div className="mt-4 border-t border-ink-100 pt-3" data-testid="trial-results">
+              <p className="text-small font-medium text-ink-800">Trial results (versions not approved)</p>
+              <p className="text-micro text-ink-500">
+                Kept apart: they are never the scan&apos;s result and never in the campaign trend.
+              </p>
+              <ul className="mt-1 space-y-1">
+                {results
+                  .filter((r) => r.trial)
+                  .map((r) => (
+                    <li key={r.id} className="flex flex-wrap items-center gap-2 text-small">
+                      <span className="rounded bg-flare-100 px-1.5 py-0.5 text-micro font-semibold text-flare-900">
+                        trial
+                      </span>
+                      calibration v{r.calibrationVersion} / settings v{r.settingsVersion} ·{' '}
+                      {valueWithError(r.offsetDeg, r.offsetErrDeg, '°')}
+                      {r.id === shownId ? (
+                        <span className="text-ink-500">(shown)</span>
+                      ) : (
+                        <button
+                          type="button"
+                          className="text-lobe-700 hover:underline"
+                          onClick={() => setResultId(r.id)}
+                        >
+                          Show
+                        </button>
+                      )}
+                    </li>
+                  ))}
+              </ul>
             </div>
           ) : null}
         </Panel>

@@ -154,6 +154,13 @@ const versionRows = (kind: 'calibration' | 'settings'): Row[] => {
       }),
       expect: analystOnly(200),
     },
+    // What approving would change: shown to the PI before the approval, so PI only as well.
+    {
+      route: `${base}/[versionId]/approve`,
+      method: 'GET',
+      request: ({ t }) => at(t, kind === 'calibration' ? t.draftCalibrationId : t.draftSettingsId, '/approve'),
+      expect: piOnly(200),
+    },
     {
       route: `${base}/[versionId]/approve`,
       method: 'POST',
