@@ -127,6 +127,16 @@ const NUMBER_RULES: Partial<Record<ReleaseFieldKey, NumberRule>> = {
   pulseDurationFs: { min: 0, max: 1e6, above: true },
 };
 
+/** An example value for the "write a number" message (typical values, not suggestions for a given file). */
+const NUMBER_EXAMPLES: Partial<Record<ReleaseFieldKey, string>> = {
+  wavelengthNm: '800',
+  ionizationEnergyEv: '24.587',
+  ellipticity: '0.87',
+  fieldRatio: '0.1',
+  majorAxisAngleDeg: '0',
+  pulseDurationFs: '6',
+};
+
 function rangeWords(f: ReleaseField, r: NumberRule): string {
   const u = f.unit ? ` ${f.unit}` : '';
   if (r.above && r.max >= 1e5) return `more than ${r.min}${u}`;
@@ -146,7 +156,11 @@ export const releaseFormSchema = z
         const rule = NUMBER_RULES[f.key]!;
         const v = Number(raw);
         if (!Number.isFinite(v)) {
-          ctx.addIssue({ code: 'custom', path: [f.key], message: `${label}: write a number, such as ${f.hint ?? 1}.` });
+          ctx.addIssue({
+            code: 'custom',
+            path: [f.key],
+            message: `${label}: write a number, e.g. ${NUMBER_EXAMPLES[f.key] ?? 1}.`,
+          });
           continue;
         }
         if (v < rule.min || v > rule.max || (rule.above && v === rule.min)) {
@@ -178,6 +192,7 @@ export const releaseFormSchema = z
         out[f.key] = raw;
       }
     }
+    if (ctx.issues.length > 0) return z.NEVER;
     if (Object.keys(out).length === 0) {
       ctx.addIssue({ code: 'custom', path: [], message: 'Fill in at least one corrected value.' });
       return z.NEVER;

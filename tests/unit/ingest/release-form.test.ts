@@ -29,6 +29,8 @@ describe('release form', () => {
         key: 'wavelengthNm',
         message: expect.stringMatching(/^Wavelength \(nm\): write a number/),
       });
+    // one sentence for the one wrong field (no "fill in at least one value" beside it)
+    if (!words.ok) expect(words.problems).toHaveLength(1);
     const negative = parseReleaseForm({ wavelengthNm: '-5' });
     if (!negative.ok) expect(negative.problems[0]?.message).toBe('Wavelength (nm) must be more than 0 nm.');
     else throw new Error('a negative wavelength was accepted');
