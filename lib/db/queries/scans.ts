@@ -245,6 +245,8 @@ export async function listCampaignScans(q: ScanListQuery): Promise<{ rows: ScanR
     const order = `${col} IS NULL, ${col} ${dir}, s.id ${dir}`;
     repl.limit = q.pageSize;
     repl.offset = (q.page - 1) * q.pageSize;
+    // The worker's headline columns, unless the scan's latest result is a trial one: then the current result's.
+    const latestIsTrial = '(lr.id IS NOT NULL AND (lc.approved_at IS NULL OR ls.approved_at IS NULL))';
     const db = getDb();
     const [countRows, rows] = await Promise.all([
       db.query<{ n: number }>(
@@ -254,7 +256,9 @@ export async function listCampaignScans(q: ScanListQuery): Promise<{ rows: ScanR
       db.query<Record<string, unknown>>(
         `SELECT s.id, s.title, s.shift_id, s.target, s.wavelength_nm, s.experiment_kind, s.step_quantity, s.n_steps,
                 s.n_y, s.n_x, s.status, s.status_message, s.flagged, s.started_at, s.created_at,
-                r.offset_deg AS offset_deg, r.offset_err_deg AS offset_err_deg, r.id AS latest_result_id,
+                CASE WHEN ${latestIsTrial} THEN r.offset_deg ELSE s.offset_deg END AS offset_deg,
+                CASE WHEN ${latestIsTrial} THEN r.offset_err_deg ELSE s.offset_err_deg END AS offset_err_deg,
+                CASE WHEN ${latestIsTrial} THEN r.id ELSE s.latest_result_id END AS latest_result_id,
                 f.original_name, f.size_bytes, sh.title AS shift_title,
                 dc.version AS cal_version, ast.version AS set_version
            FROM (SELECT s.id FROM scans s ${needsFile ? 'JOIN raw_files f ON f.id = s.raw_file_id' : ''}
@@ -262,7 +266,10 @@ export async function listCampaignScans(q: ScanListQuery): Promise<{ rows: ScanR
            JOIN scans s ON s.id = page.id
            JOIN raw_files f ON f.id = s.raw_file_id
            JOIN shifts sh ON sh.id = s.shift_id
-           LEFT JOIN scan_results r ON r.id = ${currentResultSql('s')}
+           LEFT JOIN scan_results lr ON lr.id = s.latest_result_id
+           LEFT JOIN detector_calibrations lc ON lc.id = lr.calibration_id
+           LEFT JOIN analysis_settings ls ON ls.id = lr.settings_id
+           LEFT JOIN scan_results r ON r.id = CASE WHEN ${latestIsTrial} THEN ${currentResultSql('s')} ELSE s.latest_result_id END
            LEFT JOIN detector_calibrations dc ON dc.id = r.calibration_id
            LEFT JOIN analysis_settings ast ON ast.id = r.settings_id
           ORDER BY ${order}`,
