@@ -205,7 +205,7 @@ export const DEMO_FILES: DemoFile[] = [
 export const DEMO_DETECTOR_PX = 512;
 
 /** Writes one demo file exactly as the demo start does (the integration tests make the same files). */
-export async function writeDemoFile(f: DemoFile, out: string): Promise<void> {
+export async function writeDemoFile(f: DemoFile, out: string, startTime?: string): Promise<void> {
   const { loadH5wasmNode } = await import('@/reduction/hdf5/node');
   const { planScan } = await import('@/reduction/synth/model');
   const { writeSynthScan } = await import('@/reduction/synth/scan-file');
@@ -216,6 +216,7 @@ export async function writeDemoFile(f: DemoFile, out: string): Promise<void> {
     planScan({ size: DEMO_DETECTOR_PX, dtype: 'float32', ...f.options }),
     f.broken ?? null,
     f.text,
+    startTime,
   );
 }
 
@@ -271,7 +272,10 @@ async function main(): Promise<number> {
 
       let t0 = performance.now();
       const local = path.join(dir, f.fileName);
-      await writeDemoFile(f, local);
+      // recorded during its shift: an hour after the shift opened, then 40 minutes per earlier file of that shift
+      const nth = DEMO_FILES.filter((d) => d.shift === f.shift).indexOf(f);
+      const startTime = new Date(shift.opened_at.getTime() + (60 + 40 * nth) * 60_000).toISOString();
+      await writeDemoFile(f, local, startTime);
       const bytes = readFileSync(local);
       const sha256 = createHash('sha256').update(bytes).digest('hex');
       genMs += performance.now() - t0;
