@@ -367,6 +367,12 @@ export interface ResultInput {
   shape: number[];
   step_quantity: StepQuantity;
   step_units: string;
+  /**
+   * Optional (version 1 extension): metadata an analyst corrected when releasing a quarantined file, applied over
+   * the file's own values before this reduction. Keys are the result's own names (`wavelength_nm`, `target`, …);
+   * absent when the file was reduced as stored.
+   */
+  overrides?: Record<string, string | number>;
 }
 
 export interface LobelineResult {

@@ -20,9 +20,10 @@ import type { ExperimentKind } from '@/reduction/formats';
 import type { SynthOptions } from '@/reduction/synth/model';
 import type { BrokenKind, SynthText } from '@/reduction/synth/scan-file';
 
+const invokedDirectly = !!process.argv[1] && path.resolve(process.argv[1]) === path.resolve(import.meta.filename);
 // The data layer imports 'server-only' (a marker that throws outside Next's server bundles); for this Node process
 // it resolves to an empty module. Registered before the data layer is imported (dynamically, below).
-await import('./server-only-shim');
+if (invokedDirectly) await import('./server-only-shim');
 
 // DEMO FILES //
 
@@ -31,7 +32,7 @@ const PHASE_ANALYST = 'phase-analyst@harbor-point.example';
 /** The file's modification time as a browser would report it (fixed, so an interrupted run resumes its upload). */
 const LAST_MODIFIED_MS = Date.UTC(2026, 2, 14, 9, 30, 0);
 
-interface DemoFile {
+export interface DemoFile {
   fileName: string;
   campaign: string;
   shift: string;
@@ -200,6 +201,25 @@ export const DEMO_FILES: DemoFile[] = [
   },
 ];
 
+/** Size of the demo detector (the seeded demo calibration v1 is centred on it). */
+export const DEMO_DETECTOR_PX = 512;
+
+/** Writes one demo file exactly as the demo start does (the integration tests make the same files). */
+export async function writeDemoFile(f: DemoFile, out: string, startTime?: string): Promise<void> {
+  const { loadH5wasmNode } = await import('@/reduction/hdf5/node');
+  const { planScan } = await import('@/reduction/synth/model');
+  const { writeSynthScan } = await import('@/reduction/synth/scan-file');
+  const rt = await loadH5wasmNode();
+  writeSynthScan(
+    rt,
+    out,
+    planScan({ size: DEMO_DETECTOR_PX, dtype: 'float32', ...f.options }),
+    f.broken ?? null,
+    f.text,
+    startTime,
+  );
+}
+
 // MAIN //
 
 const seconds = (t0: number) => ((performance.now() - t0) / 1000).toFixed(1);
@@ -217,9 +237,6 @@ async function main(): Promise<number> {
   const load = async () => ({
     ...(await import('@/lib/ingest/schemas')),
     ...(await import('@/lib/ingest/service')),
-    ...(await import('@/reduction/hdf5/node')),
-    ...(await import('@/reduction/synth/model')),
-    ...(await import('@/reduction/synth/scan-file')),
   });
   let mods: Awaited<ReturnType<typeof load>> | null = null;
 
@@ -251,16 +268,14 @@ async function main(): Promise<number> {
       }
       const actor = await actorFor(f.uploader);
       mods ??= await load();
-      const { completeUpload, loadH5wasmNode, planScan, startUpload, startUploadBody, writeSynthScan } = mods;
+      const { completeUpload, startUpload, startUploadBody } = mods;
 
       let t0 = performance.now();
-      const rt = await loadH5wasmNode();
       const local = path.join(dir, f.fileName);
       // recorded during its shift: an hour after the shift opened, then 40 minutes per earlier file of that shift
       const nth = DEMO_FILES.filter((d) => d.shift === f.shift).indexOf(f);
       const startTime = new Date(shift.opened_at.getTime() + (60 + 40 * nth) * 60_000).toISOString();
-      const plan = planScan({ size: 512, dtype: 'float32', ...f.options });
-      writeSynthScan(rt, local, plan, f.broken ?? null, f.text, startTime);
+      await writeDemoFile(f, local, startTime);
       const bytes = readFileSync(local);
       const sha256 = createHash('sha256').update(bytes).digest('hex');
       genMs += performance.now() - t0;
@@ -318,14 +333,16 @@ async function main(): Promise<number> {
   }
 }
 
-main()
-  .then(async (code) => {
-    const { closeSequelize } = await import('@/lib/db');
-    await closeSequelize().catch(() => undefined);
-    process.exit(code);
-  })
-  .catch(async (err: unknown) => {
-    console.error(`Demo scans failed: ${(err as Error)?.message ?? String(err)}`);
-    if (process.env.DEMO_SCANS_DEBUG) console.error(err);
-    process.exit(1);
-  });
+if (invokedDirectly) {
+  main()
+    .then(async (code) => {
+      const { closeSequelize } = await import('@/lib/db');
+      await closeSequelize().catch(() => undefined);
+      process.exit(code);
+    })
+    .catch(async (err: unknown) => {
+      console.error(`Demo scans failed: ${(err as Error)?.message ?? String(err)}`);
+      if (process.env.DEMO_SCANS_DEBUG) console.error(err);
+      process.exit(1);
+    });
+}

@@ -37,6 +37,14 @@ export function loadDotEnv(): void {
 
 // DEMO DATA //
 
+/** Detector calibration v1 of every demo campaign (invented values; the demo detector is 512 × 512 px). */
+export const DEMO_CALIBRATION_INPUT = {
+  center_px: [255.5, 255.5],
+  momentum_per_pixel_au: 2 / (512 / 2 - 12),
+  rotation_deg: 0,
+  note: 'Demo calibration v1 (invented values for the Harbor Point demo).',
+};
+
 const TEAMS = [
   {
     slug: 'attoclock',
@@ -248,12 +256,7 @@ async function seed(): Promise<void> {
     // Invented demo calibration: a 512 × 512 px detector centred at (255.5, 255.5) whose scale is the one the example
     // generator uses (reduction/synth/model.ts synthCalibration: 2 a.u. at 12 px inside the frame edge), so files
     // made with `npm run make-example -- --size 512` reduce to the intensity they were generated with.
-    const calibration = parseCalibration({
-      center_px: [255.5, 255.5],
-      momentum_per_pixel_au: 2 / (512 / 2 - 12),
-      rotation_deg: 0,
-      note: 'Demo calibration v1 (invented values for the Harbor Point demo).',
-    });
+    const calibration = parseCalibration(DEMO_CALIBRATION_INPUT);
     if (!calibration.ok) throw new Error(`demo calibration invalid: ${calibration.problems.join('; ')}`);
 
     for (const spec of CAMPAIGNS) {

@@ -9,7 +9,7 @@ import type { CampaignResponse } from '@/components/campaign/types';
 import { formatNumber } from '@/components/plots/scales';
 import { Badge, Button, EmptyState, ErrorState, LoadingBlock, PageHeader, Panel } from '@/components/ui';
 import { apiFetch } from '@/lib/api/client';
-import type { VersionDto, VersionKind } from '@/lib/db/queries/calibrations';
+import type { ApprovalPreviewDto, VersionDto, VersionKind } from '@/lib/db/queries/calibrations';
 import { formatDateTime } from '@/lib/format';
 import { parseCalibration, parseSettings } from '@/reduction/formats';
 import { VersionEditor } from './version-editor';
@@ -27,6 +27,78 @@ function summary(kind: VersionKind, body: unknown): string {
   const b = r.value;
   const win = Array.isArray(b.radial_window_au) ? `${b.radial_window_au.join('–')} a.u.` : 'auto';
   return `grid ±${b.grid.p_max_au} a.u., ${b.grid.n}² cells · window ${win} · ${b.peak_model} · ${b.bootstrap.resamples} resamples`;
+}
+
+const pairWords = (p: { calibration: number | null; settings: number | null } | null) =>
+  p
+    ? `calibration ${p.calibration == null ? '—' : `v${p.calibration}`} / settings ${p.settings == null ? '—' : `v${p.settings}`}`
+    : 'no approved result';
+
+/** The PI's confirmation before an approval: what changes, listed. */
+function ApprovalConfirm({
+  kind,
+  state,
+  busy,
+  onCancel,
+  onConfirm,
+}: {
+  kind: VersionKind;
+  state: { data?: { preview: ApprovalPreviewDto }; isPending: boolean; isError: boolean; error: Error | null };
+  busy: boolean;
+  onCancel: () => void;
+  onConfirm: () => void;
+}) {
+  if (state.isPending) return <LoadingBlock lines={2} />;
+  if (state.isError || !state.data)
+    return <ErrorState message={state.error?.message ?? 'The changes could not be listed.'} />;
+  const p = state.data.preview;
+  return (
+    <div
+      className="space-y-2 rounded-md bg-flare-50 p-3 text-small text-ink-800 ring-1 ring-flare-200"
+      data-testid="approval-confirm"
+    >
+      <p className="font-medium">
+        Approve {kind === 'calibration' ? 'calibration' : 'settings'} v{p.version}? The campaign&apos;s current pair
+        changes from {pairWords(p.before)} to {pairWords(p.after)}.
+      </p>
+      {p.trialResultsBecomingCurrent ? (
+        <p>
+          {p.trialResultsBecomingCurrent} trial result{p.trialResultsBecomingCurrent === 1 ? '' : 's'} already computed
+          with the new pair become{p.trialResultsBecomingCurrent === 1 ? 's' : ''} the current result of{' '}
+          {p.trialResultsBecomingCurrent === 1 ? 'its scan' : 'their scans'} and enter the trend.
+        </p>
+      ) : null}
+      {p.scansToReduceTotal ? (
+        <div>
+          <p>
+            {p.scansToReduceTotal} scan{p.scansToReduceTotal === 1 ? '' : 's'} would be re-reduced with the new pair
+            (when you start the campaign&apos;s re-reduction):
+          </p>
+          <ul className="mt-1 list-disc pl-5 text-micro" data-testid="approval-scans">
+            {p.scansToReduce.map((s) => (
+              <li key={s.scanId}>
+                scan {s.scanId}
+                {s.title ? ` “${s.title}”` : ''}: {pairWords(s.from)} → {pairWords(p.after)}
+              </li>
+            ))}
+            {p.scansToReduceTotal > p.scansToReduce.length ? (
+              <li>… and {p.scansToReduceTotal - p.scansToReduce.length} more</li>
+            ) : null}
+          </ul>
+        </div>
+      ) : (
+        <p>No scan needs a re-reduction: every scan already has a result with the new pair.</p>
+      )}
+      <div className="flex gap-2">
+        <Button size="sm" onClick={onConfirm} isLoading={busy} data-testid="confirm-approve">
+          Approve v{p.version}
+        </Button>
+        <Button size="sm" variant="ghost" onClick={onCancel}>
+          Cancel
+        </Button>
+      </div>
+    </div>
+  );
 }
 
 function VersionList({
@@ -49,9 +121,17 @@ function VersionList({
     queryFn: () => apiFetch<{ versions: VersionDto[] }>(`/api/campaigns/${campaignId}/${path}`),
   });
   const [editing, setEditing] = useState<{ base: VersionDto | null; mode: 'new' | 'draft' } | null>(null);
+  const [confirming, setConfirming] = useState<number | null>(null);
+  const preview = useQuery({
+    queryKey: ['approval-preview', campaignId, kind, confirming],
+    enabled: confirming != null,
+    queryFn: () =>
+      apiFetch<{ preview: ApprovalPreviewDto }>(`/api/campaigns/${campaignId}/${path}/${confirming}/approve`),
+  });
   const approve = useMutation({
     mutationFn: (id: number) => apiFetch(`/api/campaigns/${campaignId}/${path}/${id}/approve`, { method: 'POST' }),
     onSuccess: () => {
+      setConfirming(null);
       qc.invalidateQueries({ queryKey: ['versions', campaignId] });
       qc.invalidateQueries({ queryKey: ['campaign', campaignId] });
       onApproved();
@@ -112,12 +192,25 @@ function VersionList({
                     </Button>
                   ) : null}
                   {canApprove && !v.isCurrent ? (
-                    <Button size="sm" onClick={() => approve.mutate(v.id)} disabled={approve.isPending}>
-                      Approve v{v.version}
+                    <Button
+                      size="sm"
+                      onClick={() => setConfirming(v.id)}
+                      disabled={approve.isPending || confirming === v.id}
+                    >
+                      Approve v{v.version}…
                     </Button>
                   ) : null}
                 </span>
               </div>
+              {confirming === v.id ? (
+                <ApprovalConfirm
+                  kind={kind}
+                  state={preview}
+                  busy={approve.isPending}
+                  onCancel={() => setConfirming(null)}
+                  onConfirm={() => approve.mutate(v.id)}
+                />
+              ) : null}
               <p className="font-mono text-micro text-ink-600">{summary(kind, v.body)}</p>
               <p className="text-micro text-ink-500">
                 {v.note ? `“${v.note}” · ` : ''}created {formatDateTime(v.createdAt)}

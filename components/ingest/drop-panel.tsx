@@ -5,6 +5,7 @@ import { displayUnits } from '@/components/scans/format';
 import { Badge, Button, Panel } from '@/components/ui';
 import { checkAgainstLog } from '@/lib/ingest/log-check';
 import type { LogEntryDto, UnfinishedUploadDto } from '@/lib/ingest/types';
+import { attentionFor } from './attention';
 import { formatBytes, formatDuration, formatRate, KIND_WORDS } from './format';
 import { FramePreview } from './frame-preview';
 import type { IngestQueue, QueueItem } from './use-ingest-queue';
@@ -70,6 +71,7 @@ function ItemRow({
         stepValues: s.stepValues,
       })
     : [];
+  const attention = attentionFor(item, queue.items, queue.campaign);
   const busy = ['queued', 'sending', 'waiting-hash', 'verifying'].includes(item.phase);
   const hasProblems = problems.length > 0;
   const fraction = item.file.size ? item.loaded / item.file.size : 1;
@@ -159,6 +161,34 @@ function ItemRow({
                 <li key={m.field}>{m.sentence}</li>
               ))}
             </ul>
+          </div>
+        ) : null}
+        {attention.length && !item.outcome ? (
+          <div
+            className="rounded-md bg-flare-50 px-3 py-2 text-small text-flare-900 ring-1 ring-flare-200"
+            data-testid="precheck-attention"
+          >
+            <ul className="list-disc space-y-0.5 pl-5">
+              {attention.map((a) => (
+                <li key={a.sentence} data-kind={a.kind}>
+                  {a.sentence}
+                </li>
+              ))}
+            </ul>
+            {item.phase === 'ready' ? (
+              <label className="mt-2 flex items-center gap-2 font-medium">
+                <input
+                  type="checkbox"
+                  checked={item.confirmed}
+                  onChange={(e) => queue.setConfirmed(item.key, e.target.checked)}
+                  className="size-4 accent-flare-600"
+                  data-testid="confirm-attention"
+                />
+                {attention.some((a) => a.kind === 'campaign')
+                  ? 'Send it to this campaign all the same'
+                  : 'Send it all the same'}
+              </label>
+            ) : null}
           </div>
         ) : null}
         {pc?.warnings.length ? (
@@ -284,6 +314,9 @@ export function DropPanel({
   const { items, stats } = queue;
   const sendable = items.filter(queue.isSendable);
   const withProblems = items.filter((i) => i.phase === 'ready' && !queue.isSendable(i));
+  const unconfirmed = withProblems.filter(
+    (i) => (i.precheck?.ok === true || i.sendAnyway) && attentionFor(i, items, queue.campaign).length > 0,
+  ).length;
   const checking = items.some((i) => i.phase === 'checking');
   const matchUnfinished = (i: QueueItem) =>
     unfinished.find(
@@ -372,8 +405,15 @@ export function DropPanel({
                   : ''}
               </p>
             </div>
-            {withProblems.length ? (
-              <p className="text-small text-fault-700">{withProblems.length} with problems not selected</p>
+            {withProblems.length - unconfirmed > 0 ? (
+              <p className="text-small text-fault-700">
+                {withProblems.length - unconfirmed} with problems not selected
+              </p>
+            ) : null}
+            {unconfirmed ? (
+              <p className="text-small text-flare-900" data-testid="unconfirmed-count">
+                {unconfirmed} waiting for your confirmation
+              </p>
             ) : null}
             <Button onClick={queue.sendAll} disabled={!canUpload || sendable.length === 0} data-testid="send-all">
               {checking && sendable.length === 0

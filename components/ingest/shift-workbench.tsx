@@ -41,7 +41,7 @@ export function ShiftWorkbench({ initial, initialReceipt }: { initial: ShiftView
   const refresh = useCallback(() => {
     void qc.invalidateQueries({ queryKey: ['shift', shiftId] });
   }, [qc, shiftId]);
-  const queue = useIngestQueue({ shiftId, onStored: refresh });
+  const queue = useIngestQueue({ shiftId, onStored: refresh, campaign: initial.shift.campaign });
   const data = view.data;
   const busy = queue.items.filter((i) => ['queued', 'sending', 'waiting-hash', 'verifying'].includes(i.phase)).length;
   useLeaveWarning(unsentCount(queue.items));
@@ -71,6 +71,7 @@ export function ShiftWorkbench({ initial, initialReceipt }: { initial: ShiftView
           canRelease={data.permissions.release}
           canUpload={data.permissions.upload}
           onChanged={refresh}
+          suggest={{ target: data.shift.campaign.target, wavelengthNm: data.shift.campaign.wavelengthNm }}
           onReplace={(file, rawFileId) => queue.addFiles([file], rawFileId)}
         />
       </div>

@@ -1,11 +1,11 @@
 'use client';
 
 import { useRef, useState } from 'react';
-import { Badge, Button, EmptyState, inputClass, Panel } from '@/components/ui';
+import { Badge, Button, EmptyState, Field, inputClass, Panel } from '@/components/ui';
 import { ApiError, apiFetch } from '@/lib/api/client';
-import { metadataOverrideSchema } from '@/lib/ingest/schemas';
 import type { ShiftFileDto, VerifyingUploadDto } from '@/lib/ingest/types';
 import { formatBytes, KIND_WORDS } from './format';
+import { fieldLabel, fieldsNamedBy, parseReleaseForm, RELEASE_FIELDS, type ReleaseFormValues } from './release-fields';
 
 const STATUS: Record<ShiftFileDto['rawStatus'], { tone: 'good' | 'bad' | 'info' | 'neutral'; word: string }> = {
   accepted: { tone: 'good', word: 'Accepted' },
@@ -14,32 +14,53 @@ const STATUS: Record<ShiftFileDto['rawStatus'], { tone: 'good' | 'bad' | 'info' 
   replaced: { tone: 'neutral', word: 'Replaced' },
 };
 
-function ReleaseForm({ file, onDone }: { file: ShiftFileDto; onDone: () => void }) {
+/** Suggested values for the fields the reasons name (the campaign's own target and wavelength). */
+export interface ReleaseSuggestion {
+  target?: string | null;
+  wavelengthNm?: number | null;
+}
+
+function ReleaseForm({
+  file,
+  suggest,
+  onDone,
+}: {
+  file: ShiftFileDto;
+  suggest?: ReleaseSuggestion;
+  onDone: () => void;
+}) {
+  const named = fieldsNamedBy(file.reasons);
   const [mode, setMode] = useState<'revalidate' | 'accept'>('revalidate');
-  const [json, setJson] = useState('{\n  "wavelengthNm": 800\n}');
+  const [values, setValues] = useState<ReleaseFormValues>(() => {
+    const v: ReleaseFormValues = {};
+    if (named.includes('wavelengthNm') && suggest?.wavelengthNm) v.wavelengthNm = String(suggest.wavelengthNm);
+    if (named.includes('target') && suggest?.target) v.target = suggest.target;
+    return v;
+  });
+  const [showAll, setShowAll] = useState(named.length === 0);
+  const [fieldErrors, setFieldErrors] = useState<Record<string, string>>({});
   const [reason, setReason] = useState('');
   const [error, setError] = useState<{ message: string; details: string[] } | null>(null);
   const [busy, setBusy] = useState(false);
+  const shown = RELEASE_FIELDS.filter((f) => showAll || named.includes(f.key));
   const submit = async () => {
     setError(null);
+    setFieldErrors({});
     let body: unknown;
     if (mode === 'revalidate') {
-      let parsed: unknown;
-      try {
-        parsed = JSON.parse(json);
-      } catch {
-        setError({ message: 'The corrected metadata is not valid JSON.', details: [] });
+      const check = parseReleaseForm(values);
+      if (!check.ok) {
+        const byKey: Record<string, string> = {};
+        const general: string[] = [];
+        for (const p of check.problems) {
+          if (p.key && !byKey[p.key]) byKey[p.key] = p.message;
+          else general.push(p.message);
+        }
+        setFieldErrors(byKey);
+        setError({ message: general[0] ?? 'Some corrected values need another look.', details: general.slice(1) });
         return;
       }
-      const check = metadataOverrideSchema.safeParse(parsed);
-      if (!check.success) {
-        setError({
-          message: 'The corrected metadata is not valid.',
-          details: check.error.issues.map((i) => `${i.path.join('.') || 'metadata'}: ${i.message}`),
-        });
-        return;
-      }
-      body = { mode, metadataOverride: check.data };
+      body = { mode, metadataOverride: check.override };
     } else body = { mode, reason };
     setBusy(true);
     try {
@@ -79,21 +100,62 @@ function ReleaseForm({ file, onDone }: { file: ShiftFileDto; onDone: () => void 
         </label>
       </fieldset>
       {mode === 'revalidate' ? (
-        <div className="space-y-1">
-          <label className="block text-small font-medium text-ink-800" htmlFor={`ov-${file.rawFileId}`}>
-            Corrected metadata (JSON)
-          </label>
-          <textarea
-            id={`ov-${file.rawFileId}`}
-            rows={4}
-            value={json}
-            onChange={(e) => setJson(e.target.value)}
-            className={`${inputClass(false)} font-mono text-small`}
-          />
+        <div className="space-y-3">
+          <div className="grid gap-3 sm:grid-cols-2">
+            {shown.map((f) => (
+              <Field
+                key={f.key}
+                label={fieldLabel(f)}
+                hint={named.includes(f.key) ? `Named in the reason above${f.hint ? `; ${f.hint}` : ''}.` : f.hint}
+                error={fieldErrors[f.key] ?? null}
+              >
+                {({ id, describedBy, invalid }) =>
+                  f.input === 'select' ? (
+                    <select
+                      id={id}
+                      aria-describedby={describedBy}
+                      aria-invalid={invalid || undefined}
+                      data-field={f.key}
+                      value={values[f.key] ?? ''}
+                      onChange={(e) => setValues((v) => ({ ...v, [f.key]: e.target.value }))}
+                      className={inputClass(invalid)}
+                    >
+                      <option value="">leave as stored</option>
+                      {f.options?.map((o) => (
+                        <option key={o.value} value={o.value}>
+                          {o.label}
+                        </option>
+                      ))}
+                    </select>
+                  ) : (
+                    <input
+                      id={id}
+                      aria-describedby={describedBy}
+                      aria-invalid={invalid || undefined}
+                      data-field={f.key}
+                      inputMode={f.input === 'number' ? 'decimal' : undefined}
+                      placeholder="leave as stored"
+                      value={values[f.key] ?? ''}
+                      onChange={(e) => setValues((v) => ({ ...v, [f.key]: e.target.value }))}
+                      className={inputClass(invalid)}
+                    />
+                  )
+                }
+              </Field>
+            ))}
+          </div>
+          {named.length > 0 ? (
+            <button
+              type="button"
+              className="text-small text-lobe-700 hover:underline"
+              onClick={() => setShowAll((s) => !s)}
+            >
+              {showAll ? 'Show only the values the reason names' : 'Correct other values too'}
+            </button>
+          ) : null}
           <p className="text-micro text-ink-500">
-            Fields: experimentKind, startTime, title, target, ionizationEnergyEv, wavelengthNm, ellipticity, helicity,
-            majorAxisAngleDeg, fieldRatio, pulseDurationFs. The stored file is not changed; the correction is recorded
-            with it.
+            Empty fields keep the stored value. The stored file is not changed; the correction is recorded with it and
+            applied to every reduction of this file.
           </p>
         </div>
       ) : (
@@ -111,13 +173,15 @@ function ReleaseForm({ file, onDone }: { file: ShiftFileDto; onDone: () => void 
         </div>
       )}
       {error ? (
-        <div className="text-small text-fault-700" role="status">
+        <div className="text-small text-fault-700" role="status" data-testid="release-error">
           <p>{error.message}</p>
-          <ul className="list-disc pl-5 font-mono text-micro">
-            {error.details.map((d) => (
-              <li key={d}>{d}</li>
-            ))}
-          </ul>
+          {error.details.length ? (
+            <ul className="list-disc pl-5 text-micro">
+              {error.details.map((d) => (
+                <li key={d}>{d}</li>
+              ))}
+            </ul>
+          ) : null}
         </div>
       ) : null}
       <Button size="sm" onClick={submit} isLoading={busy}>
@@ -134,7 +198,9 @@ export function StoredFiles({
   canUpload,
   onChanged,
   onReplace,
+  suggest,
 }: {
+  suggest?: ReleaseSuggestion;
   files: ShiftFileDto[];
   verifying: VerifyingUploadDto[];
   canRelease: boolean;
@@ -255,6 +321,7 @@ export function StoredFiles({
               {open === f.rawFileId ? (
                 <ReleaseForm
                   file={f}
+                  suggest={suggest}
                   onDone={() => {
                     setOpen(null);
                     onChanged();

@@ -2,10 +2,12 @@
 // State of the files dropped on the shift page: pre-check, hash, upload, verdict. Nothing leaves the list on its
 // own: a file is either sent, or stays with the reason it was not.
 import { useCallback, useEffect, useRef, useState } from 'react';
-import { ApiError } from '@/lib/api/client';
+import { ApiError, apiFetch } from '@/lib/api/client';
+import type { StoredMatchDto } from '@/lib/ingest/lookup';
 import { PARALLEL_PARTS } from '@/lib/ingest/plan';
 import type { Precheck } from '@/lib/ingest/schemas';
 import type { UploadOutcomeDto } from '@/lib/ingest/types';
+import { attentionFor, type CampaignFacts } from './attention';
 import { FileChecker } from './precheck-client';
 import type { PrecheckResult } from './precheck-protocol';
 import { PartSlots, type RetryInfo, uploadFile } from './uploader';
@@ -29,6 +31,10 @@ export interface QueueItem {
   precheckError: string | null;
   /** Send this file even though the pre-check found problems (it will be quarantined). */
   sendAnyway: boolean;
+  /** The operator confirmed what attention.ts points out (campaign mismatch, duplicate). */
+  confirmed: boolean;
+  /** The stored file with the same SHA-256 (undefined: not asked yet; null: none). */
+  storedMatch?: StoredMatchDto | null;
   phase: ItemPhase;
   loaded: number;
   resumedBytes: number;
@@ -75,12 +81,28 @@ function toPrecheck(r: PrecheckResult | null): Precheck | null {
 /** Files of a batch sent at the same time. */
 const FILES_AT_ONCE = 2;
 
-const isSendable = (i: QueueItem) => i.phase === 'ready' && (i.precheck?.ok === true || i.sendAnyway);
-
-export function useIngestQueue({ shiftId, onStored }: { shiftId: number; onStored: () => void }) {
+export function useIngestQueue({
+  shiftId,
+  onStored,
+  campaign = null,
+}: {
+  shiftId: number;
+  onStored: () => void;
+  campaign?: CampaignFacts | null;
+}) {
   const [items, setItems] = useState<QueueItem[]>([]);
   const itemsRef = useRef(items);
   itemsRef.current = items;
+  const campaignRef = useRef(campaign);
+  campaignRef.current = campaign;
+  /** Ready, readable (or sent anyway) and, where something needs a word, confirmed by the operator. */
+  const isSendable = useCallback(
+    (i: QueueItem, _index?: number, list: QueueItem[] = itemsRef.current) =>
+      i.phase === 'ready' &&
+      (i.precheck?.ok === true || i.sendAnyway) &&
+      (i.confirmed || attentionFor(i, list, campaignRef.current).length === 0),
+    [],
+  );
   const checker = useRef<FileChecker | null>(null);
   const controllers = useRef(new Map<string, AbortController>());
   const hashes = useRef(new Map<string, Promise<string | null>>());
@@ -111,6 +133,7 @@ export function useIngestQueue({ shiftId, onStored }: { shiftId: number; onStore
         precheck: null,
         precheckError: null,
         sendAnyway: false,
+        confirmed: false,
         phase: 'checking',
         loaded: 0,
         resumedBytes: 0,
@@ -141,6 +164,11 @@ export function useIngestQueue({ shiftId, onStored }: { shiftId: number; onStore
             .then(
               (h) => {
                 patch(item.key, { sha256: h, hashBytes: item.file.size });
+                // Already stored? Asked before sending, so the panel can say so (a failed question says nothing).
+                apiFetch<{ matches: StoredMatchDto[] }>(`/api/shifts/${shiftId}/stored?sha256=${h}`).then(
+                  (r) => patch(item.key, { storedMatch: r.matches.find((m) => m.sha256 === h) ?? null }),
+                  () => undefined,
+                );
                 return h;
               },
               () => null,
@@ -148,7 +176,7 @@ export function useIngestQueue({ shiftId, onStored }: { shiftId: number; onStore
         );
       }
     },
-    [patch],
+    [patch, shiftId],
   );
 
   /** Sends one queued file; resolves when it has its verdict, failed or was cancelled. */
@@ -210,9 +238,9 @@ export function useIngestQueue({ shiftId, onStored }: { shiftId: number; onStore
   }, [sendOne]);
 
   const sendAll = useCallback(() => {
-    setItems((list) => list.map((i) => (isSendable(i) ? { ...i, phase: 'queued' } : i)));
+    setItems((list) => list.map((i) => (isSendable(i, 0, list) ? { ...i, phase: 'queued' } : i)));
     setTimeout(() => pump(), 0);
-  }, [pump]);
+  }, [pump, isSendable]);
 
   const retry = useCallback(
     (key: string) => {
@@ -233,6 +261,7 @@ export function useIngestQueue({ shiftId, onStored }: { shiftId: number; onStore
 
   const remove = useCallback((key: string) => setItems((list) => list.filter((i) => i.key !== key)), []);
   const setSendAnyway = useCallback((key: string, v: boolean) => patch(key, { sendAnyway: v }), [patch]);
+  const setConfirmed = useCallback((key: string, v: boolean) => patch(key, { confirmed: v }), [patch]);
 
   // batch speed and time left from the last ~5 s of progress
   useEffect(() => {
@@ -261,7 +290,19 @@ export function useIngestQueue({ shiftId, onStored }: { shiftId: number; onStore
     return () => clearInterval(timer);
   }, []);
 
-  return { items, stats, addFiles, sendAll, retry, cancel, remove, setSendAnyway, isSendable };
+  return {
+    items,
+    stats,
+    addFiles,
+    sendAll,
+    retry,
+    cancel,
+    remove,
+    setSendAnyway,
+    setConfirmed,
+    isSendable,
+    campaign,
+  };
 }
 
 export type IngestQueue = ReturnType<typeof useIngestQueue>;

@@ -4,6 +4,7 @@
 import { useQuery } from '@tanstack/react-query';
 import Link from 'next/link';
 import { useEffect, useState } from 'react';
+import { overridePhrases } from '@/components/ingest/release-fields';
 import { formatNumber } from '@/components/plots/scales';
 import { XYPlot } from '@/components/plots/xy-plot';
 import { EmptyState, ErrorState, LoadingBlock, PageHeader, Panel } from '@/components/ui';
@@ -20,7 +21,19 @@ import { ScanStatusBadge } from './status-badge';
 import { StepTable } from './step-table';
 import type { ResultResponse, ScanResponse } from './types';
 
-export function ScanView({ scanId }: { scanId: number }) {
+const DOWNLOAD_PROBLEMS = {
+  missing:
+    'The result file of this result is not in storage any more, so it could not be downloaded. Reduce the scan again to rebuild it, or tell the data steward.',
+  unavailable: 'The storage service did not answer, so the result file could not be downloaded. Try again in a minute.',
+} as const;
+
+export function ScanView({
+  scanId,
+  downloadProblem = null,
+}: {
+  scanId: number;
+  downloadProblem?: keyof typeof DOWNLOAD_PROBLEMS | null;
+}) {
   const scanQ = useQuery({
     queryKey: ['scan', scanId],
     queryFn: () => apiFetch<ScanResponse>(`/api/scans/${scanId}`),
@@ -102,6 +115,16 @@ export function ScanView({ scanId }: { scanId: number }) {
         </div>
       ) : null}
 
+      {downloadProblem ? (
+        <div
+          role="alert"
+          data-testid="download-problem"
+          className="rounded-md border border-fault-100 bg-fault-50 px-4 py-3 text-small text-fault-700"
+        >
+          {DOWNLOAD_PROBLEMS[downloadProblem]}
+        </div>
+      ) : null}
+
       {openJob ? (
         <Panel>
           <div className="flex items-center gap-4" data-testid="job-progress">
@@ -138,9 +161,11 @@ export function ScanView({ scanId }: { scanId: number }) {
                 ? 'See the reason above.'
                 : quarantined
                   ? 'This file is quarantined: it is not reduced until an analyst releases it on the shift page.'
-                  : scan.status === 'uploaded' && !openJob
-                    ? 'Not queued yet: the campaign needs an approved calibration and settings pair.'
-                    : 'The result appears here when the worker is done.'}
+                  : results.some((r) => r.trial)
+                    ? 'No result with approved versions yet; the trial results are listed below.'
+                    : scan.status === 'uploaded' && !openJob
+                      ? 'Not queued yet: the campaign needs an approved calibration and settings pair.'
+                      : 'The result appears here when the worker is done.'}
             </EmptyState>
           ) : resultQ.isPending ? (
             <LoadingBlock lines={3} />
@@ -178,23 +203,46 @@ export function ScanView({ scanId }: { scanId: number }) {
                   calibration v{resultQ.data.calibrationVersion} · settings v{resultQ.data.settingsVersion}
                   <br />
                   {formatDateTime(resultQ.data.createdAt)} · lobeline {result.software.version}
+                  {result.input.overrides ? (
+                    <>
+                      <br />
+                      <span data-testid="result-overrides">
+                        Corrected at release: {overridePhrases(result.input.overrides).join(' · ')}
+                      </span>
+                    </>
+                  ) : null}
                 </div>
               </div>
-              {results.length > 1 ? (
+              {results.find((r) => r.id === shownId)?.trial ? (
+                <p
+                  className="rounded-md border border-flare-200 bg-flare-50 px-3 py-2 text-small text-flare-900"
+                  data-testid="trial-result-banner"
+                >
+                  Trial result: calibration v{resultQ.data.calibrationVersion} / settings v
+                  {resultQ.data.settingsVersion} includes a version that was never approved. It is not this scan&apos;s
+                  result and is not in the campaign trend.
+                </p>
+              ) : null}
+              {results.filter((r) => !r.trial).length > 1 ? (
                 <label className="block text-micro text-ink-600">
                   Result shown
                   <select
                     className="ml-2 rounded border border-ink-200 px-2 py-1 text-small"
-                    value={shownId}
+                    value={results.find((r) => r.id === shownId && !r.trial) ? shownId : ''}
                     onChange={(e) => setResultId(Number(e.target.value))}
                   >
-                    {results.map((r) => (
-                      <option key={r.id} value={r.id}>
-                        cal v{r.calibrationVersion} / set v{r.settingsVersion} ·{' '}
-                        {valueWithError(r.offsetDeg, r.offsetErrDeg, '°')}
-                        {r.isLatest ? ' (latest)' : ''}
-                      </option>
-                    ))}
+                    {results.find((r) => r.id === shownId && !r.trial) ? null : (
+                      <option value="">a trial result</option>
+                    )}
+                    {results
+                      .filter((r) => !r.trial)
+                      .map((r) => (
+                        <option key={r.id} value={r.id}>
+                          cal v{r.calibrationVersion} / set v{r.settingsVersion} ·{' '}
+                          {valueWithError(r.offsetDeg, r.offsetErrDeg, '°')}
+                          {r.isLatest ? ' (current)' : ''}
+                        </option>
+                      ))}
                   </select>
                 </label>
               ) : null}
@@ -252,6 +300,38 @@ export function ScanView({ scanId }: { scanId: number }) {
                   </>
                 ) : null}
               </div>
+            </div>
+          ) : null}
+          {can.viewResults && results.some((r) => r.trial) ? (
+            <div className="mt-4 border-t border-ink-100 pt-3" data-testid="trial-results">
+              <p className="text-small font-medium text-ink-800">Trial results (versions not approved)</p>
+              <p className="text-micro text-ink-500">
+                Kept apart: they are never the scan&apos;s result and never in the campaign trend.
+              </p>
+              <ul className="mt-1 space-y-1">
+                {results
+                  .filter((r) => r.trial)
+                  .map((r) => (
+                    <li key={r.id} className="flex flex-wrap items-center gap-2 text-small">
+                      <span className="rounded bg-flare-100 px-1.5 py-0.5 text-micro font-semibold text-flare-900">
+                        trial
+                      </span>
+                      calibration v{r.calibrationVersion} / settings v{r.settingsVersion} ·{' '}
+                      {valueWithError(r.offsetDeg, r.offsetErrDeg, '°')}
+                      {r.id === shownId ? (
+                        <span className="text-ink-500">(shown)</span>
+                      ) : (
+                        <button
+                          type="button"
+                          className="text-lobe-700 hover:underline"
+                          onClick={() => setResultId(r.id)}
+                        >
+                          Show
+                        </button>
+                      )}
+                    </li>
+                  ))}
+              </ul>
             </div>
           ) : null}
         </Panel>

@@ -159,3 +159,28 @@ export async function applyMetadataOverride(
   }
   return { ok: true, path: copy, cleanup };
 }
+
+/** The result's own names (FORMATS §4 style) for each override field, used in `input.overrides`. */
+const RESULT_NAMES: Record<keyof MetadataOverride, string> = {
+  experimentKind: 'experiment_kind',
+  startTime: 'start_time',
+  title: 'title',
+  target: 'target',
+  ionizationEnergyEv: 'ionization_energy_ev',
+  wavelengthNm: 'wavelength_nm',
+  ellipticity: 'ellipticity',
+  helicity: 'helicity',
+  majorAxisAngleDeg: 'major_axis_angle_deg',
+  fieldRatio: 'field_ratio',
+  pulseDurationFs: 'pulse_duration_fs',
+};
+
+/** An override as the result records it (`input.overrides`): result names, values as given. */
+export function overrideProvenance(override: MetadataOverride): Record<string, string | number> {
+  const out: Record<string, string | number> = {};
+  for (const [field, value] of Object.entries(override) as [keyof MetadataOverride, unknown][]) {
+    if (value === undefined || !RESULT_NAMES[field]) continue;
+    out[RESULT_NAMES[field]] = value as string | number;
+  }
+  return out;
+}

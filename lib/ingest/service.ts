@@ -13,6 +13,7 @@ import {
   closeShiftRow,
   findRawFileBySha256,
   findResumableUpload,
+  firstScanOfFileInCampaign,
   getRawFileRecord,
   getShiftRecord,
   getUploadRecord,
@@ -598,11 +599,21 @@ async function verifyAndCatalogue(
         `The SHA-256 of the stored object (${sha256}) differs from the one your browser computed (${clientSha256}); the transfer was damaged and nothing was stored. Drop the file again.`,
       );
     }
-    const outcome = await catalogue(actor, { ...upload, objectKey: storedKey }, shift, sha256, local, clientSha256, ip);
+    const outcome = await catalogue(
+      actor,
+      { ...upload, objectKey: storedKey },
+      shift,
+      sha256,
+      local,
+      clientSha256 ?? null,
+      ip,
+    );
     // The upload key is not needed any more (a duplicate's copy was removed by linkDuplicate).
     await removeUploadObjects(upload, outcome.outcome === 'duplicate' ? undefined : storedKey);
     await scheduleLeftovers(uploadId);
-    if (outcome.outcome !== 'quarantined' && outcome.reasons.length === 0) await onScanAccepted(outcome.scanId);
+    if (outcome.outcome !== 'quarantined' && outcome.reasons.length === 0 && !outcome.countedAsScanId) {
+      await onScanAccepted(outcome.scanId);
+    }
     return outcome;
   } catch (err) {
     // An infrastructure failure (database, storage) leaves the upload open so the browser can complete it again.
@@ -720,6 +731,10 @@ async function linkDuplicate(
   ip: string | undefined,
 ): Promise<UploadOutcomeDto> {
   const quarantined = existing.status === 'quarantined' || existing.status === 'replaced';
+  // Already a scan of this campaign: the new row records that the file was sent in this shift too, but it is not
+  // a second scan (the campaign's counts, table and trend count the first one; lib/db/queries/scans.ts), and it is
+  // not reduced again.
+  const countedAs = await firstScanOfFileInCampaign({ rawFileId: existing.id, campaignId: shift.campaignId });
   const scanId = await getDb().transaction(async (transaction) => {
     const id = await insertScan({
       upload,
@@ -727,7 +742,11 @@ async function linkDuplicate(
       rawFileId: existing.id,
       metadata: existing.metadata,
       status: quarantined ? 'quarantined' : 'uploaded',
-      statusMessage: quarantined ? (existing.quarantineReasons[0] ?? 'quarantined') : null,
+      statusMessage: quarantined
+        ? (existing.quarantineReasons[0] ?? 'quarantined')
+        : countedAs
+          ? `Identical to scan ${countedAs} of this campaign; linked to it and counted once, not reduced again.`
+          : null,
       transaction,
     });
     await setUploadOutcome({ uploadId: upload.id, rawFileId: existing.id, scanId: id, clientSha256, transaction });
@@ -766,7 +785,10 @@ async function linkDuplicate(
     warnings: catalogueLimits(existing.metadata).warnings,
     message: quarantined
       ? 'Identical to a file already stored (and quarantined); linked to it instead of storing a second copy.'
-      : 'Identical to a file already stored; linked to it instead of storing a second copy.',
+      : countedAs
+        ? `Identical to scan ${countedAs} of this campaign; linked to it and counted once, not as a second scan.`
+        : 'Identical to a file already stored; linked to it instead of storing a second copy.',
+    countedAsScanId: countedAs,
   });
 }
 

@@ -133,6 +133,8 @@ export interface UploadOutcomeDto {
   warnings: string[];
   /** Set when the browser's checksum differed from the stored object's (the upload is then refused). */
   message: string;
+  /** For a duplicate of a file that is already a scan of this campaign: that scan (the duplicate is not counted). */
+  countedAsScanId?: number | null;
 }
 
 export type { Precheck };

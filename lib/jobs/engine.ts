@@ -14,6 +14,8 @@ export interface RunReductionInput {
   sha256: string | null;
   /** Path of the result file to write (the module's real file system, Node). */
   outPath: string;
+  /** Analyst corrections applied over the file's metadata (result names), recorded as `input.overrides`. */
+  overrides?: Record<string, string | number> | null;
   /** Warnings of the reader, put first in the result. */
   readerWarnings?: string[];
   /** Called after each step (awaited: the event loop runs between steps, so the queue lock is renewed). */
@@ -56,6 +58,7 @@ export async function runReduction(
       await new Promise((resolve) => setImmediate(resolve));
     }
     const { result, phaseMaps } = reducer.finish();
+    if (input.overrides && Object.keys(input.overrides).length) result.input.overrides = { ...input.overrides };
     if (input.readerWarnings?.length) result.warnings = [...input.readerWarnings, ...result.warnings];
     if (phaseMaps !== null) writer.writePhase(phaseMaps);
     writer.writeSummary(result);

@@ -12,6 +12,8 @@ import path from 'node:path';
 import { UniqueConstraintError } from 'sequelize';
 import { recordAudit } from '@/lib/audit';
 import { getDb } from '@/lib/db';
+import { applyMetadataOverride, overrideProvenance } from '@/lib/ingest/override';
+import { metadataOverrideSchema } from '@/lib/ingest/schemas';
 import { downloadVerified, StoredFileMismatchError } from '@/lib/ingest/verify';
 import { log } from '@/lib/log';
 import { type ReductionJobData, type ReductionJobOutcome, reductionBackoffMs } from '@/lib/queue/reduction-queue';
@@ -27,7 +29,7 @@ import {
   Team,
 } from '@/models';
 import { type LobelineResult, SOFTWARE_VERSION } from '@/reduction/formats';
-import { openScanPath } from '@/reduction/hdf5/node';
+import { loadH5wasmNode, openScanPath } from '@/reduction/hdf5/node';
 import { ScanFileRefusedError } from '@/reduction/hdf5/problems';
 import { runReduction } from './engine';
 import { describeAttempt, explainFailure, ReductionRefusedError } from './failure';
@@ -117,6 +119,7 @@ export async function processReduction(data: ReductionJobData, ctx: JobContext):
   const progress = progressReporter(job.id, ctx);
   let workDir: string | null = null;
   let scanFile: { close(): void } | null = null;
+  let overrideCleanup: (() => Promise<void>) | null = null;
   let context: {
     teamId: number;
     campaignId: number;
@@ -181,8 +184,26 @@ export async function processReduction(data: ReductionJobData, ctx: JobContext):
     }
     await progress(0.05, true);
 
+    // 1b. A file released with corrected metadata: the analyst's override goes over a scratch copy (the stored
+    // bytes never change), exactly as the release's re-validation applied it.
+    let scanPath = rawPath;
+    let overrides: Record<string, string | number> | null = null;
+    if (file.metadata_override) {
+      const parsed = metadataOverrideSchema.safeParse(file.metadata_override);
+      if (!parsed.success) {
+        throw new ReductionRefusedError('The corrected metadata recorded with this file is not valid any more.');
+      }
+      const applied = await applyMetadataOverride(await loadH5wasmNode(), rawPath, parsed.data);
+      if (!applied.ok) {
+        throw new ReductionRefusedError(`The corrected metadata could not be applied: ${applied.problems.join('; ')}`);
+      }
+      overrideCleanup = applied.cleanup;
+      scanPath = applied.path;
+      overrides = overrideProvenance(parsed.data);
+    }
+
     // 2. Open and check everything before the first frame.
-    const opened = await openScanPath(rawPath);
+    const opened = await openScanPath(scanPath);
     if (!opened.ok) throw new ScanFileRefusedError(opened.problems);
     scanFile = opened.scan;
     const { calibration, settings } = preflight(opened.scan.meta, cal.body, set.body, {
@@ -197,6 +218,7 @@ export async function processReduction(data: ReductionJobData, ctx: JobContext):
       calibration,
       settings,
       sha256: file.sha256,
+      overrides,
       outPath,
       readerWarnings: opened.warnings,
       onStep: (done, total) => progress(0.05 + 0.85 * (done / total)),
@@ -259,6 +281,7 @@ export async function processReduction(data: ReductionJobData, ctx: JobContext):
     } catch {
       // already closed
     }
+    if (overrideCleanup) await overrideCleanup().catch(() => undefined);
     if (workDir) await rm(workDir, { recursive: true, force: true }).catch(() => undefined);
   }
 }

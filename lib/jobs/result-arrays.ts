@@ -1,14 +1,19 @@
 // Arrays of a stored result file (FORMATS §5) for the scan page: a calibrated momentum image of one step, a phase
 // map, or a step's angular/radial distribution. The derived object is copied from S3 to a local cache file once per
 // result (streamed), read with h5wasm one dataset slice at a time, downsampled by block sums (images) and kept in a
-// small in-memory cache per result id. Node only (used by route handlers).
+// small in-memory cache. Both caches are keyed by the stored object itself (bucket, key and the storage service's
+// ETag and size), never by the result id alone: result ids start again at 1 in every database (a demo reset, the
+// test instance beside the dev one), and the cache folder under the OS temp folder outlives them all, so an id-keyed
+// cache served another database's result file (a phase scan then "had no entry/result/phase/px"). Node only (used
+// by route handlers).
+import { createHash } from 'node:crypto';
 import { createWriteStream } from 'node:fs';
 import { mkdir, rename, rm, stat } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { pipeline } from 'node:stream/promises';
 import { AppError } from '@/lib/errors';
-import { getObjectStream } from '@/lib/storage/s3';
+import { getObjectStream, headObject } from '@/lib/storage/s3';
 import { loadH5wasmNode } from '@/reduction/hdf5/node';
 
 export const IMAGE_KINDS = ['calibrated', 'mean', 'amplitude', 'phase_of_max', 'contrast'] as const;
@@ -63,9 +68,29 @@ function remember<T>(key: string, value: T): T {
   return value;
 }
 
-/** Local copy of a result file (downloaded once, then reused). */
-async function localCopy(resultId: number, bucket: string, key: string): Promise<string> {
-  const file = path.join(CACHE_DIR, `result-${resultId}.h5`);
+/**
+ * The identity of a stored result file: a digest of bucket, key, ETag and size (a HEAD request). Two different
+ * objects, or the same key rewritten with other bytes, never share it.
+ */
+async function objectIdentity(bucket: string, key: string): Promise<string> {
+  const head = await headObject(bucket, key).catch((err: unknown) => {
+    if (err instanceof AppError && err.code === 'not_found:storage') {
+      throw new AppError('not_found:reduction', {
+        message: 'The stored result file of this scan is missing; reduce the scan again to rebuild it.',
+        cause: err,
+      });
+    }
+    throw err;
+  });
+  return createHash('sha256')
+    .update(`${bucket}\n${key}\n${head.etag ?? ''}\n${head.size}`)
+    .digest('hex')
+    .slice(0, 32);
+}
+
+/** Local copy of a result file (downloaded once per identity, then reused). */
+async function localCopy(identity: string, bucket: string, key: string): Promise<string> {
+  const file = path.join(CACHE_DIR, `result-${identity}.h5`);
   try {
     if ((await stat(file)).size > 0) return file;
   } catch {
@@ -96,8 +121,8 @@ async function localCopy(resultId: number, bucket: string, key: string): Promise
 
 type H5File = InstanceType<Awaited<ReturnType<typeof loadH5wasmNode>>['File']>;
 
-async function withFile<T>(resultId: number, bucket: string, key: string, fn: (f: H5File) => T): Promise<T> {
-  const local = await localCopy(resultId, bucket, key);
+async function withFile<T>(identity: string, bucket: string, key: string, fn: (f: H5File) => T): Promise<T> {
+  const local = await localCopy(identity, bucket, key);
   const rt = await loadH5wasmNode();
   let f: H5File;
   try {
@@ -171,10 +196,11 @@ export async function readResultImage(input: {
   step: number;
   maxSide: number;
 }): Promise<ImagePayload> {
-  const cacheKey = `img:${input.resultId}:${input.kind}:${input.kind === 'calibrated' ? input.step : '-'}:${input.maxSide}`;
+  const id = await objectIdentity(input.bucket, input.key);
+  const cacheKey = `img:${id}:${input.kind}:${input.kind === 'calibrated' ? input.step : '-'}:${input.maxSide}`;
   const hit = memory.get(cacheKey) as ImagePayload | undefined;
   if (hit) return remember(cacheKey, hit);
-  const payload = await withFile(input.resultId, input.bucket, input.key, (f) => {
+  const payload = await withFile(id, input.bucket, input.key, (f) => {
     const group = input.kind === 'calibrated' ? 'entry/result/calibrated' : 'entry/result/phase';
     const px = Array.from(dataset(f, `${group}/px`).value);
     const py = Array.from(dataset(f, `${group}/py`).value);
@@ -253,10 +279,11 @@ export async function readResultCurves(input: {
   key: string;
   step: number;
 }): Promise<CurvesPayload> {
-  const cacheKey = `curves:${input.resultId}:${input.step}`;
+  const id = await objectIdentity(input.bucket, input.key);
+  const cacheKey = `curves:${id}:${input.step}`;
   const hit = memory.get(cacheKey) as CurvesPayload | undefined;
   if (hit) return remember(cacheKey, hit);
-  const payload = await withFile(input.resultId, input.bucket, input.key, (f) => {
+  const payload = await withFile(id, input.bucket, input.key, (f) => {
     const ang = dataset(f, 'entry/result/angular/yield');
     const nStep = ang.shape[0] ?? 0;
     if (input.step < 0 || input.step >= nStep) {
@@ -281,7 +308,8 @@ export async function readRegionYield(input: {
   px: [number, number];
   py: [number, number];
 }): Promise<{ yields: number[]; cells: number }> {
-  return withFile(input.resultId, input.bucket, input.key, (f) => {
+  const id = await objectIdentity(input.bucket, input.key);
+  return withFile(id, input.bucket, input.key, (f) => {
     const px = Array.from(dataset(f, 'entry/result/calibrated/px').value);
     const py = Array.from(dataset(f, 'entry/result/calibrated/py').value);
     const d = dataset(f, 'entry/result/calibrated/counts');

@@ -295,6 +295,17 @@ export async function presignPut(input: {
   );
 }
 
+/**
+ * `Content-Disposition: attachment` for a presigned download, quoted-string form with a plain-ASCII name. The
+ * extended form (`filename*=UTF-8''…`, RFC 6266) carries `'` and `*`, which S3 services do not all percent-encode
+ * alike when they recompute the SigV4 canonical query (RFC 3986 leaves them unreserved in some encoders): the
+ * local S3 service then answered SignatureDoesNotMatch. Lobeline's names are ASCII; anything else becomes `_`.
+ */
+export function attachmentDisposition(name: string): string {
+  const safe = name.replace(/[^A-Za-z0-9._-]/g, '_').slice(0, 200) || 'download';
+  return `attachment; filename="${safe}"`;
+}
+
 export async function presignGet(input: {
   bucket: string;
   key: string;
@@ -303,9 +314,7 @@ export async function presignGet(input: {
   downloadName?: string;
 }): Promise<string> {
   const expiresIn = checkExpiry(input.expiresIn);
-  const disposition = input.downloadName
-    ? `attachment; filename*=UTF-8''${encodeURIComponent(input.downloadName)}`
-    : undefined;
+  const disposition = input.downloadName ? attachmentDisposition(input.downloadName) : undefined;
   return run('presignGet', { bucket: input.bucket, key: input.key }, () =>
     getSignedUrl(
       getS3Client(),

@@ -52,8 +52,10 @@ test('operator drops, sends and closes a shift, and gets the receipt', async ({ 
   // open a new shift in the first campaign the operator can use
   const res = await page.request.get('/api/campaigns');
   expect(res.ok()).toBeTruthy();
-  const campaigns = (await res.json()) as { campaigns?: { id: number }[]; items?: { id: number }[] };
-  const campaignId = (campaigns.campaigns ?? campaigns.items ?? [])[0]?.id;
+  const campaigns = (await res.json()) as { campaigns?: { id: number; name: string }[] };
+  // The seeded helium campaign: the generated files are He at 800 nm, and a file that differs from its campaign
+  // now waits for the operator's confirmation (tests/e2e/everyday.spec.ts).
+  const campaignId = (campaigns.campaigns ?? []).find((c) => c.name === 'He 800 nm elliptical')?.id;
   expect(campaignId).toBeDefined();
   const opened = await page.request.post('/api/shifts', { data: { campaignId, title: `E2E shift ${Date.now()}` } });
   expect(opened.ok()).toBeTruthy();

@@ -17,8 +17,11 @@ test('pre-check lists unusable optional fields and saturation as warnings', asyn
   await page.getByRole('button', { name: /sign in/i }).click();
   await page.waitForURL((u) => !u.pathname.startsWith('/sign-in'));
   const res = await page.request.get('/api/campaigns');
-  const campaigns = (await res.json()) as { campaigns?: { id: number }[]; items?: { id: number }[] };
-  const campaignId = (campaigns.campaigns ?? campaigns.items ?? [])[0]?.id;
+  const campaigns = (await res.json()) as { campaigns?: { id: number; name: string }[] };
+  // The seeded argon campaign: the fixtures are Ar at 800 nm (make_fixtures.py), and a file that differs from its
+  // campaign gets a confirmation checkbox of its own (tests/e2e/everyday.spec.ts).
+  const campaignId = (campaigns.campaigns ?? []).find((c) => c.name === 'Ar 800 nm elliptical')?.id;
+  expect(campaignId, 'the seeded argon campaign').toBeDefined();
   const opened = await page.request.post('/api/shifts', { data: { campaignId, title: `Pre-check ${Date.now()}` } });
   expect(opened.ok()).toBeTruthy();
   const body = (await opened.json()) as { shift?: { id: number }; id?: number };

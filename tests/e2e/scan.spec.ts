@@ -55,6 +55,14 @@ async function uploadOnNewShift(page: Page, campaignId: number, files: string[])
   // Files set before React has hydrated the drop zone are not seen by it: wait until the page has settled.
   await page.waitForLoadState('networkidle');
   await page.getByTestId('dropzone-input').setInputFiles(files);
+  // A file of another kind than the campaign's (the two-colour file in the helium campaign) waits for the
+  // operator's confirmation (tests/e2e/everyday.spec.ts): confirm it, as the operator would.
+  for (const f of files) {
+    const item = page.locator(`[data-testid=drop-item][data-file="${path.basename(f)}"]`);
+    await expect(item.getByTestId('precheck-summary')).toBeVisible({ timeout: 60_000 });
+    const confirm = item.getByTestId('confirm-attention');
+    if (await confirm.count()) await confirm.check();
+  }
   await page.getByTestId('send-all').click();
   for (const f of files) {
     await expect(page.locator(`[data-testid=drop-item][data-file="${path.basename(f)}"]`)).toHaveAttribute(

@@ -155,6 +155,13 @@ const versionRows = (kind: 'calibration' | 'settings'): Row[] => {
       }),
       expect: analystOnly(200),
     },
+    // What approving would change: shown to the PI before the approval, so PI only as well.
+    {
+      route: `${base}/[versionId]/approve`,
+      method: 'GET',
+      request: ({ t }) => at(t, kind === 'calibration' ? t.draftCalibrationId : t.draftSettingsId, '/approve'),
+      expect: piOnly(200),
+    },
     {
       route: `${base}/[versionId]/approve`,
       method: 'POST',
@@ -451,6 +458,17 @@ const ROWS: Row[] = [
       const id = await ctx.w.freshUpload(ctx.t, uploadOwner(ctx), 'multipart');
       return { path: `/api/uploads/${id}/abort`, params: { uploadId: String(id) } };
     },
+    expect: shiftCrew(200),
+  },
+  // Before sending, the drop panel asks which checksums the team already stored: for those who upload.
+  {
+    route: '/api/shifts/[shiftId]/stored',
+    method: 'GET',
+    request: ({ t }) => ({
+      path: `/api/shifts/${t.shiftId}/stored`,
+      params: { shiftId: String(t.shiftId) },
+      query: { sha256: 'ab'.repeat(32) },
+    }),
     expect: shiftCrew(200),
   },
   // Releasing a quarantined file is analyst work; the steward sees raw files (C10) but does not release them.

@@ -3,13 +3,14 @@ import 'server-only';
 // A version is edited while it is a draft and no result uses it; once a result uses it (`locked_at`, set in the
 // worker's result transaction) it never changes again, and an edit creates the next version. The PI approves a
 // version: it becomes the campaign's current one of its kind, the previously current one is retired.
-import { Op, type Transaction } from 'sequelize';
+import { Op, QueryTypes, type Transaction } from 'sequelize';
 import { recordAudit } from '@/lib/audit';
 import { getDb } from '@/lib/db';
 import { AppError } from '@/lib/errors';
 import type { VersionStatus } from '@/models';
 import { AnalysisSettingsVersion, Campaign, DetectorCalibrationVersion, ScanResult, User } from '@/models';
 import { parseCalibration, parseSettings } from '@/reduction/formats';
+import { currentResultSql, firstOfItsFile } from './scans';
 
 // TYPES //
 
@@ -300,5 +301,92 @@ export async function approveVersion({
       return { currentCalibrationId: campaign.current_calibration_id, currentSettingsId: campaign.current_settings_id };
     });
     return { version: (await getVersion({ kind, versionId })).version, ...pair };
+  });
+}
+
+// APPROVAL PREVIEW //
+
+export interface ApprovalPreviewDto {
+  kind: VersionKind;
+  version: number;
+  /** The campaign's current pair now and after the approval (version numbers; null when none). */
+  before: { calibration: number | null; settings: number | null };
+  after: { calibration: number | null; settings: number | null };
+  /** Scans whose current result is not computed with the pair after the approval (a re-reduction would redo them). */
+  scansToReduce: {
+    scanId: number;
+    title: string | null;
+    /** Versions of the scan's current result now (null: no approved result yet). */
+    from: { calibration: number | null; settings: number | null } | null;
+  }[];
+  /** How many scans in all (the list above stops at 50). */
+  scansToReduceTotal: number;
+  /** Trial results already computed with the pair after the approval: they become the scans' results. */
+  trialResultsBecomingCurrent: number;
+}
+
+/**
+ * What approving a version changes, for the PI's confirmation: the campaign's pair before → after, the scans a
+ * re-reduction with the new pair would redo (with the versions of their current result), and the trial results
+ * that the approval turns into current results.
+ */
+export async function approvalPreview({
+  kind,
+  versionId,
+}: {
+  kind: VersionKind;
+  versionId: number;
+}): Promise<ApprovalPreviewDto> {
+  return guard('approvalPreview', async () => {
+    const Model = modelOf(kind) as typeof DetectorCalibrationVersion;
+    const row = await Model.findByPk(versionId);
+    if (!row) throw new AppError('not_found:calibration');
+    const campaign = await Campaign.findByPk(row.campaign_id);
+    if (!campaign) throw new AppError('not_found:campaign');
+    const afterCal = kind === 'calibration' ? row.id : campaign.current_calibration_id;
+    const afterSet = kind === 'settings' ? row.id : campaign.current_settings_id;
+    const [curCal, curSet, aCal, aSet] = await Promise.all([
+      campaign.current_calibration_id ? DetectorCalibrationVersion.findByPk(campaign.current_calibration_id) : null,
+      campaign.current_settings_id ? AnalysisSettingsVersion.findByPk(campaign.current_settings_id) : null,
+      afterCal ? DetectorCalibrationVersion.findByPk(afterCal) : null,
+      afterSet ? AnalysisSettingsVersion.findByPk(afterSet) : null,
+    ]);
+    const db = getDb();
+    const scans = await db.query<Record<string, unknown>>(
+      `SELECT s.id, s.title, dc.version AS cal_v, ast.version AS set_v,
+              EXISTS (SELECT 1 FROM scan_results x WHERE x.scan_id = s.id AND x.calibration_id = :afterCal
+                         AND x.settings_id = :afterSet) AS has_after
+         FROM scans s
+         LEFT JOIN scan_results r ON r.id = ${currentResultSql('s')}
+         LEFT JOIN detector_calibrations dc ON dc.id = r.calibration_id
+         LEFT JOIN analysis_settings ast ON ast.id = r.settings_id
+        WHERE s.campaign_id = :campaignId AND s.status <> 'quarantined' AND ${firstOfItsFile('s')}
+        ORDER BY s.id`,
+      {
+        replacements: { campaignId: campaign.id, afterCal: afterCal ?? 0, afterSet: afterSet ?? 0 },
+        type: QueryTypes.SELECT,
+      },
+    );
+    // A scan that already has a result with the new pair needs no re-reduction (that result becomes current).
+    const redo = scans.filter((s) => !Number(s.has_after));
+    const otherApproved = kind === 'calibration' ? aSet?.approved_at != null : aCal?.approved_at != null;
+    const trial =
+      afterCal && afterSet && otherApproved && row.approved_at == null
+        ? await ScanResult.count({ where: { calibration_id: afterCal, settings_id: afterSet } })
+        : 0;
+    return {
+      kind,
+      version: row.version,
+      before: { calibration: curCal?.version ?? null, settings: curSet?.version ?? null },
+      after: { calibration: aCal?.version ?? null, settings: aSet?.version ?? null },
+      scansToReduce: redo.slice(0, 50).map((s) => ({
+        scanId: Number(s.id),
+        title: (s.title as string | null) ?? null,
+        from:
+          s.cal_v == null ? null : { calibration: Number(s.cal_v), settings: s.set_v == null ? null : Number(s.set_v) },
+      })),
+      scansToReduceTotal: redo.length,
+      trialResultsBecomingCurrent: trial,
+    };
   });
 }

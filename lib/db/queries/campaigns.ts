@@ -1,13 +1,14 @@
 import 'server-only';
 // Campaigns and the opening of shifts (home page, /campaigns/new, /shifts/new). Plain DTOs out; no access checks
 // here: callers authorize with the teamId they get back (lib/policy.ts).
-import { col, fn, Op, UniqueConstraintError } from 'sequelize';
+import { col, fn, Op, QueryTypes, UniqueConstraintError } from 'sequelize';
 import { recordAudit } from '@/lib/audit';
 import { getDb } from '@/lib/db';
 import { AppError } from '@/lib/errors';
-import { Campaign, Scan, Shift, Team, User } from '@/models';
+import { Campaign, type Scan, Shift, Team, User } from '@/models';
 import type { ExperimentKind } from '@/reduction/formats';
 import { db } from './accounts';
+import { firstOfItsFile } from './scans';
 
 export interface CampaignSummaryDto {
   id: number;
@@ -49,6 +50,17 @@ async function countBy(model: typeof Shift | typeof Scan, campaignIds: number[],
   return new Map(rows.map((r) => [Number(r.campaign_id), Number(r.n)]));
 }
 
+/** Scans per campaign, a file sent twice counted once (see firstOfItsFile in scans.ts). */
+async function countScans(campaignIds: number[]) {
+  if (campaignIds.length === 0) return new Map<number, number>();
+  const rows = await getDb().query<{ campaign_id: number; n: number | string }>(
+    `SELECT s.campaign_id, COUNT(*) AS n FROM scans s WHERE s.campaign_id IN (:ids) AND ${firstOfItsFile('s')}
+      GROUP BY s.campaign_id`,
+    { replacements: { ids: campaignIds }, type: QueryTypes.SELECT },
+  );
+  return new Map(rows.map((r) => [Number(r.campaign_id), Number(r.n)]));
+}
+
 /** Campaigns of the given teams, newest first, with shift and scan counts. */
 export async function listCampaigns({ teamIds }: { teamIds: number[] }): Promise<CampaignSummaryDto[]> {
   if (teamIds.length === 0) return [];
@@ -65,7 +77,7 @@ export async function listCampaigns({ teamIds }: { teamIds: number[] }): Promise
     const [shifts, openShifts, scans] = await Promise.all([
       countBy(Shift, ids),
       countBy(Shift, ids, { status: 'open' }),
-      countBy(Scan, ids),
+      countScans(ids),
     ]);
     return campaigns.map((c) => {
       const team = (c as Campaign & { team?: Team }).team;

@@ -387,6 +387,24 @@ export async function findRawFileBySha256({ sha256 }: { sha256: string }): Promi
   });
 }
 
+/** The first scan of a raw file in a campaign (the one a linked duplicate is counted as), or null. */
+export async function firstScanOfFileInCampaign({
+  rawFileId,
+  campaignId,
+}: {
+  rawFileId: number;
+  campaignId: number;
+}): Promise<number | null> {
+  return db('firstScanOfFileInCampaign', async () => {
+    const s = await Scan.findOne({
+      where: { raw_file_id: rawFileId, campaign_id: campaignId },
+      order: [['id', 'ASC']],
+      attributes: ['id'],
+    });
+    return s?.id ?? null;
+  });
+}
+
 export async function getRawFileRecord({ rawFileId }: { rawFileId: number }): Promise<RawFileRecord | null> {
   return db('getRawFileRecord', async () => {
     const r = await RawFile.findByPk(rawFileId);

@@ -38,6 +38,28 @@ async function guard<T>(what: string, fn: () => Promise<T>): Promise<T> {
   }
 }
 
+/**
+ * SQL condition: the scan `alias` is the first scan of its raw file in its campaign. A file sent twice (a linked
+ * duplicate, lib/ingest/service.ts) keeps a scan row per upload so each shift shows what was sent, but the
+ * campaign counts, lists and trends it once.
+ */
+export function firstOfItsFile(alias: string): string {
+  return `NOT EXISTS (SELECT 1 FROM scans dup WHERE dup.campaign_id = ${alias}.campaign_id AND dup.raw_file_id = ${alias}.raw_file_id AND dup.id < ${alias}.id)`;
+}
+
+/**
+ * SQL scalar subquery: the id of the scan `alias`'s CURRENT result, the newest one computed with a calibration and
+ * settings pair that were both approved (approved_at set; a version retired later stays approved). Results of a
+ * draft version are trial results: listed apart on the scan page, never the scan's result nor in the trend.
+ */
+export function currentResultSql(alias: string): string {
+  return `(SELECT cr.id FROM scan_results cr
+      JOIN detector_calibrations cc ON cc.id = cr.calibration_id
+      JOIN analysis_settings cs ON cs.id = cr.settings_id
+     WHERE cr.scan_id = ${alias}.id AND cc.approved_at IS NOT NULL AND cs.approved_at IS NOT NULL
+     ORDER BY cr.id DESC LIMIT 1)`;
+}
+
 // CAMPAIGN //
 
 export interface CampaignDto {
@@ -84,7 +106,7 @@ export async function getCampaignOverview({ campaignId }: { campaignId: number }
       Team.findByPk(c.team_id, { attributes: ['slug', 'name'] }),
       Shift.findAll({ where: { campaign_id: campaignId }, order: [['opened_at', 'DESC']] }),
       db.query<{ status: ScanStatus; n: number }>(
-        'SELECT status, COUNT(*) AS n FROM scans WHERE campaign_id = ? GROUP BY status',
+        `SELECT s.status, COUNT(*) AS n FROM scans s WHERE s.campaign_id = ? AND ${firstOfItsFile('s')} GROUP BY s.status`,
         { replacements: [campaignId], type: QueryTypes.SELECT },
       ),
       db.query<{ shift_id: number; n: number }>(
@@ -193,7 +215,7 @@ function likeEscape(s: string): string {
 /** One page of a campaign's scans, sorted and filtered in MariaDB, with the total matching the filter. */
 export async function listCampaignScans(q: ScanListQuery): Promise<{ rows: ScanRowDto[]; total: number }> {
   return guard('listCampaignScans', async () => {
-    const where: string[] = ['s.campaign_id = :campaignId'];
+    const where: string[] = ['s.campaign_id = :campaignId', firstOfItsFile('s')];
     const repl: Record<string, unknown> = { campaignId: q.campaignId };
     if (q.status?.length) {
       where.push('s.status IN (:status)');
@@ -230,6 +252,8 @@ export async function listCampaignScans(q: ScanListQuery): Promise<{ rows: ScanR
     const order = `${col} IS NULL, ${col} ${dir}, s.id ${dir}`;
     repl.limit = q.pageSize;
     repl.offset = (q.page - 1) * q.pageSize;
+    // The worker's headline columns, unless the scan's latest result is a trial one: then the current result's.
+    const latestIsTrial = '(lr.id IS NOT NULL AND (lc.approved_at IS NULL OR ls.approved_at IS NULL))';
     const db = getDb();
     const [countRows, rows] = await Promise.all([
       db.query<{ n: number }>(
@@ -238,15 +262,21 @@ export async function listCampaignScans(q: ScanListQuery): Promise<{ rows: ScanR
       ),
       db.query<Record<string, unknown>>(
         `SELECT s.id, s.title, s.shift_id, s.target, s.wavelength_nm, s.experiment_kind, s.step_quantity, s.n_steps,
-                s.n_y, s.n_x, s.status, s.status_message, s.flagged, s.started_at, s.created_at, s.offset_deg,
-                s.offset_err_deg, s.latest_result_id, f.original_name, f.size_bytes, sh.title AS shift_title,
+                s.n_y, s.n_x, s.status, s.status_message, s.flagged, s.started_at, s.created_at,
+                CASE WHEN ${latestIsTrial} THEN r.offset_deg ELSE s.offset_deg END AS offset_deg,
+                CASE WHEN ${latestIsTrial} THEN r.offset_err_deg ELSE s.offset_err_deg END AS offset_err_deg,
+                CASE WHEN ${latestIsTrial} THEN r.id ELSE s.latest_result_id END AS latest_result_id,
+                f.original_name, f.size_bytes, sh.title AS shift_title,
                 dc.version AS cal_version, ast.version AS set_version
            FROM (SELECT s.id FROM scans s ${needsFile ? 'JOIN raw_files f ON f.id = s.raw_file_id' : ''}
                   WHERE ${whereSql} ORDER BY ${order} LIMIT :limit OFFSET :offset) page
            JOIN scans s ON s.id = page.id
            JOIN raw_files f ON f.id = s.raw_file_id
            JOIN shifts sh ON sh.id = s.shift_id
-           LEFT JOIN scan_results r ON r.id = s.latest_result_id
+           LEFT JOIN scan_results lr ON lr.id = s.latest_result_id
+           LEFT JOIN detector_calibrations lc ON lc.id = lr.calibration_id
+           LEFT JOIN analysis_settings ls ON ls.id = lr.settings_id
+           LEFT JOIN scan_results r ON r.id = CASE WHEN ${latestIsTrial} THEN ${currentResultSql('s')} ELSE s.latest_result_id END
            LEFT JOIN detector_calibrations dc ON dc.id = r.calibration_id
            LEFT JOIN analysis_settings ast ON ast.id = r.settings_id
           ORDER BY ${order}`,
@@ -308,7 +338,10 @@ export interface ResultSummaryDto {
   warningsCount: number;
   hasResultFile: boolean;
   createdAt: string | null;
+  /** The scan's current result: the newest one whose calibration and settings were both approved. */
   isLatest: boolean;
+  /** Computed with a calibration or settings version that was never approved (kept apart, not in the trend). */
+  trial: boolean;
 }
 
 export interface JobDto {
@@ -380,15 +413,28 @@ export async function getScanDetail({ scanId }: { scanId: number }): Promise<Sca
     const setIds = [...new Set(results.map((r) => r.settings_id))];
     const [cals, sets] = await Promise.all([
       calIds.length
-        ? DetectorCalibrationVersion.findAll({ where: { id: { [Op.in]: calIds } }, attributes: ['id', 'version'] })
+        ? DetectorCalibrationVersion.findAll({
+            where: { id: { [Op.in]: calIds } },
+            attributes: ['id', 'version', 'approved_at'],
+          })
         : [],
       setIds.length
-        ? AnalysisSettingsVersion.findAll({ where: { id: { [Op.in]: setIds } }, attributes: ['id', 'version'] })
+        ? AnalysisSettingsVersion.findAll({
+            where: { id: { [Op.in]: setIds } },
+            attributes: ['id', 'version', 'approved_at'],
+          })
         : [],
     ]);
     const calV = new Map(cals.map((c) => [c.id, c.version]));
     const setV = new Map(sets.map((c) => [c.id, c.version]));
-    const latest = results.find((r) => r.id === s.latest_result_id);
+    const approved = new Set([
+      ...cals.filter((c) => c.approved_at != null).map((c) => `c${c.id}`),
+      ...sets.filter((c) => c.approved_at != null).map((c) => `s${c.id}`),
+    ]);
+    const isTrial = (r: { calibration_id: number; settings_id: number }) =>
+      !approved.has(`c${r.calibration_id}`) || !approved.has(`s${r.settings_id}`);
+    // results are newest first: the current one is the newest with an approved pair
+    const latest = results.find((r) => !isTrial(r));
     return {
       scan: {
         id: s.id,
@@ -418,9 +464,9 @@ export async function getScanDetail({ scanId }: { scanId: number }): Promise<Sca
         helicity: s.helicity,
         startedAt: iso(s.started_at),
         uploadedAt: iso(s.created_at),
-        offsetDeg: s.offset_deg,
-        offsetErrDeg: s.offset_err_deg,
-        latestResultId: s.latest_result_id,
+        offsetDeg: latest?.offset_deg ?? null,
+        offsetErrDeg: latest?.offset_err_deg ?? null,
+        latestResultId: latest?.id ?? null,
         calibrationVersion: latest ? (calV.get(latest.calibration_id) ?? null) : null,
         settingsVersion: latest ? (setV.get(latest.settings_id) ?? null) : null,
         metadata: file?.metadata ?? null,
@@ -436,7 +482,8 @@ export async function getScanDetail({ scanId }: { scanId: number }): Promise<Sca
         warningsCount: r.warnings_count,
         hasResultFile: !!r.derived_key,
         createdAt: iso(r.created_at),
-        isLatest: r.id === s.latest_result_id,
+        isLatest: r.id === latest?.id,
+        trial: isTrial(r),
       })),
       jobs: jobs.map((j) => ({
         id: j.id,
@@ -468,13 +515,30 @@ export interface ResultDto {
   result: LobelineResult;
 }
 
-/** A result of a scan (the latest when `resultId` is not given); 404 when the scan has none or it is another scan's. */
+/** A result of a scan (the current, approved one when `resultId` is not given); 404 when none or another scan's. */
 export async function getScanResult({ scanId, resultId }: { scanId: number; resultId?: number }): Promise<ResultDto> {
   return guard('getScanResult', async () => {
-    const s = await Scan.findByPk(scanId, { attributes: ['id', 'latest_result_id'] });
+    const s = await Scan.findByPk(scanId, { attributes: ['id'] });
     if (!s) throw new AppError('not_found:scan');
-    const id = resultId ?? s.latest_result_id;
-    if (id == null) throw new AppError('not_found:reduction', { message: 'This scan has no result yet.' });
+    let id = resultId ?? null;
+    if (id == null) {
+      const rows = await getDb().query<{ id: number | null }>(
+        `SELECT ${currentResultSql('s')} AS id FROM scans s WHERE s.id = ?`,
+        {
+          replacements: [scanId],
+          type: QueryTypes.SELECT,
+        },
+      );
+      id = rows[0]?.id == null ? null : Number(rows[0].id);
+    }
+    if (id == null) {
+      const any = await ScanResult.count({ where: { scan_id: scanId } });
+      throw new AppError('not_found:reduction', {
+        message: any
+          ? 'This scan has only trial results (from a calibration or settings version not approved); choose one of them.'
+          : 'This scan has no result yet.',
+      });
+    }
     const r = await ScanResult.findByPk(id);
     if (!r || r.scan_id !== scanId)
       throw new AppError('not_found:reduction', { message: 'There is no such result of this scan.' });
@@ -517,7 +581,7 @@ export interface TrendPointDto {
   flagged: boolean;
 }
 
-/** Per-step headline numbers of the latest result of every scan of a campaign (flagged scans marked). */
+/** Per-step headline numbers of the current (approved) result of every scan of a campaign (flagged marked). */
 export async function getCampaignTrend({ campaignId }: { campaignId: number }): Promise<TrendPointDto[]> {
   return guard('getCampaignTrend', async () => {
     const rows = await getDb().query<Record<string, unknown>>(
@@ -525,8 +589,8 @@ export async function getCampaignTrend({ campaignId }: { campaignId: number }): 
               st.offset_deg, st.offset_err_deg, st.radius_au, st.radius_err_au, st.intensity_wcm2,
               st.intensity_err_wcm2, st.transverse_shift_au
          FROM scans s
-         JOIN scan_result_steps st ON st.result_id = s.latest_result_id
-        WHERE s.campaign_id = ? AND s.status = 'reduced'
+         JOIN scan_result_steps st ON st.result_id = ${currentResultSql('s')}
+        WHERE s.campaign_id = ? AND s.status = 'reduced' AND ${firstOfItsFile('s')}
         ORDER BY s.id, st.step_index
         LIMIT 20000`,
       { replacements: [campaignId], type: QueryTypes.SELECT },
@@ -621,12 +685,12 @@ export async function listBatches({
 /** Ids of a campaign's scans that can be reduced (not quarantined). */
 export async function listReducibleScanIds({ campaignId }: { campaignId: number }): Promise<number[]> {
   return guard('listReducibleScanIds', async () => {
-    const rows = await Scan.findAll({
-      where: { campaign_id: campaignId, status: { [Op.ne]: 'quarantined' } },
-      attributes: ['id'],
-      order: [['id', 'ASC']],
-    });
-    return rows.map((r) => r.id);
+    const rows = await getDb().query<{ id: number }>(
+      `SELECT s.id FROM scans s WHERE s.campaign_id = ? AND s.status <> 'quarantined' AND ${firstOfItsFile('s')}
+        ORDER BY s.id`,
+      { replacements: [campaignId], type: QueryTypes.SELECT },
+    );
+    return rows.map((r) => Number(r.id));
   });
 }
 

@@ -8,8 +8,17 @@ import { can } from '@/lib/policy';
 export const metadata = { title: 'Scan · Lobeline' };
 
 // The scan page: access is checked here on the server; the data come from the JSON API (TanStack Query).
-export default async function ScanPage({ params }: { params: Promise<{ scanId: string }> }) {
+export default async function ScanPage({
+  params,
+  searchParams,
+}: {
+  params: Promise<{ scanId: string }>;
+  searchParams: Promise<Record<string, string | string[] | undefined>>;
+}) {
   const { scanId } = await params;
+  const { download } = await searchParams;
+  // Set by the result-file download route when it could not hand out the file (see its route.ts).
+  const downloadProblem = download === 'missing' || download === 'unavailable' ? download : null;
   const id = Number(scanId);
   if (!Number.isInteger(id) || id <= 0) notFound();
   const actor = await getActor();
@@ -22,5 +31,5 @@ export default async function ScanPage({ params }: { params: Promise<{ scanId: s
     throw err;
   }
   if (!can(actor, 'scan.view', { teamId }) && !can(actor, 'scan.metadata', { teamId })) notFound();
-  return <ScanView scanId={id} />;
+  return <ScanView scanId={id} downloadProblem={downloadProblem} />;
 }

@@ -2,6 +2,7 @@
 import { z } from 'zod';
 import { apiRoute, idParam, jsonResponse } from '@/lib/api/route';
 import {
+  approvalPreview,
   approveVersion,
   createVersion,
   getVersion,
@@ -95,6 +96,15 @@ export function versionItemRoutes(kind: VersionKind) {
 }
 
 /** POST approve for one version (PI). */
+/** GET on the approve route: what the approval would change, for the PI's confirmation (PI only, like POST). */
+export function versionApprovePreviewRoute(kind: VersionKind) {
+  return apiRoute({ params: versionParams }, async ({ actor, params }) => {
+    const v = await versionInCampaign(kind, params.campaignId, params.versionId);
+    authorizeObject(actor, 'calibration.approve', { teamId: v.teamId, surface: kind });
+    return { preview: await approvalPreview({ kind, versionId: params.versionId }) };
+  });
+}
+
 export function versionApproveRoute(kind: VersionKind) {
   return apiRoute({ params: versionParams }, async ({ actor, params, ip }) => {
     const v = await versionInCampaign(kind, params.campaignId, params.versionId);

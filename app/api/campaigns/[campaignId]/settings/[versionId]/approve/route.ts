@@ -1,4 +1,6 @@
 // POST: the PI approves this settings version; it becomes the campaign's current one.
-import { versionApproveRoute } from '../../../access';
+// GET: what approving it would change (pair before → after, scans a re-reduction would redo), for the confirmation.
+import { versionApprovePreviewRoute, versionApproveRoute } from '../../../access';
 
+export const GET = versionApprovePreviewRoute('settings');
 export const POST = versionApproveRoute('settings');
