@@ -1,8 +1,9 @@
 'use client';
 // An SVG plot of one or more series (lines and/or points with vertical error bars) on linear axes, with tick
 // labels, axis titles and an optional legend. Lobeline's own design: framed plot area, ticks inside, no grid fill.
-import { type ReactNode, useId } from 'react';
+import { type ReactNode, useId, useRef } from 'react';
 import { extent, formatNumber, linearScale, niceTicks } from './scales';
+import { usePlotWidth } from './use-plot-width';
 
 export interface XYPoint {
   x: number;
@@ -39,7 +40,9 @@ export interface XYPlotProps {
   children?: ReactNode;
 }
 
-const W = 640;
+/** Widest drawing in CSS px (and SVG units); narrower containers get a narrower drawing with the same text size. */
+const W_MAX = 640;
+const W_MIN = 260;
 const M = { l: 64, r: 16, t: 14, b: 44 };
 
 export function XYPlot({
@@ -55,6 +58,8 @@ export function XYPlot({
   ...rest
 }: XYPlotProps) {
   const clip = useId().replace(/:/g, '');
+  const figureRef = useRef<HTMLElement>(null);
+  const W = usePlotWidth(figureRef, W_MIN, W_MAX);
   const all = series.flatMap((s) => s.points);
   const xd =
     xDomain ??
@@ -71,10 +76,10 @@ export function XYPlot({
     );
   const x = linearScale(xd, [M.l, W - M.r]);
   const y = linearScale(yd, [height - M.b, M.t]);
-  const xt = niceTicks(xd[0], xd[1], 6);
+  const xt = niceTicks(xd[0], xd[1], W < 420 ? 4 : 6);
   const yt = niceTicks(yd[0], yd[1], 5);
   return (
-    <figure className="w-full max-w-3xl" data-testid={rest['data-testid']}>
+    <figure ref={figureRef} className="w-full min-w-0 max-w-3xl" data-testid={rest['data-testid']}>
       <svg
         viewBox={`0 0 ${W} ${height}`}
         className="w-full select-none"

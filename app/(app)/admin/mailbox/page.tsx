@@ -1,7 +1,7 @@
 import type { Metadata } from 'next';
 import { notFound } from 'next/navigation';
 import { Mailbox } from '@/components/admin/mailbox';
-import { Forbidden } from '@/components/shell/forbidden';
+import { refusePage } from '@/components/shell/forbidden';
 import { PageHeader } from '@/components/ui/page-header';
 import { requireActor } from '@/lib/auth/actor';
 import { catcherDir } from '@/lib/mail/catcher-store';
@@ -14,7 +14,7 @@ export const dynamic = 'force-dynamic';
 export default async function MailboxPage() {
   if (!catcherDir()) notFound();
   const actor = await requireActor();
-  if (!can(actor, 'admin.mailbox')) return <Forbidden message="Only administrators read the development mailbox." />;
+  if (!can(actor, 'admin.mailbox')) refusePage('Only administrators read the development mailbox.');
   return (
     <>
       <PageHeader

@@ -1,6 +1,6 @@
 import type { Metadata } from 'next';
 import { CampaignForm } from '@/components/home/campaign-form';
-import { Forbidden } from '@/components/shell/forbidden';
+import { refusePage } from '@/components/shell/forbidden';
 import { PageHeader } from '@/components/ui/page-header';
 import { Panel } from '@/components/ui/panel';
 import { requireActor } from '@/lib/auth/actor';
@@ -14,10 +14,8 @@ export default async function NewCampaignPage() {
   const teamId = await getCurrentTeamId(actor);
   const team = actor.memberships.find((m) => m.teamId === teamId);
   if (!teamId || !team || !can(actor, 'campaign.create', { teamId })) {
-    return (
-      <Forbidden
-        message={`Creating a campaign is for analysts and PIs of a team${team ? `; your role in ${team.teamName} does not include ${describeAction('campaign.create')}` : ''}.`}
-      />
+    refusePage(
+      `Creating a campaign is for analysts and PIs of a team${team ? `; your role in ${team.teamName} does not include ${describeAction('campaign.create')}` : ''}.`,
     );
   }
   return (
