@@ -1,11 +1,17 @@
 // Checks of a calibration and settings version against the scan it is about to reduce, before any frame is read.
 // Each problem is a sentence a physicist reads without the code: which number, what it should be, what it is.
+
+import { formatNumber } from '@/lib/format';
 import type { AnalysisSettings, DetectorCalibration, ScanMetadata } from '@/reduction/formats';
 import { parseCalibration, parseSettings } from '@/reduction/formats';
 import { ReductionRefusedError } from './failure';
 
 const fmt = (v: number) =>
-  Math.abs(v) >= 1000 || Number.isInteger(v) ? String(Math.round(v * 100) / 100) : v.toPrecision(4);
+  Math.abs(v) >= 1e5
+    ? formatNumber(v, 4)
+    : Math.abs(v) >= 1000 || Number.isInteger(v)
+      ? String(Math.round(v * 100) / 100)
+      : v.toPrecision(4);
 
 /**
  * Parses both versions and checks them against the file's metadata.
