@@ -22,7 +22,7 @@ export function navItemsFor(actor: Actor, currentTeamId: number | null): NavItem
   if (can(actor, 'admin.users')) items.push({ href: '/admin/users', label: 'Users' });
   if (can(actor, 'admin.teams')) items.push({ href: '/admin/teams', label: 'Teams' });
   if (can(actor, 'admin.mailbox') && process.env.MAIL_CATCHER_DIR)
-    items.push({ href: '/admin/mailbox', label: 'Mailbox' });
+    items.push({ href: '/admin/mailbox', label: 'Sent notices' });
   return items;
 }
 

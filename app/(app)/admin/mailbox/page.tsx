@@ -7,7 +7,7 @@ import { requireActor } from '@/lib/auth/actor';
 import { catcherDir } from '@/lib/mail/catcher-store';
 import { can } from '@/lib/policy';
 
-export const metadata: Metadata = { title: 'Development mailbox' };
+export const metadata: Metadata = { title: 'Sent notices (development)' };
 export const dynamic = 'force-dynamic';
 
 // Only where the local SMTP catcher runs (MAIL_CATCHER_DIR set: development and tests).
@@ -19,8 +19,8 @@ export default async function MailboxPage() {
     <>
       <PageHeader
         eyebrow="Development"
-        title="Mailbox"
-        description="Messages Lobeline sent through the local mail catcher. Nothing here leaves this machine."
+        title="Sent notices"
+        description="Every e-mail Lobeline sent on this machine, by kind of notice. The local SMTP catcher keeps them; nothing leaves this machine."
       />
       <Mailbox />
     </>
