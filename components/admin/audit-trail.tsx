@@ -6,7 +6,7 @@ import { Badge } from '@/components/ui/badge';
 import { DataTable } from '@/components/ui/data-table';
 import { EmptyState } from '@/components/ui/empty-state';
 import { ErrorState } from '@/components/ui/error-state';
-import { inputClass } from '@/components/ui/input-class';
+import { compactInputClass } from '@/components/ui/input-class';
 import { Panel } from '@/components/ui/panel';
 import { apiFetch } from '@/lib/api/client';
 import type { AuditAction } from '@/lib/audit';
@@ -239,7 +239,7 @@ export function AuditTrail({ scopeNote }: { scopeNote: string }) {
               setAction(e.target.value);
               setPage(1);
             }}
-            className={`${inputClass()} h-8 py-0 text-small`}
+            className={compactInputClass()}
           >
             {ACTION_GROUPS.map((g) => (
               <option key={g.value} value={g.value}>
@@ -257,7 +257,7 @@ export function AuditTrail({ scopeNote }: { scopeNote: string }) {
               setOutcome(e.target.value);
               setPage(1);
             }}
-            className={`${inputClass()} h-8 py-0 text-small`}
+            className={compactInputClass()}
           >
             <option value="">Any outcome</option>
             <option value="ok">Done</option>
@@ -276,7 +276,7 @@ export function AuditTrail({ scopeNote }: { scopeNote: string }) {
               setFrom(e.target.value);
               setPage(1);
             }}
-            className={`${inputClass()} h-8 w-36 py-0 text-small`}
+            className={compactInputClass('w-36')}
           />
           <label htmlFor="audit-to" className="text-small text-ink-600">
             To (UTC day)
@@ -290,7 +290,7 @@ export function AuditTrail({ scopeNote }: { scopeNote: string }) {
               setTo(e.target.value);
               setPage(1);
             }}
-            className={`${inputClass()} h-8 w-36 py-0 text-small`}
+            className={compactInputClass('w-36')}
           />
           <span className="flex items-center gap-1 text-small text-ink-600" data-testid="audit-export">
             Export

@@ -7,7 +7,7 @@ import { Button } from '@/components/ui/button';
 import { ConfirmDialog } from '@/components/ui/confirm-dialog';
 import { ErrorState } from '@/components/ui/error-state';
 import { Field } from '@/components/ui/field';
-import { inputClass } from '@/components/ui/input-class';
+import { compactInputClass, inputClass } from '@/components/ui/input-class';
 import { LoadingBlock } from '@/components/ui/loading-block';
 import { Panel } from '@/components/ui/panel';
 import { ApiError, apiFetch, detailsByField } from '@/lib/api/client';
@@ -167,7 +167,7 @@ export function UsersAdmin({ selfId }: { selfId: number }) {
               value={filter}
               onChange={(e) => setFilter(e.target.value)}
               placeholder="Name, e-mail or team"
-              className={`${inputClass()} h-8 w-64 py-0 text-small`}
+              className={compactInputClass('w-64')}
             />
           </>
         }

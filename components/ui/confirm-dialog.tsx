@@ -54,7 +54,7 @@ export function ConfirmDialog({
         aria-modal="true"
         aria-labelledby={titleId}
         aria-describedby={bodyId}
-        className="relative w-full max-w-md rounded-panel bg-white p-5 shadow-lg ring-1 ring-ink-100"
+        className="relative w-full max-w-lg rounded-panel bg-white p-5 shadow-lg ring-1 ring-ink-100"
       >
         <h2 id={titleId} className="text-lead font-semibold text-ink-900">
           {title}

@@ -25,7 +25,7 @@ export function Panel({ title, description, actions, children, className, flush,
             {title ? <h2 className="text-lead font-semibold text-ink-900">{title}</h2> : null}
             {description ? <p className="mt-0.5 text-small text-ink-500">{description}</p> : null}
           </div>
-          {actions ? <div className="flex min-w-0 max-w-full flex-wrap items-center gap-2">{actions}</div> : null}
+          {actions ? <div className="flex min-w-0 flex-wrap items-center gap-2">{actions}</div> : null}
         </header>
       ) : null}
       <div className={flush ? '' : 'px-5 py-4'}>{children}</div>
