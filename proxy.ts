@@ -14,7 +14,12 @@ export async function proxy(request: NextRequest): Promise<NextResponse> {
   const { pathname, search } = request.nextUrl;
   if (isPublicPath(pathname)) return NextResponse.next();
   const token = await getToken({ req: request, secret: process.env.NEXTAUTH_SECRET }).catch(() => null);
-  if (token && typeof token.userId === 'number') return NextResponse.next();
+  if (token && typeof token.userId === 'number') {
+    // The address, for app/(app)/forbidden.tsx (a 403 boundary says why without the page's help).
+    const headers = new Headers(request.headers);
+    headers.set('x-lobeline-path', pathname);
+    return NextResponse.next({ request: { headers } });
+  }
   const url = request.nextUrl.clone();
   url.pathname = '/sign-in';
   url.search = '';

@@ -1,34 +1,13 @@
-import { forbidden } from 'next/navigation';
-import { cache } from 'react';
 import { LinkButton } from '@/components/ui/link-button';
 
-const DEFAULT_TITLE = 'You do not have access to this page';
-
-/** What the current request's refusal says; React's cache() gives one object per server request. */
-const refusalOfThisRequest = cache((): { message?: string; title?: string } => ({}));
-
-/**
- * Refuses the page with HTTP 403: the sentence is kept for app/(app)/forbidden.tsx, which renders it inside the
- * app's header and footer. Call it before anything streams (pages have no loading boundary above their checks).
- */
-export function refusePage(message: string, title?: string): never {
-  const r = refusalOfThisRequest();
-  r.message = message;
-  r.title = title;
-  forbidden();
-}
-
-/** The refusal recorded by refusePage in this request (app/(app)/forbidden.tsx). */
-export function currentRefusal(): { message: string; title: string } {
-  const r = refusalOfThisRequest();
-  return {
-    message: r.message ?? 'Your roles do not include this page.',
-    title: r.title ?? DEFAULT_TITLE,
-  };
-}
-
 /** The refusal text with a way back (the API refuses the same requests with 403). */
-export function Forbidden({ message, title = DEFAULT_TITLE }: { message: string; title?: string }) {
+export function Forbidden({
+  message,
+  title = 'You do not have access to this page',
+}: {
+  message: string;
+  title?: string;
+}) {
   return (
     <div
       className="mx-auto max-w-xl rounded-panel bg-white px-6 py-8 text-center shadow-panel ring-1 ring-ink-100"

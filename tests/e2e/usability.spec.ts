@@ -39,10 +39,16 @@ test.describe('status codes of missing and forbidden pages', () => {
 
   test('a page the role may not use answers 403 inside the app, with a way back', async ({ page }) => {
     await signIn(page, DEMO.operator);
-    for (const path of ['/admin/users', '/admin/teams', '/admin/audit', '/campaigns/new']) {
+    const why: Record<string, string> = {
+      '/admin/users': 'Only administrators manage users',
+      '/admin/teams': 'Only administrators create and manage teams',
+      '/admin/audit': 'The audit trail is open to PIs',
+      '/campaigns/new': 'Creating a campaign is for analysts and PIs',
+    };
+    for (const [path, sentence] of Object.entries(why)) {
       const res = await page.goto(path);
       expect(res?.status(), path).toBe(403);
-      await expect(page.getByTestId('forbidden')).toBeVisible();
+      await expect(page.getByTestId('forbidden')).toContainText(sentence); // the page's own reason
       await expect(page.getByTestId('user-menu')).toBeVisible();
       await expect(page.getByTestId('forbidden').getByRole('link', { name: /overview/i })).toBeVisible();
     }
@@ -239,4 +245,19 @@ test('the development mailbox groups mail by kind of notice, with the recipient 
   await card.getByRole('button', { name: /Read the full message/ }).click();
   await expect(card.getByTestId('mail-text')).toContainText('/reset-password/');
   await page.screenshot({ path: `${SHOTS}/admin-mailbox.png`, fullPage: true });
+});
+
+test('a form problem names the field as the form does and says what to enter', async ({ page }) => {
+  await signIn(page, DEMO.analyst);
+  const campaignHref = await firstCampaignHref(page);
+  await page.goto(`${campaignHref}/calibration`);
+  await page.getByRole('button', { name: 'New version' }).first().click();
+  const editor = page.getByTestId('calibration-editor');
+  await editor.getByLabel('Detector ellipticity ratio').fill('');
+  await editor.getByRole('button', { name: 'Save as new version' }).click();
+  const problems = editor.getByTestId('version-problems');
+  await expect(problems).toContainText('Detector ellipticity ratio: enter a number');
+  await expect(problems).not.toContainText('detector_ellipticity');
+  await expect(problems).not.toContainText('NaN');
+  await page.screenshot({ path: `${SHOTS}/analyst-calibration-problem.png`, fullPage: true });
 });

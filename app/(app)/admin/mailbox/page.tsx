@@ -1,7 +1,6 @@
 import type { Metadata } from 'next';
-import { notFound } from 'next/navigation';
+import { forbidden, notFound } from 'next/navigation';
 import { Mailbox } from '@/components/admin/mailbox';
-import { refusePage } from '@/components/shell/forbidden';
 import { PageHeader } from '@/components/ui/page-header';
 import { requireActor } from '@/lib/auth/actor';
 import { catcherDir } from '@/lib/mail/catcher-store';
@@ -14,7 +13,7 @@ export const dynamic = 'force-dynamic';
 export default async function MailboxPage() {
   if (!catcherDir()) notFound();
   const actor = await requireActor();
-  if (!can(actor, 'admin.mailbox')) refusePage('Only administrators read the development mailbox.');
+  if (!can(actor, 'admin.mailbox')) forbidden(); // the sentence: REFUSALS in components/shell/forbidden.tsx
   return (
     <>
       <PageHeader
