@@ -1,5 +1,6 @@
 import type { Metadata, Viewport } from 'next';
 import localFont from 'next/font/local';
+import { headers } from 'next/headers';
 import type { ReactNode } from 'react';
 import { Providers } from '@/components/providers';
 import './globals.css';
@@ -19,7 +20,9 @@ export const metadata: Metadata = {
 
 export const viewport: Viewport = { themeColor: '#172031' };
 
-export default function RootLayout({ children }: { children: ReactNode }) {
+export default async function RootLayout({ children }: { children: ReactNode }) {
+  // Reading the request makes every page render per request, which the nonce of proxy.ts's CSP needs.
+  await headers();
   return (
     <html lang="en" className={inter.variable}>
       <body className="min-h-screen">

@@ -11,6 +11,7 @@ export const AUDIT_ACTIONS = [
   'auth.sign_out',
   'auth.password_reset_requested',
   'auth.password_reset',
+  'auth.password_changed',
   'auth.access_refused',
   'auth.session_rejected',
   'invitation.created',

@@ -40,6 +40,8 @@ export const ENV_HELP = {
   S3_BUCKET_DERIVED: 'bucket for derived arrays (calibrated images, maps), e.g. lobeline-derived',
   S3_BUCKET_ARCHIVE: 'bucket for archived raw files, e.g. lobeline-archive',
   LOG_LEVEL: 'optional: debug, info, warn or error (default info)',
+  TRUSTED_PROXY_HOPS:
+    'optional: how many reverse proxies in front of Lobeline append to x-forwarded-for (default 0: the client address is the socket address)',
 } as const;
 
 export const envSchema = z.object({
@@ -68,6 +70,7 @@ export const envSchema = z.object({
     (v) => (typeof v === 'string' ? blank(v.toLowerCase()) : v),
     z.enum(['debug', 'info', 'warn', 'error']).default('info'),
   ),
+  TRUSTED_PROXY_HOPS: z.preprocess(blank, z.coerce.number().int().min(0).max(10).default(0)),
 });
 
 export type Env = z.infer<typeof envSchema>;

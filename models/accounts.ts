@@ -21,6 +21,8 @@ export class User extends Model<InferAttributes<User>, InferCreationAttributes<U
   declare is_active: CreationOptional<boolean>;
   declare notification_prefs: Record<string, boolean> | null;
   declare last_sign_in_at: Date | null;
+  /** Raised by sign-out and password changes; a session token with another version is refused. */
+  declare session_version: CreationOptional<number>;
   declare created_at: CreationOptional<Date>;
   declare updated_at: CreationOptional<Date>;
 }
@@ -103,6 +105,7 @@ export function initAccountModels(sequelize: Sequelize): void {
       is_active: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: true },
       notification_prefs: { type: DataTypes.JSON, allowNull: true },
       last_sign_in_at: { type: DataTypes.DATE(3), allowNull: true },
+      session_version: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, defaultValue: 0 },
       created_at: DataTypes.DATE(3),
       updated_at: DataTypes.DATE(3),
     },

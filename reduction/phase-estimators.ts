@@ -193,6 +193,93 @@ export function leastSquaresPhaseFit(y: ArrayLike<number>, phases: ArrayLike<num
 }
 
 /**
+ * Poisson-weighted linear least squares for arbitrary phases (SCIENCE.md §6.2 (b)), for low-count series where
+ * equal weights waste information: Y = a + Σ_k (b_k cos kφ + c_k sin kφ) with weights w_j = 1/σ_j², first
+ * σ_j² = max(Y_j, 1) (the data), then σ_j² = max(μ_j, ε) with μ_j the model value of the previous pass
+ * (iteratively reweighted). Each model-weighted pass moves toward the fixed point Σ_j (Y_j/μ_j − 1) x_j = 0, which is
+ * the score equation of the Poisson likelihood, so with enough passes the fit is the Poisson maximum-likelihood fit.
+ *
+ * @param y - counts (≥ 0; negative values from a background subtraction are allowed and weighted as 1 count)
+ * @param phases - phases, rad
+ * @param harmonics - H ≥ 1
+ * @param modelPasses - model-weighted passes after the data-weighted one (default 4; SCIENCE.md asks for ≥ 1)
+ * @returns the fit and the parameter covariance (XᵀWX)⁻¹ of the last pass, row-major (2H+1)²
+ * @throws {RangeError} when the design is singular (fewer than 2H + 1 distinct phases)
+ */
+export function poissonWeightedPhaseFit(
+  y: ArrayLike<number>,
+  phases: ArrayLike<number>,
+  harmonics: number,
+  modelPasses = 4,
+): HarmonicFit & { covariance: Float64Array } {
+  const N = y.length;
+  if (phases.length !== N) throw new RangeError(`phases must have ${N} elements, got ${phases.length}`);
+  if (!(Number.isInteger(harmonics) && harmonics >= 1)) throw new RangeError(`harmonics must be ≥ 1, got ${harmonics}`);
+  if (!(Number.isInteger(modelPasses) && modelPasses >= 0)) {
+    throw new RangeError(`modelPasses must be an integer ≥ 0, got ${modelPasses}`);
+  }
+  const K = 1 + 2 * harmonics;
+  const distinct: number[] = [];
+  for (let j = 0; j < N; j++) {
+    const w = wrapRad(phases[j]!);
+    if (!distinct.some((d) => Math.abs(wrapRad(d - w)) < 1e-9)) distinct.push(w);
+  }
+  if (distinct.length < K) {
+    throw new RangeError(
+      `least squares with ${harmonics} harmonic(s) needs ≥ ${K} distinct phases, got ${distinct.length}`,
+    );
+  }
+  const x = new Float64Array(K);
+  const g = new Float64Array(K * K);
+  const b = new Float64Array(K);
+  const t = new Float64Array(K);
+  let inv: Float64Array | null = null;
+  for (let pass = 0; pass <= modelPasses; pass++) {
+    g.fill(0);
+    b.fill(0);
+    for (let j = 0; j < N; j++) {
+      designRow(phases[j]!, harmonics, x);
+      let variance: number;
+      if (pass === 0) variance = Math.max(y[j]!, 1);
+      else {
+        let mu = 0;
+        for (let p = 0; p < K; p++) mu += x[p]! * t[p]!;
+        // a model that dips to or below zero keeps a floor of a tenth of a count (no infinite weights)
+        variance = Math.max(mu, 0.1);
+      }
+      const w = 1 / variance;
+      for (let p = 0; p < K; p++) {
+        b[p] = b[p]! + w * x[p]! * y[j]!;
+        for (let q = 0; q < K; q++) g[p * K + q] = g[p * K + q]! + w * x[p]! * x[q]!;
+      }
+    }
+    inv = invertSmall(K, g);
+    if (!inv) {
+      throw new RangeError(`least squares with ${harmonics} harmonic(s) needs ≥ ${2 * harmonics + 1} distinct phases`);
+    }
+    for (let p = 0; p < K; p++) {
+      let s = 0;
+      for (let q = 0; q < K; q++) s += inv[p * K + q]! * b[q]!;
+      t[p] = s;
+    }
+  }
+  const amplitude: number[] = [];
+  const phase: number[] = [];
+  for (let k = 1; k <= harmonics; k++) {
+    amplitude.push(Math.hypot(t[2 * k - 1]!, t[2 * k]!));
+    phase.push(Math.atan2(t[2 * k]!, t[2 * k - 1]!));
+  }
+  const a0 = t[0]!;
+  return {
+    a0,
+    amplitude,
+    phase,
+    contrast: a0 !== 0 ? amplitude[0]! / a0 : Number.NaN,
+    covariance: inv as Float64Array,
+  };
+}
+
+/**
  * FFT form (SCIENCE.md §6.2 (a), C11): samples at φ_j = φ_s + 2πj/N; F_k = Σ Y_j e^{−2πijk/N};
  * A₀ = F₀/N, A_k = 2|F_k|/N, ψ_k = wrap(kφ_s − arg F_k) (k = 1: φ₀ = φ_s − arg F₁). fft.js for power-of-two N,
  * a direct DFT otherwise.

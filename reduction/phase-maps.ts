@@ -9,7 +9,21 @@
  * harmonic_2_amplitude A₂ and harmonic_2_phase ψ₂ (Y ⊃ A₂ cos(2φ − ψ₂)).
  * NaN policy: pixels whose mean A₀ is below `minCounts` get NaN in every map except `mean` (kept so the mask can be
  * seen); a NaN input value makes that pixel's sums NaN.
+ *
+ * Poisson weights for low-count pixels (SCIENCE.md §6.2 (b)), still from the streamed sums only: when the accumulator
+ * is created with `poissonHarmonics` = M, it also keeps the harmonics up to M + 1, and `least_squares` pixels whose
+ * mean is at most `POISSON_WEIGHTED_BELOW_COUNTS` get the fit of Y ≈ a + b cos φ + c sin φ with weights 1/μ(φ_j),
+ * μ the model of the previous pass (iteratively reweighted, whose fixed point is the Poisson maximum likelihood).
+ * The weights never need the frames: with μ = a(1 + κ cos(φ − φ₀)),
+ *   1/μ(φ) = [1 + 2 Σ_{m≥1} (−ρ)^m cos m(φ − φ₀)] / (a√(1 − κ²)),  ρ = (1 − √(1 − κ²))/κ
+ * (the generating function of the Chebyshev series of 1/(1 + κ cos ψ), a handbook series), so every weighted sum
+ * Σ_j Y_j w(φ_j) e^{ikφ_j} is Σ_m ω_m Y_{m+k} over the streamed Y_n = Σ_j Y_j e^{inφ_j}, and the weighted normal
+ * matrix comes the same way from the phase sums P_n = Σ_j e^{inφ_j}. The series is cut at |m| ≤ M (relative error
+ * ≈ ρ^{M+1}); pixels whose model contrast κ reaches `POISSON_MAX_CONTRAST` (the model nearly touches zero) keep the
+ * unweighted fit.
  */
+
+import { solveSmall } from './lm';
 import {
   type HarmonicFit,
   leastSquaresNormalInverse,
@@ -36,7 +50,18 @@ export interface PhaseMapResult {
   harmonicsUsed: number;
   maps: PhaseMaps;
   masked: number;
+  /** Pixels whose A₀, A₁, φ₀ come from the Poisson-weighted fit (0 unless `poissonHarmonics` was set). */
+  poissonWeighted: number;
 }
+
+/** Mean counts per phase at or below which a least-squares pixel gets Poisson weights. */
+export const POISSON_WEIGHTED_BELOW_COUNTS = 100;
+
+/** Model contrast from which the weight series is not used (ρ^{M+1} would converge too slowly). */
+export const POISSON_MAX_CONTRAST = 0.95;
+
+/** Reweighting passes of the Poisson-weighted fit. */
+const POISSON_PASSES = 6;
 
 export interface PhaseAccumulator {
   readonly nPixels: number;
@@ -233,9 +258,17 @@ const BLOCK = 4;
  * for (const [frame, phi] of frames) acc.addFrame(frame, phi);
  * const { maps } = acc.finish({ minCounts: 10 });
  */
-export function createPhaseAccumulator(nPixels: number, harmonics: number): PhaseAccumulator {
+export function createPhaseAccumulator(
+  nPixels: number,
+  harmonics: number,
+  options: { poissonHarmonics?: number } = {},
+): PhaseAccumulator {
   requireInteger('nPixels', nPixels, 1, 2 ** 31);
-  const H = requireInteger('harmonics', harmonics, 1, 8);
+  const Hmaps = requireInteger('harmonics', harmonics, 1, 8);
+  const M =
+    options.poissonHarmonics === undefined ? 0 : requireInteger('poissonHarmonics', options.poissonHarmonics, 1, 30);
+  // the sums hold the harmonics of the maps, and up to M + 1 for the Poisson weights
+  const H = Math.max(Hmaps, M > 0 ? M + 1 : 0);
   const K = 1 + 2 * H;
   const acc = new Float64Array(nPixels * K);
   const phases: number[] = [];
@@ -267,7 +300,7 @@ export function createPhaseAccumulator(nPixels: number, harmonics: number): Phas
   };
   return {
     nPixels,
-    harmonics: H,
+    harmonics: Hmaps,
     phases,
     addFrame(frame, phaseRad) {
       requireLength('frame', frame, nPixels);
@@ -299,7 +332,7 @@ export function createPhaseAccumulator(nPixels: number, harmonics: number): Phas
     },
     finish({ minCounts, method }) {
       flush();
-      return finishPhaseSums(acc, nPixels, H, phases, minCounts, method);
+      return finishPhaseSums(acc, nPixels, H, phases, minCounts, method, Hmaps, M);
     },
   };
 }
@@ -313,6 +346,8 @@ export function createPhaseAccumulator(nPixels: number, harmonics: number): Phas
  * @param phases - phases of the frames, rad
  * @param minCounts - mask threshold on the mean
  * @param forced - force a method
+ * @param mapHarmonics - harmonics of the maps (default H)
+ * @param poissonTerms - M of the Poisson weight series (0: no weights; needs H ≥ M + 1)
  * @returns maps and bookkeeping
  * @throws {RangeError} with fewer than three distinct phases
  */
@@ -323,11 +358,18 @@ export function finishPhaseSums(
   phases: readonly number[],
   minCounts: number,
   forced?: 'fourier' | 'least_squares',
+  mapHarmonics: number = H,
+  poissonTerms = 0,
 ): PhaseMapResult {
   const N = phases.length;
   const sampling = wholePeriodSampling(phases);
   const method = forced ?? (sampling.equal ? 'fourier' : 'least_squares');
-  const Hu = Math.min(H, resolvableHarmonics(phases, H));
+  if (poissonTerms > 0 && H < poissonTerms + 1) {
+    throw new RangeError(
+      `Poisson weights with ${poissonTerms} terms need ${poissonTerms + 1} summed harmonics, got ${H}`,
+    );
+  }
+  const Hu = Math.min(mapHarmonics, resolvableHarmonics(phases, mapHarmonics));
   if (Hu < 1) throw new RangeError(`phase analysis needs ≥ 3 distinct phases, got ${N} frame(s)`);
   const K = 1 + 2 * H;
   const Ku = 1 + 2 * Hu;
@@ -410,12 +452,155 @@ export function finishPhaseSums(
       }
     }
   }
+  let poissonWeighted = 0;
+  if (method === 'least_squares' && poissonTerms > 0) {
+    const w = new PoissonWeights(phases, poissonTerms);
+    const fit = new Float64Array(3);
+    for (let i = 0, o = 0; i < nPixels; i++, o += K) {
+      const a0 = mean[i]!;
+      if (!(a0 >= minCounts) || !(a0 > 0) || a0 > POISSON_WEIGHTED_BELOW_COUNTS) continue;
+      const a1 = amplitude[i]!;
+      const p0 = phaseOfMax[i]!;
+      if (!w.fit(acc, o, a0, a1 * Math.cos(p0), a1 * Math.sin(p0), fit)) continue;
+      const b1 = Math.hypot(fit[1]!, fit[2]!);
+      mean[i] = fit[0]!;
+      amplitude[i] = b1;
+      phaseOfMax[i] = Math.atan2(fit[2]!, fit[1]!);
+      contrast[i] = b1 / fit[0]!;
+      poissonWeighted++;
+    }
+  }
   const maps: PhaseMaps = { mean, amplitude, phase_of_max: phaseOfMax, contrast };
   if (h2a && h2p) {
     maps.harmonic_2_amplitude = h2a;
     maps.harmonic_2_phase = h2p;
   }
-  return { method, nPhases: N, periods: sampling.periods, harmonicsUsed: Hu, maps, masked };
+  return { method, nPhases: N, periods: sampling.periods, harmonicsUsed: Hu, maps, masked, poissonWeighted };
+}
+
+/**
+ * Poisson-weighted fit of a + b cos φ + c sin φ from a pixel's streamed harmonic sums (see the module comment).
+ * Holds the phase sums P_n = Σ_j e^{inφ_j}, n = 0 … M + 2, shared by every pixel; allocates nothing per pixel.
+ */
+class PoissonWeights {
+  private readonly pRe: Float64Array;
+  private readonly pIm: Float64Array;
+  private readonly wRe: Float64Array;
+  private readonly wIm: Float64Array;
+  private readonly g = new Float64Array(9);
+  private readonly inv = new Float64Array(9);
+  private readonly r = new Float64Array(3);
+  private readonly t = new Float64Array(2);
+
+  constructor(
+    phases: readonly number[],
+    private readonly M: number,
+  ) {
+    this.pRe = new Float64Array(M + 3);
+    this.pIm = new Float64Array(M + 3);
+    for (const phi of phases) {
+      for (let n = 0; n <= M + 2; n++) {
+        this.pRe[n] = this.pRe[n]! + Math.cos(n * phi);
+        this.pIm[n] = this.pIm[n]! + Math.sin(n * phi);
+      }
+    }
+    this.wRe = new Float64Array(2 * M + 1);
+    this.wIm = new Float64Array(2 * M + 1);
+  }
+
+  /**
+   * Σ_{m=−M}^{M} ω_m Z_{m+k} for Z = the pixel's sums (acc[o + 2n − 1] = Re Z_n, acc[o + 2n] = Im Z_n, Z₀ = acc[o],
+   * Z_{−n} = conj Z_n) or, with `acc` null, the phase sums P. Returns the real part into out[0], imaginary into out[1].
+   */
+  private sum(acc: Float64Array | null, o: number, k: number, out: Float64Array): void {
+    const M = this.M;
+    let re = 0;
+    let im = 0;
+    for (let m = -M; m <= M; m++) {
+      const n = m + k;
+      const an = Math.abs(n);
+      let zr: number;
+      let zi: number;
+      if (acc === null) {
+        zr = this.pRe[an]!;
+        zi = this.pIm[an]!;
+      } else if (an === 0) {
+        zr = acc[o]!;
+        zi = 0;
+      } else {
+        zr = acc[o + 2 * an - 1]!;
+        zi = acc[o + 2 * an]!;
+      }
+      if (n < 0) zi = -zi;
+      const wr = this.wRe[m + M]!;
+      const wi = this.wIm[m + M]!;
+      re += wr * zr - wi * zi;
+      im += wr * zi + wi * zr;
+    }
+    out[0] = re;
+    out[1] = im;
+  }
+
+  /**
+   * Iteratively reweighted fit from the unweighted start (a, b, c).
+   *
+   * @returns false when the model contrast is too high or the system is singular (the start is then kept)
+   */
+  fit(acc: Float64Array, o: number, a: number, b: number, c: number, out: Float64Array): boolean {
+    const M = this.M;
+    const t = this.t;
+    let ta = a;
+    let tb = b;
+    let tc = c;
+    for (let pass = 0; pass < POISSON_PASSES; pass++) {
+      const kappa = Math.hypot(tb, tc) / ta;
+      if (!(ta > 0) || !(kappa < POISSON_MAX_CONTRAST)) return false;
+      // ω_m = ω₀ (−ρ)^|m| e^{−imφ₀} (m > 0), ω_{−m} = conj ω_m, ω₀ = 1/(a√(1 − κ²))
+      const root = Math.sqrt(1 - kappa * kappa);
+      const rho = kappa > 0 ? (1 - root) / kappa : 0;
+      const phi0 = Math.atan2(tc, tb);
+      const w0 = 1 / (ta * root);
+      this.wRe[M] = w0;
+      this.wIm[M] = 0;
+      let mag = w0;
+      for (let m = 1; m <= M; m++) {
+        mag *= -rho;
+        const cr = mag * Math.cos(m * phi0);
+        const ci = -mag * Math.sin(m * phi0);
+        this.wRe[M + m] = cr;
+        this.wIm[M + m] = ci;
+        this.wRe[M - m] = cr;
+        this.wIm[M - m] = -ci;
+      }
+      // weighted normal matrix from the phase sums, right-hand side from the pixel's sums
+      this.sum(null, 0, 0, t);
+      const g00 = t[0]!;
+      this.sum(null, 0, 1, t);
+      const g0c = t[0]!;
+      const g0s = t[1]!;
+      this.sum(null, 0, 2, t);
+      const g = this.g;
+      g[0] = g00;
+      g[1] = g[3] = g0c;
+      g[2] = g[6] = g0s;
+      g[4] = (g00 + t[0]!) / 2;
+      g[8] = (g00 - t[0]!) / 2;
+      g[5] = g[7] = t[1]! / 2;
+      this.sum(acc, o, 0, t);
+      this.r[0] = t[0]!;
+      this.sum(acc, o, 1, t);
+      this.r[1] = t[0]!;
+      this.r[2] = t[1]!;
+      this.inv.set(g);
+      if (!solveSmall(3, this.inv, this.r)) return false;
+      [ta, tb, tc] = [this.r[0]!, this.r[1]!, this.r[2]!];
+    }
+    if (!(ta > 0) || !(Math.hypot(tb, tc) / ta < 1)) return false;
+    out[0] = ta;
+    out[1] = tb;
+    out[2] = tc;
+    return true;
+  }
 }
 
 /** Row p of the inverse normal matrix (Ku × Ku, row-major) times the sums acc[o … o + Ku − 1]. */

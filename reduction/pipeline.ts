@@ -14,6 +14,7 @@
 import { wrapDeg } from './angles';
 import { type BootstrapStats, runPolarBootstrap } from './bootstrap-run';
 import { backgroundScale, buildInverseGain, buildPixelMask, calibrationMatrix } from './calibration';
+import { calibrationConsistencyWarnings } from './consistency';
 import { intensityFromRadiusWcm2, offsetSense, simpleManDirectionsDeg } from './fields';
 import {
   type AnalysisSettings,
@@ -32,10 +33,11 @@ import {
 } from './formats';
 import { cartesianGrid, polarGrid } from './grids';
 import { lobeCount } from './lobes';
-import { delayToPhaseRad, fourierProjection, leastSquaresPhaseFit, wholePeriodSampling } from './phase-estimators';
+import { delayToPhaseRad, fourierProjection, poissonWeightedPhaseFit, wholePeriodSampling } from './phase-estimators';
 import { createPhaseAccumulator, type PhaseAccumulator, type PhaseMaps } from './phase-maps';
 import { DEFAULT_PHASE_REGIONS, regionCells, sumCells } from './regions';
 import { applyPixelBinMapKernel, buildPixelBinMaps } from './resample';
+import { saturationWarning } from './saturation';
 import { analysePolarHistogram, type ChainConfig, type ChainResult, ChainWorkspace } from './step-analysis';
 import { requireInteger } from './validate';
 import { WarningCollector } from './warnings';
@@ -192,7 +194,7 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
     subsamples: options.subsamples,
   });
   const pixelAu = Math.sqrt(Math.abs(calMap.a[0]! * calMap.a[3]! - calMap.a[1]! * calMap.a[2]!));
-  if (pixelAu > polar.dpAu) {
+  if (pixelAu > polar.dpAu && kind !== 'two_color_phase') {
     warnings.global(
       `Detector pixels (${pixelAu.toPrecision(3)} a.u.) are larger than the radial bins (${polar.dpAu.toPrecision(3)} a.u.): neighbouring bins share pixels, so the bootstrap errors come out conservative.`,
     );
@@ -209,6 +211,8 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
   const ws = new ChainWorkspace(chainCfg);
   const wsBoot = new ChainWorkspace(chainCfg);
   const needsHelicity = kind === 'angular_streaking' || kind === 'bicircular';
+  /** Two-colour phase scans have no lobes: no lobe fit, simple-man direction, lobe warnings or bootstrap. */
+  const lobesApply = kind !== 'two_color_phase';
   if (needsHelicity && meta.helicity === null) {
     warnings.global('The file gives no helicity, so offset angles are not signed and are left empty.');
   }
@@ -238,7 +242,10 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
     } else if (nStep < 3) {
       warnings.global(`The phase analysis needs at least 3 phases, got ${nStep}; no phase analysis was done.`);
     } else {
-      phaseAcc = createPhaseAccumulator(cart.n * cart.n, settings.phase.harmonics);
+      // unequal or partial phase steps: the least-squares maps get Poisson weights in low-count cells (§6.2 (b))
+      const stepPhases = Array.from({ length: nStep }, (_, i) => stepPhaseRad(meta, i));
+      const poisson = wholePeriodSampling(stepPhases).equal ? {} : { poissonHarmonics: 8 };
+      phaseAcc = createPhaseAccumulator(cart.n * cart.n, settings.phase.harmonics, poisson);
       regionCellLists = regions.map((r) => regionCells(r, cart));
       regionYields = regions.map(() => new Float64Array(nStep).fill(Number.NaN));
       regionCellLists.forEach((cells, k) => {
@@ -303,6 +310,8 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
       corrected[p] = v;
       total += v;
     }
+    const saturated = saturationWarning(counts, meta.countsDtype, mask);
+    if (saturated !== null) warnings.add(saturated, index);
     if (negatives > 0)
       warnings.add(`Some raw pixel counts are negative (${negatives} pixels); they were kept as they are.`, index);
     hPolar.fill(0);
@@ -319,14 +328,15 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
     const polarBins = hPolar.subarray(0, maps.polar.nBins);
     const { expected, sense } = expectedFor(index);
     const seeds = expected.length === nLobes ? expected : null;
-    const chain = analysePolarHistogram(polarBins, chainCfg, seeds, ws);
+    const chainAll = analysePolarHistogram(polarBins, chainCfg, seeds, ws);
+    const chain: ChainResult = lobesApply ? chainAll : { ...chainAll, lobes: [] }; // fills angular and dN/dp only
     const angular = Float64Array.from(ws.angular);
     const radial = Float64Array.from(ws.dNdp);
 
     // bootstrap
     const B = settings.bootstrap.resamples;
     let boot: BootstrapStats | null = null;
-    if (chain.ok && B > 0) {
+    if (lobesApply && chain.ok && B > 0) {
       const repSeeds = seeds ?? chain.lobes.map((l) => l.angleDeg);
       boot = runPolarBootstrap(polarBins, chainCfg, repSeeds, chain, wsBoot, B, settings.bootstrap.seed, index);
       if (boot.failed / B > 0.1) {
@@ -337,16 +347,25 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
       }
     }
     const step = assembleStep(index, total, chain, expected, sense, boot);
+    const consistency = {
+      kind,
+      lobes: step.lobes,
+      radiusErrAu: step.radius_err_au,
+      angular,
+      momentumPerPixelAu: pixelAu,
+    };
+    for (const w of calibrationConsistencyWarnings({ ...consistency, thetaDeg: polar.thetaCentresDeg }))
+      warnings.add(nStep === 1 ? w.detailed : w.sentence, index);
 
     // warnings of this step
-    if (!chain.ok) warnings.add(`No lobe could be found: ${chain.reason}.`, index);
-    if (chain.ok && chain.countsInWindow < LOW_COUNTS_PER_LOBE * nLobes) {
+    if (lobesApply && !chain.ok) warnings.add(`No lobe could be found: ${chain.reason}.`, index);
+    if (lobesApply && chain.ok && chain.countsInWindow < LOW_COUNTS_PER_LOBE * nLobes) {
       warnings.add(
         `Low counts: fewer than ${LOW_COUNTS_PER_LOBE * nLobes} counts in the radial window, so the lobe angles are poorly determined.`,
         index,
       );
     }
-    if (chain.ok && settings.radial_window_au === 'auto' && !chain.windowResolved) {
+    if (lobesApply && chain.ok && settings.radial_window_au === 'auto' && !chain.windowResolved) {
       warnings.add(
         'The automatic radial window did not reach half the peak of dN/dp on both sides; it stops at the grid edge.',
         index,
@@ -515,7 +534,8 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
           const phases = indices.map((i) => phaseOfStep[i]!);
           const regionResults: PhaseRegionResult[] = regions.map((reg, k) => {
             const y = indices.map((i) => regionYields[k]![i]!);
-            const fit = r.method === 'fourier' ? fourierProjection(y, phases, 1) : leastSquaresPhaseFit(y, phases, 1);
+            const fit =
+              r.method === 'fourier' ? fourierProjection(y, phases, 1) : poissonWeightedPhaseFit(y, phases, 1);
             return {
               name: reg.name,
               phase_rad: phases,

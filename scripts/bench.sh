@@ -5,12 +5,21 @@
 set -euo pipefail
 cd "$(dirname "$0")/.."
 
+# Without the app's .env (and no environment of its own) the sections that use the services cannot run: say what
+# to do in one sentence instead of every section listing every missing variable.
+if [ ! -f .env ] && [ -z "${DB_HOST:-}" ] && [ "${LOBELINE_INSTANCE:-}" != "test" ]; then
+  echo "npm run bench needs the app's .env: run \`npm start\` once first (it writes .env and starts the local services), then run \`npm run bench\` again."
+  exit 1
+fi
+
 SECTIONS=(
   "N1|npx tsx scripts/bench/n1-phase.ts"
   "N2|npx tsx scripts/bench/n2-angular.ts"
   "N3|npx tsx scripts/bench/n3-sha256.ts"
   "N4|npx tsx scripts/bench/n4-multipart.ts"
   "N5|npx tsx scripts/bench/n5-scan-table.ts"
+  # 20 signed-in HTTP clients on the running app (start the app and run N5 once first; see the script's header).
+  "LOAD|npx tsx scripts/bench/load-app.ts"
 )
 
 want=("$@")

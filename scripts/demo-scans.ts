@@ -256,7 +256,11 @@ async function main(): Promise<number> {
       let t0 = performance.now();
       const rt = await loadH5wasmNode();
       const local = path.join(dir, f.fileName);
-      writeSynthScan(rt, local, planScan({ size: 512, dtype: 'float32', ...f.options }), f.broken ?? null, f.text);
+      // recorded during its shift: an hour after the shift opened, then 40 minutes per earlier file of that shift
+      const nth = DEMO_FILES.filter((d) => d.shift === f.shift).indexOf(f);
+      const startTime = new Date(shift.opened_at.getTime() + (60 + 40 * nth) * 60_000).toISOString();
+      const plan = planScan({ size: 512, dtype: 'float32', ...f.options });
+      writeSynthScan(rt, local, plan, f.broken ?? null, f.text, startTime);
       const bytes = readFileSync(local);
       const sha256 = createHash('sha256').update(bytes).digest('hex');
       genMs += performance.now() - t0;

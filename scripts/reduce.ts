@@ -234,7 +234,7 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
       reducer.addStep(k, frame, b);
     }
     const { result, phaseMaps } = reducer.finish();
-    for (const w of opened.warnings) result.warnings.unshift(w);
+    result.warnings.unshift(...opened.warnings);
     if (writer !== null && partial !== null && outPath !== null) {
       if (phaseMaps !== null) writer.writePhase(phaseMaps);
       writer.writeSummary(result);

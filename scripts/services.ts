@@ -7,6 +7,12 @@
 //   tsx scripts/services.ts status --instance dev|test             what runs and answers (exit 1 if not all)
 //   tsx scripts/services.ts wait   --instance dev|test [--timeout S]
 //   tsx scripts/services.ts env    --instance dev|test             print `export NAME='value'` lines
+//   … start|stop --only mariadb|redis|s3 …                         one service only (s3 and the SMTP catcher share
+//                                                                   one process, so `--only s3` stops both)
+//
+// Besides dev and test there are private test instances, `test-<name>` (e.g. test-outage-db): the test values with
+// their own data folder and the ports given in the environment (DB_PORT, REDIS_URL, S3_ENDPOINT, SMTP_PORT,
+// APP_ORIGIN); tests that take a service away use one so that the shared test instance never goes down.
 //
 // Ports: dev 3307/6380/9000/2525, test 3317/6390/9010/2535; overridable by DB_PORT, the port of REDIS_URL, the port
 // of S3_ENDPOINT and SMTP_PORT. The dev instance also reads `.env` (values already in the environment win).
@@ -21,12 +27,18 @@ import { fileURLToPath, pathToFileURL } from 'node:url';
 import { parseArgs, parseEnv as parseDotEnv } from 'node:util';
 import mariadb from 'mariadb';
 
-export type Instance = 'dev' | 'test';
+export type Instance = 'dev' | 'test' | `test-${string}`;
 type ServiceName = 'mariadb' | 'redis' | 's3' | 'smtp';
+export type SingleService = 'mariadb' | 'redis' | 's3';
+
+/** A private test instance: `test-` and lower-case letters, digits and dashes. */
+export function isPrivateInstance(name: string): name is `test-${string}` {
+  return /^test-[a-z0-9][a-z0-9-]{0,30}$/.test(name);
+}
 
 export const REPO_ROOT = path.resolve(fileURLToPath(new URL('..', import.meta.url)));
 
-export const PORTS: Record<Instance, { app: number; db: number; s3: number; redis: number; smtp: number }> = {
+export const PORTS: Record<'dev' | 'test', { app: number; db: number; s3: number; redis: number; smtp: number }> = {
   dev: { app: 3000, db: 3307, s3: 9000, redis: 6380, smtp: 2525 },
   test: { app: 3100, db: 3317, s3: 9010, redis: 6390, smtp: 2535 },
 };
@@ -36,7 +48,11 @@ export const PORTS: Record<Instance, { app: number; db: number; s3: number; redi
  * and the integration tests use exactly these values); for `dev` the secrets come from `.env`.
  */
 export function instanceDefaults(instance: Instance): Record<string, string> {
-  const p = PORTS[instance];
+  if (isPrivateInstance(instance)) {
+    // The test values with a data folder of its own; the ports must come from the environment (checkPorts).
+    return { ...instanceDefaults('test'), LOBELINE_INSTANCE: instance, MAIL_CATCHER_DIR: `.data/${instance}/mail` };
+  }
+  const p = PORTS[instance as 'dev' | 'test'];
   const origin = `http://127.0.0.1:${p.app}`;
   const common: Record<string, string> = {
     LOBELINE_INSTANCE: instance,
@@ -118,17 +134,23 @@ function isLoopback(url: string | undefined): boolean {
   }
 }
 
-export function resolveConfig(instance: Instance): Config {
-  const fromEnv = Object.fromEntries(
-    Object.entries(process.env).filter((e): e is [string, string] => typeof e[1] === 'string' && e[1] !== ''),
-  );
+/**
+ * The configuration of an instance. `envOverride` replaces the process environment (a test that manages a private
+ * instance passes its ports here and keeps its own environment on the test instance).
+ */
+export function resolveConfig(instance: Instance, envOverride?: Record<string, string>): Config {
+  const fromEnv =
+    envOverride ??
+    Object.fromEntries(
+      Object.entries(process.env).filter((e): e is [string, string] => typeof e[1] === 'string' && e[1] !== ''),
+    );
   const env: Record<string, string> = {
     ...instanceDefaults(instance),
     ...(instance === 'dev' && process.env.LOBELINE_INSTANCE !== 'test' ? readDotEnv() : {}),
     ...fromEnv,
     LOBELINE_INSTANCE: instance,
   };
-  const p = PORTS[instance];
+  const p = PORTS[isPrivateInstance(instance) ? 'test' : instance];
   const dataDir = path.join(REPO_ROOT, '.data', instance);
   const runDir = path.join(dataDir, 'run');
   let socket = path.join(runDir, 'mariadb.sock');
@@ -158,9 +180,11 @@ export function resolveConfig(instance: Instance): Config {
 
 /** Refuses a set-up where this instance would take a port of the other instance. */
 function checkPorts(cfg: Config): void {
-  const other = PORTS[cfg.instance === 'dev' ? 'test' : 'dev'];
-  const clashes = (Object.keys(cfg.ports) as (keyof Config['ports'])[]).filter(
-    (k) => cfg.ports[k] === other[k] || cfg.ports[k] === other.app,
+  const others = isPrivateInstance(cfg.instance)
+    ? [PORTS.dev, PORTS.test]
+    : [PORTS[cfg.instance === 'dev' ? 'test' : 'dev']];
+  const clashes = (Object.keys(cfg.ports) as (keyof Config['ports'])[]).filter((k) =>
+    others.some((other) => cfg.ports[k] === other[k] || cfg.ports[k] === other.app),
   );
   if (clashes.length) {
     throw new Error(
@@ -400,7 +424,7 @@ async function startMariadb(cfg: Config, p: Proc): Promise<string> {
     '--collation-server=utf8mb4_unicode_ci',
     // 1 keeps real warnings but not one line per health probe ("Aborted connection ... unauthenticated").
     '--log-warnings=1',
-    ...(cfg.instance === 'test' ? ['--innodb-flush-log-at-trx-commit=2'] : []),
+    ...(cfg.instance !== 'dev' ? ['--innodb-flush-log-at-trx-commit=2'] : []),
   ];
   const child = spawnDetached('mariadbd', args, log, process.env);
   writeFileSync(p.pidFile, String(child.pid));
@@ -501,7 +525,15 @@ function ports(cfg: Config, p: Proc): string {
   return p.serves.map((s) => `${s} 127.0.0.1:${cfg.ports[s === 'mariadb' ? 'db' : s]}`).join(', ');
 }
 
-async function start(cfg: Config, fresh: boolean): Promise<number> {
+function selected(cfg: Config, only?: SingleService): Proc[] {
+  const all = procs(cfg);
+  if (!only) return all;
+  const picked = all.filter((p) => p.serves.includes(only));
+  if (!picked.length) throw new Error(`${only} is not run by this script for the ${cfg.instance} instance`);
+  return picked;
+}
+
+async function start(cfg: Config, fresh: boolean, only?: SingleService): Promise<number> {
   checkPorts(cfg);
   if (fresh) {
     await stop(cfg, true);
@@ -511,7 +543,7 @@ async function start(cfg: Config, fresh: boolean): Promise<number> {
   for (const d of [cfg.dataDir, cfg.runDir, cfg.logDir]) mkdirSync(d, { recursive: true });
   const starters = { mariadb: startMariadb, redis: startRedis, local: startLocal };
   let failed = 0;
-  for (const p of procs(cfg)) {
+  for (const p of selected(cfg, only)) {
     const t0 = Date.now();
     const pid = runningPid(p);
     try {
@@ -544,8 +576,8 @@ async function start(cfg: Config, fresh: boolean): Promise<number> {
   return failed ? 1 : 0;
 }
 
-async function stop(cfg: Config, quiet = false): Promise<number> {
-  for (const p of [...procs(cfg)].reverse()) {
+async function stop(cfg: Config, quiet = false, only?: SingleService): Promise<number> {
+  for (const p of [...selected(cfg, only)].reverse()) {
     const pid = runningPid(p);
     if (!pid) {
       if (!quiet) console.log(`${p.label.padEnd(18)} not running`);
@@ -617,6 +649,36 @@ function printEnv(cfg: Config): number {
   return 0;
 }
 
+/**
+ * Starts the services of an instance (or one of them) from another program, e.g. a test that manages a private
+ * instance; `env` replaces the process environment (see resolveConfig). Throws when something did not start.
+ */
+export async function startServices(
+  instance: Instance,
+  options: { fresh?: boolean; only?: SingleService; env?: Record<string, string> } = {},
+): Promise<void> {
+  const code = await start(resolveConfig(instance, options.env), options.fresh ?? false, options.only);
+  if (code !== 0) throw new Error(`services of ${instance} did not start (${options.only ?? 'all'})`);
+}
+
+/** Stops the services of an instance (or one of them); resolves once the process is gone. */
+export async function stopServices(
+  instance: Instance,
+  options: { only?: SingleService; env?: Record<string, string> } = {},
+): Promise<void> {
+  const code = await stop(resolveConfig(instance, options.env), false, options.only);
+  if (code !== 0) throw new Error(`services of ${instance} did not stop (${options.only ?? 'all'})`);
+}
+
+/** Whether one service of an instance answers right now. */
+export async function serviceAnswers(
+  instance: Instance,
+  service: SingleService,
+  env?: Record<string, string>,
+): Promise<boolean> {
+  return probes[service](resolveConfig(instance, env));
+}
+
 async function main(): Promise<number> {
   const { positionals, values } = parseArgs({
     allowPositionals: true,
@@ -624,20 +686,26 @@ async function main(): Promise<number> {
       instance: { type: 'string', default: 'dev' },
       fresh: { type: 'boolean', default: false },
       timeout: { type: 'string', default: '60' },
+      only: { type: 'string' },
     },
   });
   const command = positionals[0];
   const instance = values.instance;
-  if (instance !== 'dev' && instance !== 'test') {
-    console.error(`--instance must be dev or test (got "${instance}")`);
+  if (instance !== 'dev' && instance !== 'test' && !isPrivateInstance(instance)) {
+    console.error(`--instance must be dev, test or test-<name> (got "${instance}")`);
+    return 2;
+  }
+  const only = values.only;
+  if (only !== undefined && only !== 'mariadb' && only !== 'redis' && only !== 's3') {
+    console.error(`--only must be mariadb, redis or s3 (got "${only}")`);
     return 2;
   }
   const cfg = resolveConfig(instance);
   switch (command) {
     case 'start':
-      return start(cfg, values.fresh);
+      return start(cfg, values.fresh, only);
     case 'stop':
-      return stop(cfg);
+      return stop(cfg, false, only);
     case 'status':
       return status(cfg);
     case 'wait':
@@ -645,7 +713,10 @@ async function main(): Promise<number> {
     case 'env':
       return printEnv(cfg);
     default:
-      console.error('Usage: tsx scripts/services.ts start|stop|status|wait|env --instance dev|test [--fresh]');
+      console.error(
+        'Usage: tsx scripts/services.ts start|stop|status|wait|env --instance dev|test|test-<name> [--fresh] ' +
+          '[--only mariadb|redis|s3]',
+      );
       return 2;
   }
 }

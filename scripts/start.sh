@@ -182,7 +182,7 @@ trap cleanup EXIT
 
 # Each in its own process group, so stopping takes its children along.
 set -m
-"$BIN/next" start -H 127.0.0.1 -p "$APP_PORT" &
+"$BIN/tsx" scripts/serve.ts -H 127.0.0.1 -p "$APP_PORT" &
 APP_PID=$!
 if [ -f scripts/worker.ts ]; then
   "$BIN/tsx" scripts/worker.ts &

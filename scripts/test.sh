@@ -18,7 +18,7 @@ bash scripts/start.sh --install-only || {
 # ---------- the test environment (fixed values, never the dev ones) ----------
 for v in APP_ORIGIN NEXTAUTH_URL NEXTAUTH_SECRET DB_HOST DB_PORT DB_NAME DB_USER DB_PASSWORD REDIS_URL SMTP_HOST \
   SMTP_PORT MAIL_FROM MAIL_CATCHER_DIR S3_ENDPOINT S3_REGION S3_ACCESS_KEY_ID S3_SECRET_ACCESS_KEY S3_FORCE_PATH_STYLE \
-  S3_BUCKET_RAW S3_BUCKET_DERIVED S3_BUCKET_ARCHIVE LOG_LEVEL LOBELINE_INSTANCE; do
+  S3_BUCKET_RAW S3_BUCKET_DERIVED S3_BUCKET_ARCHIVE LOG_LEVEL LOBELINE_INSTANCE TRUSTED_PROXY_HOPS; do
   unset "$v"
 done
 TEST_ENV=$("$BIN/tsx" scripts/services.ts env --instance test) || {
@@ -164,7 +164,7 @@ start_app() {
   fi
   mkdir -p "$OUT/logs"
   set -m
-  "$BIN/next" start -H 127.0.0.1 -p "$APP_PORT" >"$OUT/logs/app.log" 2>&1 &
+  "$BIN/tsx" scripts/serve.ts -H 127.0.0.1 -p "$APP_PORT" >"$OUT/logs/app.log" 2>&1 &
   APP_PID=$!
   if [ -f scripts/worker.ts ]; then
     "$BIN/tsx" scripts/worker.ts >"$OUT/logs/worker.log" 2>&1 &

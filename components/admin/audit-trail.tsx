@@ -50,6 +50,7 @@ const ACTION_WORDS: Record<AuditAction, string> = {
   'auth.sign_out': 'Signed out',
   'auth.password_reset_requested': 'Asked for a password reset',
   'auth.password_reset': 'Password reset',
+  'auth.password_changed': 'Password changed',
   'auth.access_refused': 'Access refused',
   'auth.session_rejected': 'Session refused',
   'invitation.created': 'Invitation sent',

@@ -84,7 +84,7 @@ export function NewPasswordForm({
         type="password"
         autoComplete="new-password"
         required
-        hint="At least 10 characters. A few unrelated words make a good password."
+        hint="At least 12 characters, and not one of the passwords everybody tries first. A few unrelated words make a good password."
         error={fields.password}
       />
       <Field

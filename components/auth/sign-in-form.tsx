@@ -6,11 +6,12 @@ import { signIn } from 'next-auth/react';
 import { type FormEvent, useState } from 'react';
 import { Button } from '@/components/ui/button';
 import { Field } from '@/components/ui/field';
+import { safeNextPath } from '@/lib/auth/redirect';
 
 const MESSAGES: Record<string, string> = {
   CredentialsSignin: 'The e-mail address or password is not right.',
   deactivated: 'This account has been deactivated. Ask a Lobeline administrator if you need access again.',
-  rate_limited: 'Too many failed sign-ins. Please wait 15 minutes before trying again.',
+  rate_limited: 'Too many failed sign-ins. Please wait a minute before trying again.',
   unavailable: 'Signing in is not possible right now because a service is not answering. Please try again in a minute.',
   SessionRequired: 'Please sign in to continue.',
 };
@@ -18,11 +19,6 @@ const MESSAGES: Record<string, string> = {
 function messageFor(code: string | null | undefined): string | null {
   if (!code) return null;
   return MESSAGES[code] ?? 'Signing in did not work. Please try again.';
-}
-
-/** Only same-site paths are followed after signing in. */
-function safeNext(next: string | null | undefined): string {
-  return next?.startsWith('/') && !next.startsWith('//') && !next.startsWith('/sign-in') ? next : '/';
 }
 
 export function SignInForm({
@@ -58,7 +54,8 @@ export function SignInForm({
         setPending(false);
         return;
       }
-      router.replace(safeNext(next));
+      // Only a path of this origin, as the browser's own URL parser reads it (lib/auth/redirect.ts).
+      router.replace(safeNextPath(next, window.location.origin));
       router.refresh();
     } catch {
       setError(messageFor('unavailable'));

@@ -4,7 +4,16 @@ import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { Button, ErrorState } from '@/components/ui';
 import { apiFetch } from '@/lib/api/client';
 import { formatDateTime } from '@/lib/format';
+import { campaignKeys, FOLLOW_INTERVAL_MS } from './query-keys';
 import type { BatchDto } from './types';
+
+/** What became of the batch this panel started, from the batch list (which follows the worker). */
+function batchWords(started: { batchId: number; total: number; queued: number }, b: BatchDto | undefined): string {
+  if (!b || b.queued + b.running > 0) {
+    return `Batch ${started.batchId}: ${started.queued} of ${started.total} scans queued.`;
+  }
+  return `Batch ${started.batchId} finished: ${b.succeeded} reduced${b.failed ? `, ${b.failed} failed` : ''}.`;
+}
 
 export function BatchesPanel({
   campaignId,
@@ -19,9 +28,10 @@ export function BatchesPanel({
 }) {
   const qc = useQueryClient();
   const q = useQuery({
-    queryKey: ['campaign-batches', campaignId],
+    queryKey: campaignKeys.batches(campaignId),
     queryFn: () => apiFetch<{ batches: BatchDto[] }>(`/api/campaigns/${campaignId}/reduce`),
-    refetchInterval: (qq) => (qq.state.data?.batches.some((b) => b.queued + b.running > 0) ? 2000 : false),
+    refetchInterval: (qq) =>
+      qq.state.data?.batches.some((b) => b.queued + b.running > 0) ? FOLLOW_INTERVAL_MS : false,
   });
   const m = useMutation({
     mutationFn: () =>
@@ -29,10 +39,8 @@ export function BatchesPanel({
         method: 'POST',
         json: {},
       }),
-    onSuccess: () => {
-      qc.invalidateQueries({ queryKey: ['campaign-batches', campaignId] });
-      qc.invalidateQueries({ queryKey: ['campaign-scans', campaignId] });
-    },
+    // the overview then sees the queued scans and follows the worker until they settle
+    onSuccess: () => qc.invalidateQueries({ queryKey: campaignKeys.all(campaignId) }),
   });
   const batches = q.data?.batches ?? [];
   return (
@@ -47,8 +55,11 @@ export function BatchesPanel({
       ) : null}
       {m.isError ? <ErrorState message={m.error.message} /> : null}
       {m.isSuccess ? (
-        <p className="text-small text-lobe-700" role="status">
-          Batch {m.data.batchId}: {m.data.queued} of {m.data.total} scans queued.
+        <p className="text-small text-lobe-700" role="status" data-testid="batch-started">
+          {batchWords(
+            m.data,
+            batches.find((b) => b.id === m.data.batchId),
+          )}
         </p>
       ) : null}
       {batches.slice(0, compact ? 1 : 5).map((b) => {

@@ -1,22 +1,40 @@
 'use client';
 // The campaign page: conditions and current versions, counts per state, shifts, the scan table and the trend.
-import { useQuery } from '@tanstack/react-query';
+import { useQuery, useQueryClient } from '@tanstack/react-query';
 import Link from 'next/link';
+import { useEffect, useRef } from 'react';
 import { EXPERIMENT_LABELS } from '@/components/scans/format';
 import { SCAN_STATUS_LABELS, SCAN_STATUS_ORDER } from '@/components/scans/status-badge';
 import { Badge, ErrorState, LinkButton, LoadingBlock, PageHeader, Panel } from '@/components/ui';
 import { apiFetch } from '@/lib/api/client';
 import { formatDateTime } from '@/lib/format';
 import { BatchesPanel } from './batches-panel';
+import { campaignKeys, FOLLOW_INTERVAL_MS, IDLE_INTERVAL_MS, workerBusy } from './query-keys';
 import { ScansTable } from './scans-table';
 import { TrendPanel } from './trend-panel';
 import type { CampaignResponse } from './types';
 
 export function CampaignView({ campaignId }: { campaignId: number }) {
+  const qc = useQueryClient();
   const q = useQuery({
-    queryKey: ['campaign', campaignId],
+    queryKey: campaignKeys.all(campaignId),
     queryFn: () => apiFetch<CampaignResponse>(`/api/campaigns/${campaignId}`),
+    // follow the worker: ask often while scans are queued or reducing; when idle, now and then, so that scans sent
+    // from another page (the operator at the experiment) show up here too
+    refetchInterval: (qq) => (workerBusy(qq.state.data?.campaign.counts) ? FOLLOW_INTERVAL_MS : IDLE_INTERVAL_MS),
   });
+  const busy = workerBusy(q.data?.campaign.counts);
+  const counts = q.data?.campaign.counts;
+  const signature = counts ? JSON.stringify(counts) : null;
+  const seen = useRef<string | null>(null);
+  useEffect(() => {
+    // A scan was added, settled or flagged since the last answer: the table, the trend and the batches get a fresh
+    // answer together (the overview itself answers the same again, so this does not repeat).
+    if (signature && seen.current && seen.current !== signature) {
+      void qc.invalidateQueries({ queryKey: campaignKeys.all(campaignId) });
+    }
+    seen.current = signature;
+  }, [signature, qc, campaignId]);
   if (q.isPending) return <LoadingBlock lines={10} />;
   if (q.isError) return <ErrorState message={q.error.message} onRetry={() => q.refetch()} />;
   const { campaign: c, can } = q.data;
@@ -84,6 +102,18 @@ export function CampaignView({ campaignId }: { campaignId: number }) {
                   <span className="text-ink-500">
                     {s.scanCount} scan{s.scanCount === 1 ? '' : 's'} ·{' '}
                     {s.status === 'open' ? 'open' : `closed ${formatDateTime(s.closedAt)}`}
+                    {s.status === 'closed' ? (
+                      <>
+                        {' · '}
+                        <Link
+                          href={`/shifts/${s.id}#receipt`}
+                          className="text-lobe-700 hover:underline"
+                          data-testid="shift-receipt-link"
+                        >
+                          receipt
+                        </Link>
+                      </>
+                    ) : null}
                   </span>
                 </li>
               ))}
@@ -94,11 +124,11 @@ export function CampaignView({ campaignId }: { campaignId: number }) {
         </Panel>
       </div>
       <Panel title="Scans" flush>
-        <ScansTable campaignId={c.id} overview={q.data} />
+        <ScansTable campaignId={c.id} overview={q.data} following={busy} />
       </Panel>
       {can.viewResults ? (
         <Panel title="Trend across scans" description="Latest result of every reduced scan of this campaign.">
-          <TrendPanel campaignId={c.id} />
+          <TrendPanel campaignId={c.id} following={busy} />
         </Panel>
       ) : null}
     </div>

@@ -11,11 +11,21 @@ import { DataTable, type DataTableColumn, EmptyState, ErrorState, type SortDirec
 import { inputClass } from '@/components/ui/input-class';
 import { apiFetch } from '@/lib/api/client';
 import { formatDateTime } from '@/lib/format';
+import { campaignKeys, FOLLOW_INTERVAL_MS, WORKER_STATES } from './query-keys';
 import type { CampaignResponse, ScanPage, ScanRowDto } from './types';
 
 const PAGE_SIZE = 25;
 
-export function ScansTable({ campaignId, overview }: { campaignId: number; overview: CampaignResponse }) {
+export function ScansTable({
+  campaignId,
+  overview,
+  following = false,
+}: {
+  campaignId: number;
+  overview: CampaignResponse;
+  /** The campaign has scans with the worker: ask again until they settle. */
+  following?: boolean;
+}) {
   const router = useRouter();
   const [page, setPage] = useState(1);
   const [sort, setSort] = useState<{ key: string; direction: SortDirection }>({ key: 'uploaded', direction: 'desc' });
@@ -44,11 +54,11 @@ export function ScansTable({ campaignId, overview }: { campaignId: number; overv
   if (flagged) params.set('flagged', flagged);
   if (q) params.set('q', q);
   const query = useQuery({
-    queryKey: ['campaign-scans', campaignId, params.toString()],
+    queryKey: campaignKeys.scans(campaignId, params.toString()),
     queryFn: () => apiFetch<ScanPage>(`/api/campaigns/${campaignId}/scans?${params}`),
     placeholderData: keepPreviousData,
     refetchInterval: (qq) =>
-      qq.state.data?.rows.some((r) => r.status === 'queued' || r.status === 'reducing') ? 2000 : false,
+      following || qq.state.data?.rows.some((r) => WORKER_STATES.includes(r.status)) ? FOLLOW_INTERVAL_MS : false,
   });
 
   const columns: DataTableColumn<ScanRowDto>[] = [

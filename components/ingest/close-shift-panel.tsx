@@ -39,7 +39,7 @@ export function ReceiptView({ receipt, mailedAt }: { receipt: Receipt; mailedAt:
         {receipt.closedBy ? ` by ${receipt.closedBy}` : ''}.{' '}
         {mailedAt
           ? `Receipt e-mailed ${formatDateTime(mailedAt)} to the operator and the team's analysts.`
-          : 'The receipt e-mail has not been sent yet.'}
+          : 'No receipt e-mail is on record for this shift; this page is its receipt.'}
       </p>
       <p className="text-small text-ink-700">
         {receipt.totals.files} files, {formatBytes(receipt.totals.bytes)} — {receipt.totals.accepted} accepted,{' '}

@@ -163,7 +163,21 @@ function ItemRow({
           </div>
         ) : null}
         {pc?.warnings.length ? (
-          <p className="text-micro text-ink-500">Notes: {pc.warnings.slice(0, 3).join(' · ')}</p>
+          <div
+            className="rounded-md bg-flare-50 px-3 py-2 text-small text-flare-900 ring-1 ring-flare-200"
+            data-testid="precheck-warnings"
+          >
+            <p className="font-medium">
+              {pc.warnings.length === 1 ? 'One warning' : `${pc.warnings.length} warnings`}; the file can still be sent
+              and reduced:
+            </p>
+            <ul className="mt-1 list-disc space-y-0.5 pl-5 font-mono text-micro">
+              {pc.warnings.slice(0, 8).map((w) => (
+                <li key={w}>{w}</li>
+              ))}
+              {pc.warnings.length > 8 ? <li>… and {pc.warnings.length - 8} more</li> : null}
+            </ul>
+          </div>
         ) : null}
         {hasProblems && item.phase === 'ready' ? (
           <label className="flex items-center gap-2 text-small text-ink-700">

@@ -8,6 +8,7 @@ import * as h5wasm from 'h5wasm';
 import { Sha256 } from '@/lib/ingest/sha256';
 import { openScanBytes, openScanFile } from '@/reduction/hdf5/reader';
 import { type H5Runtime, runtimeFrom } from '@/reduction/hdf5/runtime';
+import { saturationWarning } from '@/reduction/saturation';
 import type { PrecheckPreview, PrecheckResult, WorkerReply, WorkerRequest } from './precheck-protocol';
 
 const scope = self as unknown as DedicatedWorkerGlobalScope;
@@ -76,8 +77,12 @@ async function precheck(id: number, file: File): Promise<PrecheckResult> {
     const m = scan.meta;
     const problems: string[] = [];
     let pv: PrecheckPreview | null = null;
+    const warnings = [...opened.warnings];
     try {
-      pv = preview(scan.readFrame(0), m.shape.nY, m.shape.nX);
+      const first = scan.readFrame(0);
+      pv = preview(first, m.shape.nY, m.shape.nX);
+      const saturated = saturationWarning(first, m.countsDtype);
+      if (saturated !== null) warnings.push(`First frame: ${saturated}`);
     } catch (err) {
       problems.push((err as { problem?: { message: string } }).problem?.message ?? String(err));
     } finally {
@@ -86,7 +91,7 @@ async function precheck(id: number, file: File): Promise<PrecheckResult> {
     return {
       ok: problems.length === 0,
       problems,
-      warnings: opened.warnings,
+      warnings,
       summary: {
         experimentKind: m.experimentKind,
         target: m.target,

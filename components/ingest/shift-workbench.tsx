@@ -12,6 +12,7 @@ import { DropPanel } from './drop-panel';
 import { ShiftLogPanel } from './shift-log-panel';
 import { StoredFiles } from './stored-files';
 import { useIngestQueue } from './use-ingest-queue';
+import { unsentCount, useLeaveWarning } from './use-leave-warning';
 
 /** The interactive part of the shift page: drop, check, send, log, release, close. */
 export function ShiftWorkbench({ initial, initialReceipt }: { initial: ShiftViewDto; initialReceipt: Receipt | null }) {
@@ -21,6 +22,9 @@ export function ShiftWorkbench({ initial, initialReceipt }: { initial: ShiftView
     queryKey: ['shift', shiftId],
     queryFn: () => apiFetch<ShiftViewDto>(`/api/shifts/${shiftId}`),
     initialData: initial,
+    // follow the worker: "Stored in this shift" asks again while any of its scans is queued or reducing
+    refetchInterval: (q) =>
+      q.state.data?.files.some((f) => f.scanStatus === 'queued' || f.scanStatus === 'reducing') ? 2000 : false,
   });
   const closed = view.data.shift.status === 'closed';
   const receipt = useQuery({
@@ -36,6 +40,7 @@ export function ShiftWorkbench({ initial, initialReceipt }: { initial: ShiftView
   const queue = useIngestQueue({ shiftId, onStored: refresh });
   const data = view.data;
   const busy = queue.items.filter((i) => ['queued', 'sending', 'waiting-hash', 'verifying'].includes(i.phase)).length;
+  useLeaveWarning(unsentCount(queue.items));
 
   return (
     <div className="grid gap-6 lg:grid-cols-[minmax(0,1fr)_22rem]">
@@ -44,13 +49,15 @@ export function ShiftWorkbench({ initial, initialReceipt }: { initial: ShiftView
           <ErrorState message="The shift could not be refreshed." onRetry={() => view.refetch()} />
         ) : null}
         {closed ? (
-          <Panel title="Shift receipt" data-testid="receipt-panel">
-            {receipt.data ? (
-              <ReceiptView receipt={receipt.data} mailedAt={data.shift.receiptSentAt} />
-            ) : (
-              <p className="text-small text-ink-500">Loading the receipt…</p>
-            )}
-          </Panel>
+          <div id="receipt" className="scroll-mt-4">
+            <Panel title="Shift receipt" data-testid="receipt-panel">
+              {receipt.data ? (
+                <ReceiptView receipt={receipt.data} mailedAt={data.shift.receiptSentAt} />
+              ) : (
+                <p className="text-small text-ink-500">Loading the receipt…</p>
+              )}
+            </Panel>
+          </div>
         ) : (
           <DropPanel queue={queue} log={data.log} unfinished={data.unfinished} canUpload={data.permissions.upload} />
         )}

@@ -52,3 +52,53 @@ export function extent(values: number[], errors?: (number | null)[], pad = 0.06)
   const p = (hi - lo) * pad;
   return [lo - p, hi + p];
 }
+
+/** A base-10 logarithmic scale of a positive domain; `invert` maps back. Values ≤ 0 map to NaN. */
+export function logScale(domain: [number, number], range: [number, number]): LinearScale {
+  const l0 = Math.log10(domain[0]);
+  const l1 = Math.log10(domain[1]);
+  const lin = linearScale([l0, l1], range);
+  const f = ((v: number) => (v > 0 ? lin(Math.log10(v)) : Number.NaN)) as LinearScale;
+  f.domain = domain;
+  f.range = range;
+  f.invert = (px: number) => 10 ** lin.invert(px);
+  return f;
+}
+
+/** [min, max] of the positive finite values, widened to whole decades when they span less than one. */
+export function positiveExtent(values: number[]): [number, number] | null {
+  let lo = Number.POSITIVE_INFINITY;
+  let hi = 0;
+  for (const v of values) {
+    if (!Number.isFinite(v) || v <= 0) continue;
+    lo = Math.min(lo, v);
+    hi = Math.max(hi, v);
+  }
+  if (!Number.isFinite(lo)) return null;
+  const a = Math.log10(lo);
+  const b = Math.log10(hi);
+  if (b - a < 1) {
+    const d0 = Math.floor(a);
+    const d1 = Math.max(d0 + 1, Math.ceil(b));
+    return [10 ** d0, 10 ** d1];
+  }
+  return [10 ** (a - 0.05 * (b - a)), 10 ** (b + 0.05 * (b - a))];
+}
+
+/** Ticks of a log axis: every decade, with 2 and 5 between them when the domain spans three decades or fewer. */
+export function logTicks(lo: number, hi: number): number[] {
+  if (!(lo > 0) || !(hi > lo)) return [];
+  const out: number[] = [];
+  const d0 = Math.floor(Math.log10(lo));
+  const d1 = Math.ceil(Math.log10(hi));
+  const steps = d1 - d0 <= 3 ? [1, 2, 5] : [1];
+  for (let d = d0; d <= d1; d++) {
+    for (const m of steps) {
+      const v = m * 10 ** d;
+      // rounding like 3e-7 * 1 = 2.9999999999999997e-7 is removed by toPrecision
+      const clean = Number(v.toPrecision(12));
+      if (clean >= lo * (1 - 1e-9) && clean <= hi * (1 + 1e-9)) out.push(clean);
+    }
+  }
+  return out;
+}

@@ -1,8 +1,18 @@
 'use client';
-// An SVG plot of one or more series (lines and/or points with vertical error bars) on linear axes, with tick
-// labels, axis titles and an optional legend. Lobeline's own design: framed plot area, ticks inside, no grid fill.
+// An SVG plot of one or more series (lines and/or points with vertical error bars) on linear or log axes, with
+// tick labels, axis titles and an optional legend. Lobeline's own design: framed plot area, ticks inside, no grid fill.
 import { type ReactNode, useId, useRef } from 'react';
-import { extent, formatNumber, linearScale, niceTicks } from './scales';
+import {
+  extent,
+  formatNumber,
+  type LinearScale,
+  linearScale,
+  logScale,
+  logTicks,
+  niceTicks,
+  positiveExtent,
+} from './scales';
+import { type MarkerShape, markerPath } from './series-styles';
 import { usePlotWidth } from './use-plot-width';
 
 export interface XYPoint {
@@ -22,7 +32,11 @@ export interface XYSeries {
   mode?: 'line' | 'points' | 'both';
   dashed?: boolean;
   width?: number;
+  /** Marker outline of the points (default diamond); the legend shows it too. */
+  shape?: MarkerShape;
 }
+
+export type AxisScale = 'linear' | 'log';
 
 export interface XYPlotProps {
   series: XYSeries[];
@@ -36,6 +50,9 @@ export interface XYPlotProps {
   /** Tick formatting of the x axis (default compact numbers). */
   xTickFormat?: (v: number) => string;
   legend?: boolean;
+  /** Logarithmic axes draw only positive values (and the positive part of error bars). */
+  xScale?: AxisScale;
+  yScale?: AxisScale;
   'data-testid'?: string;
   children?: ReactNode;
 }
@@ -55,14 +72,19 @@ export function XYPlot({
   height = 280,
   xTickFormat = (v) => formatNumber(v),
   legend = true,
+  xScale = 'linear',
+  yScale = 'linear',
   ...rest
 }: XYPlotProps) {
   const clip = useId().replace(/:/g, '');
   const figureRef = useRef<HTMLElement>(null);
   const W = usePlotWidth(figureRef, W_MIN, W_MAX);
   const all = series.flatMap((s) => s.points);
+  const xLog = xScale === 'log';
+  const yLog = yScale === 'log';
   const xd =
     xDomain ??
+    (xLog ? positiveExtent(all.map((p) => p.x)) : null) ??
     extent(
       all.map((p) => p.x),
       undefined,
@@ -70,14 +92,17 @@ export function XYPlot({
     );
   const yd =
     yDomain ??
+    (yLog ? positiveExtent(all.map((p) => p.y)) : null) ??
     extent(
       all.map((p) => p.y),
       all.map((p) => p.yErr ?? null),
     );
-  const x = linearScale(xd, [M.l, W - M.r]);
-  const y = linearScale(yd, [height - M.b, M.t]);
-  const xt = niceTicks(xd[0], xd[1], W < 420 ? 4 : 6);
-  const yt = niceTicks(yd[0], yd[1], 5);
+  const x: LinearScale = xLog && xd[0] > 0 ? logScale(xd, [M.l, W - M.r]) : linearScale(xd, [M.l, W - M.r]);
+  const y: LinearScale = yLog && yd[0] > 0 ? logScale(yd, [height - M.b, M.t]) : linearScale(yd, [height - M.b, M.t]);
+  const xt = xLog ? logTicks(xd[0], xd[1]) : niceTicks(xd[0], xd[1], W < 420 ? 4 : 6);
+  const yt = yLog ? logTicks(yd[0], yd[1]) : niceTicks(yd[0], yd[1], 5);
+  // a log axis shows only positive values; an error bar reaching below zero is cut at the bottom of the frame
+  const yAt = (v: number) => (yLog && !(v > 0) ? height - M.b : y(v));
   return (
     <figure ref={figureRef} className="w-full min-w-0 max-w-3xl" data-testid={rest['data-testid']}>
       <svg
@@ -85,6 +110,8 @@ export function XYPlot({
         className="w-full select-none"
         role="img"
         aria-label={`${yLabel} against ${xLabel}`}
+        data-x-scale={xScale}
+        data-y-scale={yScale}
       >
         <defs>
           <clipPath id={clip}>
@@ -132,7 +159,9 @@ export function XYPlot({
           ))}
           {series.map((s) => {
             const mode = s.mode ?? 'line';
-            const pts = s.points.filter((p) => Number.isFinite(p.x) && Number.isFinite(p.y));
+            const pts = s.points.filter(
+              (p) => Number.isFinite(x(p.x)) && Number.isFinite(y(p.y)) && Number.isFinite(p.x) && Number.isFinite(p.y),
+            );
             return (
               <g key={s.id}>
                 {mode !== 'points' && pts.length > 1 ? (
@@ -149,23 +178,21 @@ export function XYPlot({
                       <g key={`${p.x}:${p.y}:${p.title ?? ''}`}>
                         {p.yErr != null && Number.isFinite(p.yErr) && p.yErr > 0 ? (
                           <g stroke={s.color} strokeWidth={1.2}>
-                            <line x1={x(p.x)} x2={x(p.x)} y1={y(p.y - p.yErr)} y2={y(p.y + p.yErr)} />
-                            <line x1={x(p.x) - 3} x2={x(p.x) + 3} y1={y(p.y - p.yErr)} y2={y(p.y - p.yErr)} />
-                            <line x1={x(p.x) - 3} x2={x(p.x) + 3} y1={y(p.y + p.yErr)} y2={y(p.y + p.yErr)} />
+                            <line x1={x(p.x)} x2={x(p.x)} y1={yAt(p.y - p.yErr)} y2={yAt(p.y + p.yErr)} />
+                            <line x1={x(p.x) - 3} x2={x(p.x) + 3} y1={yAt(p.y - p.yErr)} y2={yAt(p.y - p.yErr)} />
+                            <line x1={x(p.x) - 3} x2={x(p.x) + 3} y1={yAt(p.y + p.yErr)} y2={yAt(p.y + p.yErr)} />
                           </g>
                         ) : null}
-                        <rect
-                          x={x(p.x) - 3.2}
-                          y={y(p.y) - 3.2}
-                          width={6.4}
-                          height={6.4}
-                          transform={`rotate(45 ${x(p.x)} ${y(p.y)})`}
+                        <path
+                          d={markerPath(s.shape ?? 'diamond', x(p.x), y(p.y), 3.4)}
                           fill={p.hollow ? '#ffffff' : s.color}
                           stroke={s.color}
-                          strokeWidth={1.2}
+                          strokeWidth={1.3}
+                          data-marker={s.shape ?? 'diamond'}
+                          data-hollow={p.hollow ? 'true' : undefined}
                         >
                           {p.title ? <title>{p.title}</title> : null}
-                        </rect>
+                        </path>
                       </g>
                     ))
                   : null}
@@ -177,15 +204,28 @@ export function XYPlot({
       {legend && series.length > 1 ? (
         <figcaption className="mt-1 flex flex-wrap gap-x-4 gap-y-1 pl-16 text-micro text-ink-600">
           {series.map((s) => (
-            <span key={s.id} className="inline-flex items-center gap-1.5">
-              <span
-                className="inline-block h-0.5 w-5"
-                style={{
-                  background: s.dashed
-                    ? `repeating-linear-gradient(90deg, ${s.color} 0 5px, transparent 5px 8px)`
-                    : s.color,
-                }}
-              />
+            <span
+              key={s.id}
+              className="inline-flex items-center gap-1.5"
+              data-testid="legend-entry"
+              data-color={s.color}
+              data-marker={(s.mode ?? 'line') === 'line' ? 'line' : (s.shape ?? 'diamond')}
+            >
+              {(s.mode ?? 'line') === 'line' ? (
+                <span
+                  className="inline-block h-0.5 w-5"
+                  style={{
+                    background: s.dashed
+                      ? `repeating-linear-gradient(90deg, ${s.color} 0 5px, transparent 5px 8px)`
+                      : s.color,
+                  }}
+                />
+              ) : (
+                <svg width="20" height="12" aria-hidden="true">
+                  {s.mode === 'both' ? <line x1="0" x2="20" y1="6" y2="6" stroke={s.color} strokeWidth="1" /> : null}
+                  <path d={markerPath(s.shape ?? 'diamond', 10, 6, 3.6)} fill={s.color} stroke={s.color} />
+                </svg>
+              )}
               {s.label}
             </span>
           ))}

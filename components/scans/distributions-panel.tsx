@@ -7,71 +7,29 @@ import { ErrorState, LoadingBlock } from '@/components/ui';
 import { apiFetch } from '@/lib/api/client';
 import type { AnalysisSettings, StepResult } from '@/reduction/formats';
 import { HARTREE_EV } from './format';
+import { viewsFor } from './kind-views';
+import { lobeModelSegments } from './lobe-model';
 import type { CurvesResponse } from './types';
 
 const MEASURED = '#253043';
 const FIT = '#e3770c';
 const EXPECTED = '#0f8077';
 
-function wrap180(d: number): number {
-  return ((((d + 180) % 360) + 360) % 360) - 180;
-}
-
-/**
- * The peak model of one lobe for display: centre and width as fitted by the reduction, height and constant base
- * re-fitted here by linear least squares to the unsmoothed distribution inside ±fit_half_width.
- */
-export function lobeModelCurve(
-  theta: number[],
-  y: number[],
-  centre: number,
-  width: number,
-  halfWidth: number,
-  model: AnalysisSettings['peak_model'],
-): { x: number; y: number }[] {
-  const shape = (t: number) => {
-    const d = wrap180(t - centre);
-    if (model === 'von_mises') {
-      const k = 1 / ((width * Math.PI) / 180) ** 2;
-      return Math.exp(k * (Math.cos((d * Math.PI) / 180) - 1));
-    }
-    return Math.exp(-(d * d) / (2 * width * width));
-  };
-  let n = 0;
-  let sf = 0;
-  let sff = 0;
-  let sy = 0;
-  let sfy = 0;
-  const inside: number[] = [];
-  theta.forEach((t, i) => {
-    if (Math.abs(wrap180(t - centre)) > halfWidth) return;
-    const f = shape(t);
-    const v = y[i] as number;
-    n++;
-    sf += f;
-    sff += f * f;
-    sy += v;
-    sfy += f * v;
-    inside.push(i);
-  });
-  const det = n * sff - sf * sf;
-  if (n < 3 || Math.abs(det) < 1e-12) return [];
-  const A = (n * sfy - sf * sy) / det;
-  const B = (sy - A * sf) / n;
-  return inside.map((i) => ({ x: theta[i] as number, y: B + A * shape(theta[i] as number) }));
-}
-
 export function DistributionsPanel({
   scanId,
   resultId,
   step,
   settings,
+  kind,
 }: {
   scanId: number;
   resultId: number;
   step: StepResult;
   settings: AnalysisSettings;
+  /** The experiment kind: a two-colour phase scan has no lobes to fit or guide. */
+  kind: string;
 }) {
+  const views = viewsFor(kind);
   const q = useQuery({
     queryKey: ['scan-curves', scanId, resultId, step.index],
     queryFn: () => apiFetch<CurvesResponse>(`/api/scans/${scanId}/curves?step=${step.index}&resultId=${resultId}`),
@@ -80,24 +38,25 @@ export function DistributionsPanel({
   if (q.isPending) return <LoadingBlock lines={6} />;
   if (q.isError) return <ErrorState message={q.error.message} onRetry={() => q.refetch()} />;
   const c = q.data;
-  const fits = step.lobes.flatMap((l, i) =>
+  // One series per contiguous piece of each lobe's model: a lobe near ±180° has its model split at the wrap, and a
+  // single polyline through both pieces would cross the whole axis.
+  const lobes = views.lobeFits ? step.lobes : [];
+  const fits = lobes.flatMap((l, i) =>
     l.width_deg
-      ? [
-          {
-            id: `fit${i}`,
-            label: i === 0 ? `peak model (${settings.peak_model}, centre and width from the fit)` : '',
-            color: FIT,
-            width: 2,
-            points: lobeModelCurve(
-              c.thetaDeg,
-              c.angular,
-              l.angle_deg,
-              l.width_deg,
-              settings.fit_half_width_deg,
-              settings.peak_model,
-            ),
-          },
-        ]
+      ? lobeModelSegments(
+          c.thetaDeg,
+          c.angular,
+          l.angle_deg,
+          l.width_deg,
+          settings.fit_half_width_deg,
+          settings.peak_model,
+        ).map((points, k) => ({
+          id: `fit${i}-${k}`,
+          label: `lobe ${i + 1} peak model`,
+          color: FIT,
+          width: 2,
+          points,
+        }))
       : [],
   );
   const energy = c.pAu
@@ -120,23 +79,36 @@ export function DistributionsPanel({
               width: 1.2,
               points: c.thetaDeg.map((t, i) => ({ x: t, y: c.angular[i] as number })),
             },
-            ...fits.map((f, i) => ({ ...f, label: i === 0 ? f.label : `${f.label} ` })).filter((f) => f.points.length),
+            ...fits.filter((f) => f.points.length > 1),
           ]}
-          guides={step.lobes.flatMap((l, i) => [
+          guides={lobes.flatMap((l, i) => [
             { x: l.angle_deg, color: FIT, label: `lobe ${i + 1}` },
             // unlabelled on the plot (a label there sat on the curve); named in the legend below
             ...(l.expected_deg == null ? [] : [{ x: l.expected_deg, color: EXPECTED }]),
           ])}
           legend={false}
         />
-        <div className="mt-1 flex flex-wrap gap-x-4 gap-y-1 pl-16 text-micro text-ink-600" data-testid="angular-legend">
-          <LegendDash color={FIT}>fitted lobe direction</LegendDash>
-          <LegendDash color={EXPECTED}>simple-man direction</LegendDash>
-        </div>
-        <p className="text-micro text-ink-500">
-          Solid line: measured counts; thick line: peak model; dashed verticals: fitted lobe direction (amber) and
-          simple-man direction (teal). Offset = fitted − simple-man, positive in the sense of field rotation.
-        </p>
+        {views.lobeFits ? (
+          <>
+            <div
+              className="mt-1 flex flex-wrap gap-x-4 gap-y-1 pl-16 text-micro text-ink-600"
+              data-testid="angular-legend"
+            >
+              <LegendDash color={FIT}>fitted lobe direction</LegendDash>
+              <LegendDash color={EXPECTED}>simple-man direction</LegendDash>
+            </div>
+            <p className="text-micro text-ink-500">
+              Solid line: measured counts; thick line: peak model ({settings.peak_model}, centre and width from the
+              fit); dashed verticals: fitted lobe direction (amber) and simple-man direction (teal). Offset = fitted −
+              simple-man, positive in the sense of field rotation.
+            </p>
+          </>
+        ) : (
+          <p className="text-micro text-ink-500" data-testid="angular-plain-note">
+            Measured counts in the radial window. A two-colour phase scan is analysed per pixel against the relative
+            phase (phase maps below), so no lobe is fitted here.
+          </p>
+        )}
       </div>
       <div>
         <h3 className="mb-1 text-small font-semibold text-ink-800">Radial spectrum</h3>
@@ -152,7 +124,7 @@ export function DistributionsPanel({
               points: c.pAu.map((p, i) => ({ x: p, y: c.radial[i] as number })),
             },
           ]}
-          guides={step.radius_au ? [{ x: step.radius_au, color: FIT, label: 'lobe radius' }] : []}
+          guides={views.lobeFigures && step.radius_au ? [{ x: step.radius_au, color: FIT, label: 'lobe radius' }] : []}
           height={240}
         />
       </div>

@@ -7,6 +7,7 @@ import { Heatmap } from '@/components/plots/heatmap';
 import { ErrorState, LoadingBlock } from '@/components/ui';
 import { apiFetch } from '@/lib/api/client';
 import type { StepResult } from '@/reduction/formats';
+import { viewsFor } from './kind-views';
 import { decodeFloat32, type ImageResponse } from './types';
 
 const LOBE = '#f99a25';
@@ -16,11 +17,15 @@ export function MomentumPanel({
   scanId,
   resultId,
   step,
+  kind,
 }: {
   scanId: number;
   resultId: number;
   step: StepResult | null;
+  /** The experiment kind: lobe and simple-man overlays only where lobes are measured. */
+  kind: string;
 }) {
+  const views = viewsFor(kind);
   const [scale, setScale] = useState<'linear' | 'log'>('linear');
   const stepIndex = step?.index ?? 0;
   const q = useQuery({
@@ -72,7 +77,7 @@ export function MomentumPanel({
           scale={scale}
           valueLabel={`counts per cell${q.data && q.data.binning > 1 ? ` (${q.data.binning}×${q.data.binning} summed)` : ''}`}
           overlay={(toPx, view) => {
-            if (!step) return null;
+            if (!step || !views.lobeOverlays) return null;
             const reach = Math.max(Math.abs(view.x0), Math.abs(view.x1), Math.abs(view.y0), Math.abs(view.y1)) * 1.5;
             const [ox, oy] = toPx(0, 0);
             return (
@@ -126,22 +131,32 @@ export function MomentumPanel({
           }}
         />
       ) : null}
-      <p className="mt-2 flex flex-wrap gap-x-4 gap-y-1 text-micro text-ink-600">
-        <span className="inline-flex items-center gap-1.5">
-          <svg width="14" height="14" aria-hidden="true">
-            <circle cx="7" cy="7" r="5" fill="none" stroke={LOBE} strokeWidth="2" />
-          </svg>
-          lobe maximum (fitted direction, at the lobe radius)
-        </span>
-        <span className="inline-flex items-center gap-1.5">
-          <span
-            className="inline-block h-0.5 w-5 bg-ink-400"
-            style={{ background: 'repeating-linear-gradient(90deg,#5a6b80 0 5px,transparent 5px 8px)' }}
-          />
-          simple-man direction (−A at the field maximum)
-        </span>
-        <span>dotted ring: step radius</span>
-      </p>
+      {views.lobeOverlays ? (
+        <p
+          className="mt-2 flex flex-wrap gap-x-4 gap-y-1 text-micro text-ink-600"
+          data-testid="momentum-overlay-legend"
+        >
+          <span className="inline-flex items-center gap-1.5">
+            <svg width="14" height="14" aria-hidden="true">
+              <circle cx="7" cy="7" r="5" fill="none" stroke={LOBE} strokeWidth="2" />
+            </svg>
+            lobe maximum (fitted direction, at the lobe radius)
+          </span>
+          <span className="inline-flex items-center gap-1.5">
+            <span
+              className="inline-block h-0.5 w-5 bg-ink-400"
+              style={{ background: 'repeating-linear-gradient(90deg,#5a6b80 0 5px,transparent 5px 8px)' }}
+            />
+            simple-man direction (−A at the field maximum)
+          </span>
+          <span>dotted ring: step radius</span>
+        </p>
+      ) : (
+        <p className="mt-2 text-micro text-ink-600" data-testid="momentum-plain-note">
+          Counts only: a two-colour phase scan has no lobe direction to mark; its per-pixel phase analysis is in the
+          phase maps below.
+        </p>
+      )}
     </div>
   );
 }

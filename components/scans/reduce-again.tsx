@@ -6,8 +6,19 @@ import { Button } from '@/components/ui';
 import { inputClass } from '@/components/ui/input-class';
 import { apiFetch } from '@/lib/api/client';
 import type { VersionDto } from '@/lib/db/queries/calibrations';
+import type { JobDto } from '@/lib/db/queries/scans';
 
-export function ReduceAgain({ scanId, campaignId }: { scanId: number; campaignId: number }) {
+/** What became of the job this form queued, from the scan's job list (which the scan page keeps fresh). */
+function jobLine(job: JobDto | undefined): { text: string; tone: string } {
+  if (!job || job.status === 'queued') return { text: 'Queued: waiting for a worker.', tone: 'text-lobe-700' };
+  if (job.status === 'running') return { text: 'A worker is reducing it now.', tone: 'text-lobe-700' };
+  if (job.status === 'failed') {
+    return { text: 'The reduction failed; the reason is in the reduction history below.', tone: 'text-fault-700' };
+  }
+  return { text: 'Done: the new result is the one shown above.', tone: 'text-ink-700' };
+}
+
+export function ReduceAgain({ scanId, campaignId, jobs }: { scanId: number; campaignId: number; jobs: JobDto[] }) {
   const qc = useQueryClient();
   const [cal, setCal] = useState<string>('');
   const [set, setSet] = useState<string>('');
@@ -21,7 +32,7 @@ export function ReduceAgain({ scanId, campaignId }: { scanId: number; campaignId
   });
   const m = useMutation({
     mutationFn: () =>
-      apiFetch(`/api/scans/${scanId}/reduce`, {
+      apiFetch<{ reductionJobId: number }>(`/api/scans/${scanId}/reduce`, {
         method: 'POST',
         json: { calibrationId: cal ? Number(cal) : undefined, settingsId: set ? Number(set) : undefined },
       }),
@@ -70,8 +81,12 @@ export function ReduceAgain({ scanId, campaignId }: { scanId: number; campaignId
         </p>
       ) : null}
       {m.isSuccess ? (
-        <p className="w-full text-small text-lobe-700" role="status">
-          Queued. The page updates when the worker is done.
+        <p
+          className={`w-full text-small ${jobLine(jobs.find((j) => j.id === m.data.reductionJobId)).tone}`}
+          role="status"
+          data-testid="reduce-again-status"
+        >
+          {jobLine(jobs.find((j) => j.id === m.data.reductionJobId)).text}
         </p>
       ) : null}
     </div>

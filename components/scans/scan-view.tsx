@@ -10,7 +10,9 @@ import { EmptyState, ErrorState, LoadingBlock, PageHeader, Panel } from '@/compo
 import { apiFetch } from '@/lib/api/client';
 import { formatBytes, formatDateTime } from '@/lib/format';
 import { DistributionsPanel } from './distributions-panel';
+import { FlagControl } from './flag-control';
 import { EXPERIMENT_LABELS, phaseText, regionLabel, stepAxisLabel, valueWithError } from './format';
+import { viewsFor } from './kind-views';
 import { MomentumPanel } from './momentum-panel';
 import { PhasePanel } from './phase-panel';
 import { ReduceAgain } from './reduce-again';
@@ -48,6 +50,10 @@ export function ScanView({ scanId }: { scanId: number }) {
   const { scan, results, jobs, can } = scanQ.data;
   const openJob = jobs.find((j) => j.status === 'queued' || j.status === 'running');
   const stepResult = result?.steps[step] ?? null;
+  const kind = result?.input.experiment_kind ?? scan.experimentKind ?? '';
+  const views = viewsFor(kind);
+  // A quarantined file is not reduced until an analyst releases it on the shift page; the reduce route refuses it.
+  const quarantined = scan.status === 'quarantined';
 
   return (
     <div className="space-y-6">
@@ -128,7 +134,13 @@ export function ScanView({ scanId }: { scanId: number }) {
             <p className="text-small text-ink-600">Your role shows this scan&apos;s metadata only.</p>
           ) : shownId == null ? (
             <EmptyState title="No result yet">
-              {scan.status === 'failed' ? 'See the reason above.' : 'The result appears here when the worker is done.'}
+              {scan.status === 'failed'
+                ? 'See the reason above.'
+                : quarantined
+                  ? 'This file is quarantined: it is not reduced until an analyst releases it on the shift page.'
+                  : scan.status === 'uploaded' && !openJob
+                    ? 'Not queued yet: the campaign needs an approved calibration and settings pair.'
+                    : 'The result appears here when the worker is done.'}
             </EmptyState>
           ) : resultQ.isPending ? (
             <LoadingBlock lines={3} />
@@ -137,7 +149,7 @@ export function ScanView({ scanId }: { scanId: number }) {
           ) : result ? (
             <div className="space-y-3">
               <div className="flex flex-wrap items-baseline gap-x-8 gap-y-2">
-                {result.steps.some((st) => st.offset_deg != null) ? (
+                {views.lobeFigures && result.steps.some((st) => st.offset_deg != null) ? (
                   <div>
                     <p className="text-micro tracking-wide text-ink-500 uppercase">
                       Offset angle (weighted over steps)
@@ -193,7 +205,7 @@ export function ScanView({ scanId }: { scanId: number }) {
                   ))}
                 </ul>
               ) : null}
-              {result.steps.length > 1 && result.steps.some((st) => st.offset_deg != null) ? (
+              {views.lobeFigures && result.steps.length > 1 && result.steps.some((st) => st.offset_deg != null) ? (
                 <XYPlot
                   data-testid="offset-per-step"
                   height={200}
@@ -266,9 +278,31 @@ export function ScanView({ scanId }: { scanId: number }) {
             <dt className="text-ink-500">Uploaded</dt>
             <dd>{formatDateTime(scan.uploadedAt)}</dd>
           </dl>
+          {scan.flagged || can.flag ? (
+            <div className="mt-4 border-t border-ink-100 pt-3">
+              <FlagControl
+                scanId={scanId}
+                campaignId={scan.campaignId}
+                flagged={scan.flagged}
+                flagNote={scan.flagNote}
+                canFlag={can.flag}
+              />
+            </div>
+          ) : null}
           {can.startReduction ? (
             <div className="mt-4 border-t border-ink-100 pt-3">
-              <ReduceAgain scanId={scanId} campaignId={scan.campaignId} />
+              {quarantined ? (
+                <p className="text-small text-ink-600" data-testid="reduce-quarantined">
+                  Quarantined files are reduced once released.{' '}
+                  {scan.shiftId ? (
+                    <Link className="text-lobe-700 hover:underline" href={`/shifts/${scan.shiftId}`}>
+                      Review it on the shift page
+                    </Link>
+                  ) : null}
+                </p>
+              ) : (
+                <ReduceAgain scanId={scanId} campaignId={scan.campaignId} jobs={jobs} />
+              )}
             </div>
           ) : null}
         </Panel>
@@ -293,7 +327,7 @@ export function ScanView({ scanId }: { scanId: number }) {
               <span className="text-small text-ink-600">
                 {stepAxisLabel(result.input.step_quantity, result.input.step_units)} ={' '}
                 {formatNumber(stepResult?.value, 4)}
-                {stepResult?.offset_deg != null
+                {views.lobeFigures && stepResult?.offset_deg != null
                   ? ` · offset ${valueWithError(stepResult.offset_deg, stepResult.offset_err_deg, '°')}`
                   : ''}
               </span>
@@ -304,11 +338,17 @@ export function ScanView({ scanId }: { scanId: number }) {
               title="Momentum image"
               description="Calibrated counts on the lab momentum grid (p_z integrated), step shown above."
             >
-              <MomentumPanel scanId={scanId} resultId={shownId} step={stepResult} />
+              <MomentumPanel scanId={scanId} resultId={shownId} step={stepResult} kind={kind} />
             </Panel>
             <Panel title="Distributions">
               {stepResult ? (
-                <DistributionsPanel scanId={scanId} resultId={shownId} step={stepResult} settings={result.settings} />
+                <DistributionsPanel
+                  scanId={scanId}
+                  resultId={shownId}
+                  step={stepResult}
+                  settings={result.settings}
+                  kind={kind}
+                />
               ) : null}
             </Panel>
           </div>
@@ -317,7 +357,7 @@ export function ScanView({ scanId }: { scanId: number }) {
               <StepTable result={result} selected={step} onSelect={setStep} />
             </div>
           </Panel>
-          {result.input.experiment_kind === 'two_color_phase' ? (
+          {views.phaseMaps ? (
             <Panel title="Phase maps" description="Per-cell analysis of the yield against the relative ω–2ω phase.">
               <PhasePanel scanId={scanId} resultId={shownId} result={result} />
             </Panel>

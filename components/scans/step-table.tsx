@@ -4,6 +4,7 @@
 import { formatNumber } from '@/components/plots/scales';
 import type { LobelineResult } from '@/reduction/formats';
 import { stepAxisLabel, valueWithError } from './format';
+import { viewsFor } from './kind-views';
 
 function stepWarnings(warnings: string[], index: number): string[] {
   const re = new RegExp(`\\bsteps? (?:[0-9, ]*, )?${index}\\b(?![.\\d])`);
@@ -22,8 +23,10 @@ export function StepTable({
 }) {
   const th =
     'border-b border-ink-200 bg-ink-50 px-3 py-2 text-left text-micro font-semibold tracking-wide text-ink-600 uppercase';
-  const hasOffset = result.steps.some((s) => s.offset_deg != null);
-  const hasIntensity = result.steps.some((s) => s.intensity_from_radius_Wcm2 != null);
+  const views = viewsFor(result.input.experiment_kind);
+  const hasOffset = views.lobeFigures && result.steps.some((s) => s.offset_deg != null);
+  const hasRadius = views.lobeFigures;
+  const hasIntensity = views.lobeFigures && result.steps.some((s) => s.intensity_from_radius_Wcm2 != null);
   const td = 'border-b border-ink-100 px-3 py-1.5 font-mono text-small whitespace-nowrap text-ink-800';
   return (
     <div className="overflow-x-auto">
@@ -37,7 +40,7 @@ export function StepTable({
             <th className={th}>Counts</th>
             {hasOffset ? <th className={th}>Offset (deg)</th> : null}
             {hasOffset ? <th className={th}>Transverse shift (a.u.)</th> : null}
-            <th className={th}>Radius (a.u.)</th>
+            {hasRadius ? <th className={th}>Radius (a.u.)</th> : null}
             {hasIntensity ? <th className={th}>Intensity from radius (W/cm²)</th> : null}
             <th className={th}>Warnings</th>
           </tr>
@@ -63,7 +66,7 @@ export function StepTable({
                   </td>
                 ) : null}
                 {hasOffset ? <td className={td}>{formatNumber(shift, 3)}</td> : null}
-                <td className={td}>{valueWithError(s.radius_au, s.radius_err_au)}</td>
+                {hasRadius ? <td className={td}>{valueWithError(s.radius_au, s.radius_err_au)}</td> : null}
                 {hasIntensity ? (
                   <td className={td}>
                     {valueWithError(s.intensity_from_radius_Wcm2, s.intensity_from_radius_err_Wcm2)}
@@ -76,10 +79,13 @@ export function StepTable({
         </tbody>
       </table>
       <p className="mt-2 text-micro text-ink-500">
-        Errors are one standard deviation of the Poisson bootstrap ({result.settings.bootstrap.resamples} resamples).
-        Intensity in the file&apos;s convention (
-        {result.input.step_quantity === 'intensity' ? 'as scanned' : 'adiabatic estimate'}). Click a row to show that
-        step.
+        {hasOffset || hasRadius
+          ? `Errors are one standard deviation of the Poisson bootstrap (${result.settings.bootstrap.resamples} resamples). `
+          : ''}
+        {hasIntensity
+          ? `Intensity in the file's convention (${result.input.step_quantity === 'intensity' ? 'as scanned' : 'adiabatic estimate'}). `
+          : ''}
+        Click a row to show that step.
       </p>
     </div>
   );

@@ -67,6 +67,14 @@ export function UserMenu({ name, email, roles }: UserMenuProps) {
             ) : null}
           </div>
           <div className="my-1 border-t border-ink-100" />
+          <a
+            href="/account"
+            role="menuitem"
+            data-testid="account-link"
+            className="block w-full rounded-md px-3 py-2 text-left text-body text-ink-800 hover:bg-ink-50"
+          >
+            Your account and password
+          </a>
           <Link
             href="/settings/notifications"
             role="menuitem"

@@ -1,5 +1,12 @@
+import { z } from 'zod';
+
 // Client-side fetch for the JSON API (used with TanStack Query). A non-2xx answer is rebuilt into an ApiError from
 // the `{ error: { code, message, details } }` body; a network failure becomes `offline:api`.
+
+// In the browser, zod would probe for `new Function` (its faster parser) and the page's Content-Security-Policy,
+// which allows no eval, reports each probe as a violation. Lobeline's client-side parsing is small: use the plain
+// parser there. (lib/api/client.ts is loaded by the root providers, so this runs before any parse.)
+if (typeof window !== 'undefined') z.config({ jitless: true });
 
 export class ApiError extends Error {
   readonly code: string;

@@ -9,10 +9,18 @@
 //
 // Access is decided inside the handler through lib/policy.ts; a `forbidden:*` refusal is audited here, and so is
 // the 404 that answers an id of a team the caller may not see (context.hiddenRefusal, see authorizeObject).
+//
+// Cross-site request forgery (OWASP ASVS 4.0 V4.2.2 and V13.2.3; RFC 6454 for the Origin header): every
+// POST/PUT/PATCH/DELETE here must come from the app's own origin (APP_ORIGIN), judged by Origin, else by
+// Sec-Fetch-Site, else by the Referer's origin; a request with none of the three is not from a browser page and
+// passes. A body is accepted only as application/json (a cross-site HTML form can only send form encodings or
+// text/plain) and only up to the route's size limit (413 otherwise; ASVS V13.1.3 / V12.1.1). next-auth's own
+// routes (app/api/auth/[...nextauth]) do not use this wrapper and keep next-auth's CSRF token.
 import { z } from 'zod';
 import { recordAudit } from '@/lib/audit';
 import { getActor } from '@/lib/auth/actor';
 import { ipFromHeaders } from '@/lib/auth/sign-in';
+import { getEnv } from '@/lib/env';
 import { AppError, toAppError } from '@/lib/errors';
 import { log } from '@/lib/log';
 import type { Actor } from '@/lib/policy';
@@ -28,7 +36,14 @@ export interface RouteSpec<P extends Schema | undefined, Q extends Schema | unde
   body?: B;
   /** Default true: without a signed-in actor the handler is not called and the answer is 401. */
   auth?: boolean;
+  /** Largest accepted request body in bytes (default DEFAULT_MAX_BODY_BYTES); a larger one answers 413. */
+  maxBodyBytes?: number;
 }
+
+/** Body limit of a JSON route unless it says otherwise: 64 KiB is ample for every form Lobeline has. */
+export const DEFAULT_MAX_BODY_BYTES = 64 * 1024;
+
+const STATE_CHANGING = new Set(['POST', 'PUT', 'PATCH', 'DELETE']);
 
 export interface RouteContext<P, Q, B, A> {
   actor: A;
@@ -87,6 +102,7 @@ export function apiRoute(
     const ip = ipFromHeaders(request.headers);
     let actor: Actor | null = null;
     try {
+      if (STATE_CHANGING.has(request.method.toUpperCase())) assertSameOrigin(request);
       const rawParams = context?.params ? await context.params : {};
       const params = spec.params ? parseOrThrow(spec.params, rawParams, 'path') : undefined;
       const url = new URL(request.url);
@@ -94,7 +110,9 @@ export function apiRoute(
       // Authentication comes before the body is read, so a signed-out caller learns nothing about the schema.
       actor = await getActor();
       if (spec.auth !== false && !actor) throw new AppError('unauthorized:auth');
-      const body = spec.body ? parseOrThrow(spec.body, await readJson(request), 'body') : undefined;
+      const body = spec.body
+        ? parseOrThrow(spec.body, await readJson(request, spec.maxBodyBytes ?? DEFAULT_MAX_BODY_BYTES), 'body')
+        : undefined;
       const result = await handler({ actor, params, query, body, request, ip });
       if (result instanceof Response) return result;
       return jsonResponse(result ?? { ok: true });
@@ -169,9 +187,80 @@ function parseOrThrow(schema: Schema, value: unknown, where: 'path' | 'query' | 
   });
 }
 
-async function readJson(request: Request): Promise<unknown> {
-  const text = await request.text();
+/**
+ * The origin check of a state-changing request. Browsers send Origin on every cross-origin request and on every
+ * same-origin POST/PUT/PATCH/DELETE (Fetch standard); "null" (a sandboxed or privacy-hidden origin) is refused.
+ */
+export function assertSameOrigin(request: Request): void {
+  const appOrigin = getEnv().APP_ORIGIN;
+  const h = request.headers;
+  const refuse = (seen: string) => {
+    throw new AppError('forbidden:api', {
+      message: 'This request did not come from a Lobeline page, so it was refused. Reload the page and try again.',
+      context: { csrf: true, seen: seen.slice(0, 200) },
+    });
+  };
+  const origin = h.get('origin');
+  if (origin !== null) {
+    if (origin !== appOrigin) refuse(`origin ${origin}`);
+    return;
+  }
+  const site = h.get('sec-fetch-site');
+  if (site !== null) {
+    if (site !== 'same-origin' && site !== 'none') refuse(`sec-fetch-site ${site}`);
+    return;
+  }
+  const referer = h.get('referer');
+  if (referer !== null) {
+    let refOrigin = '';
+    try {
+      refOrigin = new URL(referer).origin;
+    } catch {
+      refOrigin = '';
+    }
+    if (refOrigin !== appOrigin) refuse(`referer ${referer}`);
+  }
+}
+
+function tooLarge(limit: number): AppError {
+  const kib = Math.max(1, Math.floor(limit / 1024));
+  return new AppError('too_large:api', {
+    message: `The request body is larger than this address accepts (at most ${kib} KiB). Send less data at once.`,
+    context: { limit },
+  });
+}
+
+/** The body as text, refusing (413) past `limit` bytes, by Content-Length first and while streaming. */
+async function readLimited(request: Request, limit: number): Promise<string> {
+  const declared = Number(request.headers.get('content-length') ?? Number.NaN);
+  if (Number.isFinite(declared) && declared > limit) throw tooLarge(limit);
+  if (!request.body) return '';
+  const reader = request.body.getReader();
+  const chunks: Uint8Array[] = [];
+  let total = 0;
+  for (;;) {
+    const { done, value } = await reader.read();
+    if (done) break;
+    total += value.byteLength;
+    if (total > limit) {
+      await reader.cancel().catch(() => undefined);
+      throw tooLarge(limit);
+    }
+    chunks.push(value);
+  }
+  return new TextDecoder().decode(Buffer.concat(chunks));
+}
+
+async function readJson(request: Request, limit: number): Promise<unknown> {
+  const text = await readLimited(request, limit);
   if (text.trim() === '') return undefined;
+  const type = (request.headers.get('content-type') ?? '').split(';')[0]?.trim().toLowerCase();
+  if (type !== 'application/json') {
+    throw new AppError('unsupported_media:api', {
+      message: 'Send this request as JSON (Content-Type: application/json).',
+      details: ['request body: must be sent with Content-Type: application/json.'],
+    });
+  }
   try {
     return JSON.parse(text);
   } catch {

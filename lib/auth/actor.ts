@@ -42,7 +42,9 @@ async function currentClaims(): Promise<SessionClaims | null> {
   if (override) return override();
   const session = await getServerSession(authOptions);
   const userId = session?.userId;
-  if (typeof userId === 'number' && Number.isInteger(userId) && userId > 0) return { userId };
+  if (typeof userId === 'number' && Number.isInteger(userId) && userId > 0) {
+    return { userId, sessionVersion: typeof session?.sessionVersion === 'number' ? session.sessionVersion : 0 };
+  }
   // No valid session: if the request carried a session cookie anyway, it was refused — put that in the trail.
   const jar = await cookies();
   const raw = SESSION_COOKIES.map((n) => jar.get(n)?.value).find((v) => !!v);
@@ -50,11 +52,11 @@ async function currentClaims(): Promise<SessionClaims | null> {
   return null;
 }
 
-/** The signed-in actor, or null (no session, unknown or deactivated user). */
+/** The signed-in actor, or null (no session, unknown or deactivated user, or a session that was ended). */
 export async function getActor(): Promise<Actor | null> {
   const claims = await currentClaims();
   if (!claims) return null;
-  return getActorByUserId({ userId: claims.userId });
+  return getActorByUserId({ userId: claims.userId, sessionVersion: claims.sessionVersion });
 }
 
 /** The signed-in actor; throws AppError('unauthorized:auth') without one. */

@@ -4,6 +4,8 @@ import type { FacilityRole, TeamRole } from '@/lib/policy';
 declare module 'next-auth' {
   interface Session {
     userId?: number;
+    /** Session version the token was issued with (see lib/auth/actor.ts). */
+    sessionVersion?: number;
     memberships: { teamId: number; role: TeamRole }[];
     facilityRoles: FacilityRole[];
   }
@@ -12,6 +14,8 @@ declare module 'next-auth' {
 declare module 'next-auth/jwt' {
   interface JWT {
     userId?: number;
+    /** The account's session version at sign-in; a later sign-out or password change raises the account's. */
+    sv?: number;
     memberships?: { teamId: number; role: TeamRole }[];
     facilityRoles?: FacilityRole[];
   }

@@ -5,9 +5,10 @@ import type { NextAuthOptions } from 'next-auth';
 import CredentialsImport from 'next-auth/providers/credentials';
 import { z } from 'zod';
 import { recordAudit } from '@/lib/audit';
-import { getActorByUserId } from '@/lib/db/queries/accounts';
+import { bumpSessionVersion, getActorByUserId } from '@/lib/db/queries/accounts';
 import { getEnv } from '@/lib/env';
 import { log } from '@/lib/log';
+import { checkRedirectTarget } from './redirect';
 import { attemptSignIn, ipFromHeaders } from './sign-in';
 
 // next-auth's provider modules are CommonJS with `exports.default`. Next's bundler unwraps that default; Node's own ESM
@@ -45,7 +46,14 @@ export const authOptions: NextAuthOptions = {
           log.error('sign-in check failed', { err });
           throw new Error('unavailable');
         }
-        if (outcome.ok) return { id: String(outcome.user.id), email: outcome.user.email, name: outcome.user.name };
+        if (outcome.ok) {
+          return {
+            id: String(outcome.user.id),
+            email: outcome.user.email,
+            name: outcome.user.name,
+            sessionVersion: outcome.user.sessionVersion,
+          };
+        }
         // next-auth passes a thrown message to the sign-in page as `error`; null becomes `CredentialsSignin`.
         if (outcome.reason === 'rate_limited' || outcome.reason === 'deactivated') throw new Error(outcome.reason);
         return null;
@@ -53,8 +61,19 @@ export const authOptions: NextAuthOptions = {
     }),
   ],
   callbacks: {
+    // next-auth's callbackUrl: only a path of the app's own origin (lib/auth/redirect.ts), else home.
+    redirect({ url, baseUrl }) {
+      const origin = new URL(baseUrl).origin;
+      const r = checkRedirectTarget(url, origin);
+      return r.ok ? `${origin}${r.path}` : origin;
+    },
     async jwt({ token, user, trigger }) {
-      if (user) token.userId = Number(user.id);
+      if (user) {
+        token.userId = Number(user.id);
+        // Taken once, at sign-in; an update never refreshes it, so a revoked token stays revoked.
+        const sv = (user as { sessionVersion?: unknown }).sessionVersion;
+        token.sv = typeof sv === 'number' ? sv : 0;
+      }
       if ((user || trigger === 'update') && typeof token.userId === 'number') {
         const actor = await getActorByUserId({ userId: token.userId });
         token.memberships = (actor?.memberships ?? []).map((m) => ({ teamId: m.teamId, role: m.role }));
@@ -64,6 +83,7 @@ export const authOptions: NextAuthOptions = {
     },
     async session({ session, token }) {
       session.userId = typeof token.userId === 'number' ? token.userId : undefined;
+      session.sessionVersion = typeof token.sv === 'number' ? token.sv : 0;
       session.memberships = token.memberships ?? [];
       session.facilityRoles = token.facilityRoles ?? [];
       return session;
@@ -72,6 +92,12 @@ export const authOptions: NextAuthOptions = {
   events: {
     async signOut({ token }) {
       const userId = typeof token?.userId === 'number' ? token.userId : null;
+      // Signing out ends every session of the account, not only this browser's (OWASP ASVS 4.0 V3.3.1).
+      if (userId !== null) {
+        await bumpSessionVersion({ userId }).catch((err: unknown) =>
+          log.error('sign-out: ending sessions failed', { err }),
+        );
+      }
       await recordAudit({
         action: 'auth.sign_out',
         actorId: userId,

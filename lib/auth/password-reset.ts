@@ -17,6 +17,30 @@ import { hashToken, looksLikeToken, newToken, RESET_TTL_MS, type TokenState } fr
 
 export const RESETS_PER_HOUR = 3;
 
+const pending = new Set<Promise<void>>();
+
+/**
+ * What the request route calls: starts requestPasswordReset off the request path and returns at once, so the
+ * answer takes the same time whether or not the account exists (OWASP ASVS 4.0 V2.5.x / V3.x account enumeration
+ * through timing; the lookup, the token and the e-mail all happen after the answer is sent).
+ */
+export function schedulePasswordResetRequest(input: { email: string; ip: string }): void {
+  const work: Promise<void> = requestPasswordReset(input)
+    .catch((err: unknown) => log.error('password reset request failed', { err }))
+    .finally(() => pending.delete(work));
+  pending.add(work);
+}
+
+/** How many scheduled reset requests are still running (for tests and a clean shutdown). */
+export function pendingPasswordResetRequests(): number {
+  return pending.size;
+}
+
+/** Waits until every scheduled reset request has finished. */
+export async function settlePasswordResetRequests(): Promise<void> {
+  while (pending.size > 0) await Promise.all([...pending]);
+}
+
 /** Always resolves the same way for known and unknown addresses (mail failures are logged, not shown). */
 export async function requestPasswordReset(input: { email: string; ip: string }): Promise<void> {
   const email = normalizeEmail(input.email);

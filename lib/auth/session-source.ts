@@ -7,6 +7,11 @@ import { getEnv } from '@/lib/env';
 
 export interface SessionClaims {
   userId: number;
+  /**
+   * The account's session version when the token was issued (lib/db/queries/accounts.ts getActorByUserId refuses
+   * a token whose version is no longer the account's). Absent only in claims a test hook makes up.
+   */
+  sessionVersion?: number;
 }
 
 export type SessionSource = () => Promise<SessionClaims | null>;
@@ -54,5 +59,6 @@ export async function inspectSessionToken(
   if (typeof userId !== 'number' || !Number.isInteger(userId) || userId <= 0) return { rejected: 'invalid' };
   const exp = decoded?.exp;
   if (typeof exp === 'number' && exp * 1000 < Date.now()) return { rejected: 'expired' };
-  return { claims: { userId } };
+  const sv = decoded?.sv;
+  return { claims: { userId, sessionVersion: typeof sv === 'number' && Number.isInteger(sv) ? sv : 0 } };
 }

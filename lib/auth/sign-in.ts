@@ -1,54 +1,53 @@
-// The credentials check behind the sign-in form, with the failed-attempt limits (C1) and the audit trail.
-//
-// Limits (sliding window of SIGN_IN_WINDOW_MINUTES):
-//   - an account is locked after MAX_FAILURES_PER_ACCOUNT failed attempts since its last successful sign-in;
-//   - an address is locked after MAX_FAILURES_PER_IP failed attempts, whatever the accounts.
-// Only real failures are counted (a refused attempt while locked is audited but not counted), so a lock ends
-// SIGN_IN_WINDOW_MINUTES after the failure that caused it. Counts come from the `sign_in_attempts` table, so the
-// limits hold across server processes.
+// The credentials check behind the sign-in form, with the sign-in throttle (lib/auth/throttle.ts) and the audit
+// trail. Failures slow the account down (a growing wait, at most MAX_ACCOUNT_WAIT_SECONDS) instead of locking it,
+// and an address that fails too often is refused until the window ends. The client address comes from
+// ipFromHeaders below, so a client cannot spread its attempts over addresses it makes up. Every attempt is also
+// kept in `sign_in_attempts` for the record.
 import { recordAudit } from '@/lib/audit';
-import {
-  countFailedSignIns,
-  getUserForSignIn,
-  markSignedIn,
-  normalizeEmail,
-  oldestFailureSince,
-  recordSignInAttempt,
-} from '@/lib/db/queries/accounts';
+import { getUserForSignIn, markSignedIn, normalizeEmail, recordSignInAttempt } from '@/lib/db/queries/accounts';
 import { log } from '@/lib/log';
+import { clientAddressFromHeaders } from './client-address';
 import { DUMMY_HASH, verifyPassword } from './password';
+import {
+  checkSignInThrottle,
+  FREE_FAILURES_PER_ACCOUNT,
+  MAX_ACCOUNT_WAIT_SECONDS,
+  MAX_FAILURES_PER_ADDRESS,
+  recordSignInFailure,
+  recordSignInSuccess,
+  SIGN_IN_WINDOW_SECONDS,
+} from './throttle';
 
-export const SIGN_IN_WINDOW_MINUTES = 15;
-export const MAX_FAILURES_PER_ACCOUNT = 5;
-export const MAX_FAILURES_PER_IP = 20;
+export const SIGN_IN_WINDOW_MINUTES = SIGN_IN_WINDOW_SECONDS / 60;
+export { FREE_FAILURES_PER_ACCOUNT, MAX_ACCOUNT_WAIT_SECONDS, MAX_FAILURES_PER_ADDRESS };
 
 export type SignInFailure = 'unknown_account' | 'wrong_password' | 'deactivated' | 'rate_limited';
 
 export type SignInOutcome =
-  | { ok: true; user: { id: number; email: string; name: string } }
+  | { ok: true; user: { id: number; email: string; name: string; sessionVersion: number } }
   | { ok: false; reason: SignInFailure; retryAfterSeconds?: number };
 
-/** Checks e-mail and password, applies the limits, records the attempt and an audit event. Never throws for bad input. */
+/** Checks e-mail and password, applies the throttle, records the attempt and an audit event. Never throws for bad input. */
 export async function attemptSignIn(input: { email: string; password: string; ip: string }): Promise<SignInOutcome> {
   const email = normalizeEmail(input.email);
   const ip = input.ip || 'unknown';
-  const windowMs = SIGN_IN_WINDOW_MINUTES * 60_000;
-  const since = new Date(Date.now() - windowMs);
 
-  const counts = await countFailedSignIns({ email, ip, since });
-  if (counts.byAccount >= MAX_FAILURES_PER_ACCOUNT || counts.byIp >= MAX_FAILURES_PER_IP) {
-    const by = counts.byAccount >= MAX_FAILURES_PER_ACCOUNT ? 'account' : 'ip';
-    const oldest = await oldestFailureSince({ email, ip, since, by });
-    const retryAfterSeconds = oldest ? Math.max(1, Math.ceil((oldest.getTime() + windowMs - Date.now()) / 1000)) : 60;
+  const verdict = await checkSignInThrottle({ email, ip });
+  if (!verdict.allowed) {
     await recordAudit({
       action: 'auth.sign_in_failed',
       actorEmail: email,
       ip,
       outcome: 'refused',
-      details: { reason: 'rate_limited', limitedBy: by, failures: by === 'account' ? counts.byAccount : counts.byIp },
+      details: {
+        reason: 'rate_limited',
+        limitedBy: verdict.limitedBy === 'address' ? 'ip' : 'account',
+        failures: verdict.failures,
+        retryAfterSeconds: verdict.retryAfterSeconds,
+      },
     });
-    log.warn('sign-in rate-limited', { limitedBy: by, ip });
-    return { ok: false, reason: 'rate_limited', retryAfterSeconds };
+    log.warn('sign-in throttled', { limitedBy: verdict.limitedBy, ip });
+    return { ok: false, reason: 'rate_limited', retryAfterSeconds: verdict.retryAfterSeconds };
   }
 
   const user = await getUserForSignIn({ email });
@@ -62,6 +61,8 @@ export async function attemptSignIn(input: { email: string; password: string; ip
 
   await recordSignInAttempt({ email, ip, succeeded: reason === null });
   if (reason !== null || !user) {
+    // A deactivated account with the right password is not a guess: it does not count against the limits.
+    if (reason !== 'deactivated') await recordSignInFailure({ email, ip });
     await recordAudit({
       action: 'auth.sign_in_failed',
       actorId: user?.id ?? null,
@@ -75,6 +76,7 @@ export async function attemptSignIn(input: { email: string; password: string; ip
     return { ok: false, reason: reason ?? 'unknown_account' };
   }
 
+  await recordSignInSuccess({ email });
   await markSignedIn({ userId: user.id });
   await recordAudit({
     action: 'auth.sign_in',
@@ -84,31 +86,24 @@ export async function attemptSignIn(input: { email: string; password: string; ip
     targetId: user.id,
     ip,
   });
-  return { ok: true, user: { id: user.id, email: user.email, name: user.name } };
+  return {
+    ok: true,
+    user: { id: user.id, email: user.email, name: user.name, sessionVersion: user.sessionVersion },
+  };
 }
 
 /**
- * Client address for the limits and the audit trail: the LAST entry of x-forwarded-for (the address the nearest
- * proxy saw; a client can only prepend entries), else x-real-ip, else 'unknown'. Next sets x-forwarded-for to the
- * socket address only when the request has none, so without a reverse proxy in front a client can choose this
- * value: the per-account limit does not depend on it.
+ * Client address for the limits and the audit trail: from x-forwarded-for as rewritten by scripts/serve.ts under
+ * TRUSTED_PROXY_HOPS (see lib/auth/client-address.ts), never a value the client chose.
  */
 export function ipFromHeaders(headers: Headers | Record<string, unknown> | undefined): string {
-  const get = (name: string): string | undefined => {
-    if (!headers) return undefined;
-    if (headers instanceof Headers) return headers.get(name) ?? undefined;
-    const v = headers[name];
-    return Array.isArray(v) ? String(v[0]) : typeof v === 'string' ? v : undefined;
-  };
-  const forwarded = get('x-forwarded-for')?.split(',').at(-1)?.trim();
-  const ip = forwarded || get('x-real-ip')?.trim() || 'unknown';
-  return ip.slice(0, 64);
+  return clientAddressFromHeaders(headers);
 }
 
 /** The sentence shown on the sign-in page for each failure code (never says whether the account exists). */
 export const SIGN_IN_MESSAGES: Record<string, string> = {
   CredentialsSignin: 'The e-mail address or password is not right.',
   deactivated: 'This account has been deactivated. Ask a Lobeline administrator if you need access again.',
-  rate_limited: `Too many failed sign-ins. Please wait ${SIGN_IN_WINDOW_MINUTES} minutes before trying again.`,
+  rate_limited: 'Too many failed sign-ins. Please wait a minute before trying again.',
   unavailable: 'Signing in is not possible right now because a service is not answering. Please try again in a minute.',
 };

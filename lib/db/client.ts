@@ -1,5 +1,11 @@
 // The one Sequelize instance (MariaDB), built from the environment. Node only.
-import { Sequelize } from 'sequelize';
+import {
+  ConnectionRefusedError,
+  ConnectionTimedOutError,
+  HostNotFoundError,
+  HostNotReachableError,
+  Sequelize,
+} from 'sequelize';
 import { getEnv } from '@/lib/env';
 import { log } from '@/lib/log';
 
@@ -10,6 +16,18 @@ const g = globalThis as typeof globalThis & { __lobelineDb?: Cache };
 // Kept on globalThis so Next's dev reloads and repeated imports share one pool.
 if (!g.__lobelineDb) g.__lobelineDb = {};
 const state: Cache = g.__lobelineDb;
+
+/**
+ * Retry of a statement whose connection could not be opened. Only errors raised before the statement reached the
+ * server are retried (so an INSERT is never sent twice); waits 200, 400, 800, 1600 ms (3 s in all), short enough
+ * for a web request. Longer outages are ridden out by the reduction queue's back-off (lib/queue/reduction-queue.ts).
+ */
+export const DB_RETRY = {
+  max: 5,
+  match: [ConnectionRefusedError, ConnectionTimedOutError, HostNotFoundError, HostNotReachableError],
+  backoffBase: 200,
+  backoffExponent: 2,
+};
 
 export function getSequelize(): Sequelize {
   if (!state.sequelize) {
@@ -26,6 +44,7 @@ export function getSequelize(): Sequelize {
       logging: (sql: string, timingMs?: number) => {
         if (dblog.isLevelEnabled('debug')) dblog.debug('sql', { sql: sql.slice(0, 2000), ms: timingMs });
       },
+      retry: DB_RETRY,
       pool: { max: 10, min: 0, acquire: 20_000, idle: 10_000, evict: 5_000 },
       dialectOptions: {
         connectTimeout: 5_000,

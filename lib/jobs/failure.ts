@@ -55,10 +55,8 @@ export function explainFailure(err: unknown): FailureExplanation {
       };
     }
     if (err.surface === 'storage' || err.surface === 'database' || err.surface === 'queue') {
-      return {
-        message: `${err.userMessage} The reduction will be tried again automatically.`,
-        transient: true,
-      };
+      const what = { storage: 'file store (S3)', database: 'database', queue: 'job queue (Redis)' }[err.surface];
+      return { message: `The ${what} did not answer.`, transient: true };
     }
     return { message: err.userMessage, transient: false };
   }
@@ -69,8 +67,7 @@ export function explainFailure(err: unknown): FailureExplanation {
   const name = (err as { name?: string })?.name ?? '';
   if (/SequelizeConnection|Timeout|HostNotReachable/i.test(name) || /ECONN|ETIMEDOUT|EPIPE/.test(String(err))) {
     return {
-      message:
-        'A service Lobeline depends on (database or file store) did not answer. The reduction will be tried again.',
+      message: 'A service Lobeline depends on (database or file store) did not answer.',
       transient: true,
     };
   }
@@ -82,4 +79,41 @@ export function explainFailure(err: unknown): FailureExplanation {
   }
   const text = err instanceof Error ? err.message : String(err);
   return { message: `The reduction stopped with an unexpected error: ${text}`, transient: true };
+}
+
+export interface AttemptOutcome {
+  /** No further attempt will be made (permanent problem, or the last attempt). */
+  final: boolean;
+  /** For reduction_jobs.error_message. */
+  jobMessage: string;
+  /** For scans.status_message while the job waits for its next attempt (null when final). */
+  scanMessage: string | null;
+}
+
+/**
+ * What to tell users after a failed attempt. Only a transient failure with attempts left mentions another attempt
+ * (with its approximate wait); a final one says how many attempts were made and that nothing more will happen
+ * by itself, so no message promises a retry that will not come.
+ *
+ * @param attemptNo - this attempt, 1-based
+ * @param maxAttempts - attempts allowed in total
+ * @param retryInMs - wait before the next attempt (used only when one is left)
+ */
+export function describeAttempt(
+  ex: FailureExplanation,
+  attemptNo: number,
+  maxAttempts: number,
+  retryInMs: number,
+): AttemptOutcome {
+  const final = !ex.transient || attemptNo >= maxAttempts;
+  if (final) {
+    const tail = ex.transient
+      ? `\nGave up after ${attemptNo} attempt${attemptNo === 1 ? '' : 's'}; it will not be tried again by itself. ` +
+        'Reduce the scan again once the services answer.'
+      : '';
+    return { final, jobMessage: `${ex.message}${tail}`, scanMessage: null };
+  }
+  const seconds = Math.max(1, Math.round(retryInMs / 1000));
+  const next = `Attempt ${attemptNo} of ${maxAttempts} failed; the next one starts in about ${seconds} s.`;
+  return { final, jobMessage: `${next} ${ex.message}`, scanMessage: `${next} ${ex.message}` };
 }

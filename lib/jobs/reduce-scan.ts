@@ -14,7 +14,7 @@ import { UniqueConstraintError } from 'sequelize';
 import { recordAudit } from '@/lib/audit';
 import { getDb } from '@/lib/db';
 import { log } from '@/lib/log';
-import type { ReductionJobData, ReductionJobOutcome } from '@/lib/queue/reduction-queue';
+import { type ReductionJobData, type ReductionJobOutcome, reductionBackoffMs } from '@/lib/queue/reduction-queue';
 import { buckets, getObjectStream, putObject } from '@/lib/storage/s3';
 import {
   AnalysisSettingsVersion,
@@ -30,7 +30,7 @@ import { type LobelineResult, SOFTWARE_VERSION } from '@/reduction/formats';
 import { openScanPath } from '@/reduction/hdf5/node';
 import { ScanFileRefusedError } from '@/reduction/hdf5/problems';
 import { runReduction } from './engine';
-import { explainFailure, ReductionRefusedError } from './failure';
+import { describeAttempt, explainFailure, ReductionRefusedError } from './failure';
 import { notifyReductionFailure } from './notify';
 import { preflight } from './preflight';
 
@@ -104,6 +104,11 @@ export async function processReduction(data: ReductionJobData, ctx: JobContext):
   const { scanId, calibrationId, settingsId, reductionJobId } = data;
   const job = await ReductionJob.findByPk(reductionJobId);
   if (!job) throw new ReductionRefusedError(`The reduction request ${reductionJobId} no longer exists.`);
+  if (job.status === 'failed') {
+    // A stale queue entry (e.g. one that Redis accepted after the web request had already given up and recorded the
+    // failure): the request is closed, so nothing runs; asking again opens a new one.
+    throw new ReductionRefusedError(`The reduction request ${reductionJobId} was already closed as failed.`);
+  }
   const existing = await ScanResult.findOne({
     where: { scan_id: scanId, calibration_id: calibrationId, settings_id: settingsId },
   });
@@ -225,22 +230,22 @@ export async function processReduction(data: ReductionJobData, ctx: JobContext):
   } catch (err) {
     const ex = explainFailure(err);
     const attemptNo = ctx.attemptsMade + 1;
-    const final = !ex.transient || attemptNo >= ctx.maxAttempts;
+    const outcome = describeAttempt(ex, attemptNo, ctx.maxAttempts, reductionBackoffMs(attemptNo));
+    const final = outcome.final;
     jlog.warn('reduction attempt failed', { scanId, reductionJobId, attemptNo, final, err });
     if (final) {
-      await markReductionFailed({ reductionJobId, scanId, message: ex.message, attempts: attemptNo, context });
+      await markReductionFailed({ reductionJobId, scanId, message: outcome.jobMessage, attempts: attemptNo, context });
     } else {
       await ReductionJob.update(
-        { status: 'queued', error_message: `Attempt ${attemptNo} of ${ctx.maxAttempts} failed: ${ex.message}` },
+        { status: 'queued', error_message: outcome.jobMessage },
         { where: { id: reductionJobId } },
       ).catch(() => undefined);
-      await Scan.update(
-        { status: 'queued', status_message: `Attempt ${attemptNo} failed; trying again shortly. ${ex.message}` },
-        { where: { id: scanId } },
-      ).catch(() => undefined);
+      await Scan.update({ status: 'queued', status_message: outcome.scanMessage }, { where: { id: scanId } }).catch(
+        () => undefined,
+      );
     }
     if (ex.transient && !final) throw err;
-    throw err instanceof ReductionRefusedError ? err : new ReductionRefusedError(ex.message);
+    throw err instanceof ReductionRefusedError ? err : new ReductionRefusedError(outcome.jobMessage);
   } finally {
     try {
       scanFile?.close();

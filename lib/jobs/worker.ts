@@ -2,18 +2,27 @@
 // MariaDB, Redis and S3. A worker killed mid-job (SIGKILL, power loss) stops renewing its lock; after
 // `lockDuration` another worker's stalled-job check moves the job back to waiting and it runs again (STACK.md:
 // recovery worked here with lockDuration = stalledInterval = 5000 ms).
+//
+// Keeping the lock of a CPU-heavy job: BullMQ renews the lock from a timer every lockDuration / 2, so the event loop
+// must not be blocked longer than that. The engine awaits after every step (lib/jobs/engine.ts, `setImmediate`), and
+// one step of the largest accepted frame is far shorter than 2.5 s (N1 in the README's bench section: one 512×512
+// step in well under a second on this 2-core machine), so the 5 s lock is kept; a larger lock would only slow the
+// recovery from a killed worker. Each worker also runs the lost-job sweep (./sweep.ts).
 import { type Job, UnrecoverableError, Worker } from 'bullmq';
 import { log } from '@/lib/log';
 import { createRedisConnection } from '@/lib/queue/connection';
 import {
   REDUCTION_ATTEMPTS,
+  REDUCTION_BACKOFF_TYPE,
   REDUCTION_QUEUE,
   type ReductionJobData,
   type ReductionJobOutcome,
+  reductionBackoffMs,
   reductionJobDataSchema,
 } from '@/lib/queue/reduction-queue';
 import { ReductionRefusedError } from './failure';
 import { markReductionFailed, processReduction } from './reduce-scan';
+import { startSweepTimer } from './sweep';
 
 const wlog = log.child({ surface: 'reduction', part: 'worker' });
 
@@ -27,22 +36,34 @@ export interface ReductionWorkerOptions {
   concurrency?: number;
   /** Shown in BullMQ and the log. */
   name?: string;
+  /** The lost-job sweep of this worker (./sweep.ts); `false` turns it off. */
+  sweep?: { intervalMs?: number; minAgeMs?: number } | false;
+  /**
+   * Awaited after each progress report of a job (fraction 0…1), before the job goes on. For instrumentation and
+   * for the outage tests, which take a service away at a known point of a job.
+   */
+  onProgress?: (data: ReductionJobData, fraction: number) => Promise<void> | void;
 }
 
-async function handle(job: Job<ReductionJobData, ReductionJobOutcome>): Promise<ReductionJobOutcome> {
-  const parsed = reductionJobDataSchema.safeParse(job.data);
-  if (!parsed.success) throw new UnrecoverableError(`malformed job payload for ${job.id}`);
-  try {
-    return await processReduction(parsed.data, {
-      attemptsMade: job.attemptsMade,
-      maxAttempts: job.opts.attempts ?? REDUCTION_ATTEMPTS,
-      updateProgress: (p) => job.updateProgress(p),
-    });
-  } catch (err) {
-    // Permanent problems must not be retried: BullMQ skips the remaining attempts for UnrecoverableError.
-    if (err instanceof ReductionRefusedError) throw new UnrecoverableError(err.message);
-    throw err;
-  }
+function handler(onProgress: ReductionWorkerOptions['onProgress']) {
+  return async (job: Job<ReductionJobData, ReductionJobOutcome>): Promise<ReductionJobOutcome> => {
+    const parsed = reductionJobDataSchema.safeParse(job.data);
+    if (!parsed.success) throw new UnrecoverableError(`malformed job payload for ${job.id}`);
+    try {
+      return await processReduction(parsed.data, {
+        attemptsMade: job.attemptsMade,
+        maxAttempts: job.opts.attempts ?? REDUCTION_ATTEMPTS,
+        updateProgress: async (p) => {
+          await job.updateProgress(p);
+          await onProgress?.(parsed.data, p / 100);
+        },
+      });
+    } catch (err) {
+      // Permanent problems must not be retried: BullMQ skips the remaining attempts for UnrecoverableError.
+      if (err instanceof ReductionRefusedError) throw new UnrecoverableError(err.message);
+      throw err;
+    }
+  };
 }
 
 /** Starts a worker in this process; `close()` waits for the running job and ends its Redis connections. */
@@ -51,13 +72,17 @@ export function startReductionWorker(options: ReductionWorkerOptions = {}): {
   close: () => Promise<void>;
 } {
   const connection = createRedisConnection('worker');
-  const worker = new Worker<ReductionJobData, ReductionJobOutcome>(REDUCTION_QUEUE, handle, {
+  const worker = new Worker<ReductionJobData, ReductionJobOutcome>(REDUCTION_QUEUE, handler(options.onProgress), {
     connection,
     concurrency: options.concurrency ?? 1,
     name: options.name,
     lockDuration: WORKER_LOCK_MS,
     stalledInterval: WORKER_STALLED_INTERVAL_MS,
     maxStalledCount: WORKER_MAX_STALLED,
+    settings: {
+      backoffStrategy: (attemptsMade, type) =>
+        type === REDUCTION_BACKOFF_TYPE ? reductionBackoffMs(attemptsMade) : reductionBackoffMs(1),
+    },
   });
   worker.on('failed', (job, err) => {
     if (!job) return;
@@ -77,12 +102,21 @@ export function startReductionWorker(options: ReductionWorkerOptions = {}): {
     }
   });
   worker.on('error', (err) => wlog.warn('worker error', { err }));
+  const sweeper =
+    options.sweep === false
+      ? null
+      : startSweepTimer({
+          holder: options.name ?? `worker-${process.pid}`,
+          intervalMs: options.sweep?.intervalMs,
+          minAgeMs: options.sweep?.minAgeMs,
+        });
   let closed = false;
   return {
     worker,
     close: async () => {
       if (closed) return;
       closed = true;
+      await sweeper?.stop();
       await worker.close();
       await connection.quit().catch(() => connection.disconnect());
     },

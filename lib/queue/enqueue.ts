@@ -6,7 +6,7 @@ import { getDb } from '@/lib/db';
 import { AppError } from '@/lib/errors';
 import { log } from '@/lib/log';
 import { AnalysisSettingsVersion, Campaign, DetectorCalibrationVersion, ReductionJob, Scan } from '@/models';
-import { getReductionQueue, reductionJobId } from './reduction-queue';
+import { addReductionJob, reductionJobId } from './reduction-queue';
 
 export interface EnqueueOptions {
   /** Calibration version (default: the campaign's current approved one). */
@@ -102,11 +102,7 @@ export async function enqueueReductionForScan(scanId: number, options: EnqueueOp
   });
 
   try {
-    await getReductionQueue().add(
-      'reduce-scan',
-      { scanId: scan.id, calibrationId, settingsId, reductionJobId: row.id },
-      { jobId: queueJobId },
-    );
+    await addReductionJob({ scanId: scan.id, calibrationId, settingsId, reductionJobId: row.id }, queueJobId);
   } catch (err) {
     log.error('could not add the reduction job to the queue', { scanId, queueJobId, err });
     await ReductionJob.update(

@@ -2,13 +2,34 @@
 // duplicate requests collapse, and the one Queue instance of this process.
 import { Queue } from 'bullmq';
 import { z } from 'zod';
+import { AppError } from '@/lib/errors';
 import { closeQueueConnections, createRedisConnection } from './connection';
 
 export const REDUCTION_QUEUE = 'lobeline-reduction';
 
-/** Attempts per job (the first run plus two retries) and the first back-off delay (doubled each retry). */
-export const REDUCTION_ATTEMPTS = 3;
-export const REDUCTION_BACKOFF_MS = 2_000;
+/**
+ * Attempts per job: the first run plus five retries. Permanent problems (a bad file, a bad calibration) skip the
+ * retries altogether; only transient ones (S3, MariaDB or Redis not answering) use them.
+ */
+export const REDUCTION_ATTEMPTS = 6;
+/** First back-off delay; doubled after each failed attempt up to REDUCTION_BACKOFF_CAP_MS. */
+export const REDUCTION_BACKOFF_MS = 5_000;
+export const REDUCTION_BACKOFF_CAP_MS = 60_000;
+/** Name of our back-off strategy in the job options (the worker supplies `reductionBackoffMs` for it). */
+export const REDUCTION_BACKOFF_TYPE = 'lobeline-capped-exponential';
+
+/**
+ * Wait before the next attempt after `attemptsMade` failed ones (1 after the first failure): 5, 10, 20, 40, 60 s.
+ * The five waits add up to 135 s, so a job whose services are away for a minute still has attempts left when they
+ * are back (tests/unit/queue-backoff.test.ts checks the sum against that minute).
+ */
+export function reductionBackoffMs(attemptsMade: number): number {
+  const n = Math.max(1, Math.floor(attemptsMade));
+  return Math.min(REDUCTION_BACKOFF_CAP_MS, REDUCTION_BACKOFF_MS * 2 ** (n - 1));
+}
+
+/** Longest wait for Redis to accept a new job before the request fails with `unavailable:queue` (ms). */
+export const QUEUE_ADD_TIMEOUT_MS = 4_000;
 
 export const reductionJobDataSchema = z.object({
   scanId: z.number().int().positive(),
@@ -39,10 +60,11 @@ const state: Cache = g.__lobelineReductionQueue;
 export function getReductionQueue(): Queue<ReductionJobData, ReductionJobOutcome> {
   if (!state.queue) {
     state.queue = new Queue<ReductionJobData, ReductionJobOutcome>(REDUCTION_QUEUE, {
-      connection: createRedisConnection('queue'),
+      // Fail fast: a web request that queues work answers 503 within seconds while Redis is away, never hangs.
+      connection: createRedisConnection('queue', { mode: 'fail-fast' }),
       defaultJobOptions: {
         attempts: REDUCTION_ATTEMPTS,
-        backoff: { type: 'exponential', delay: REDUCTION_BACKOFF_MS },
+        backoff: { type: REDUCTION_BACKOFF_TYPE },
         // MariaDB keeps the history (reduction_jobs); finished entries leave Redis so that a later request for
         // the same versions is not swallowed by an old entry with the same id.
         removeOnComplete: true,
@@ -51,6 +73,28 @@ export function getReductionQueue(): Queue<ReductionJobData, ReductionJobOutcome
     });
   }
   return state.queue;
+}
+
+/**
+ * Adds a reduction job with its deterministic id, bounded in time: the promise settles within
+ * QUEUE_ADD_TIMEOUT_MS, with AppError `unavailable:queue` when Redis did not take the job. (A job already present
+ * under the same id is left as it is: BullMQ ignores the second add.)
+ */
+export async function addReductionJob(data: ReductionJobData, jobId: string, timeoutMs = QUEUE_ADD_TIMEOUT_MS) {
+  let timer: NodeJS.Timeout | undefined;
+  const timeout = new Promise<never>((_, reject) => {
+    timer = setTimeout(
+      () => reject(new AppError('unavailable:queue', { context: { jobId, timeoutMs }, retryAfterSeconds: 60 })),
+      timeoutMs,
+    );
+  });
+  try {
+    return await Promise.race([getReductionQueue().add('reduce-scan', data, { jobId }), timeout]);
+  } catch (err) {
+    throw err instanceof AppError ? err : new AppError('unavailable:queue', { cause: err, retryAfterSeconds: 60 });
+  } finally {
+    clearTimeout(timer);
+  }
 }
 
 /** Closes the queue and every Redis connection of this process. */

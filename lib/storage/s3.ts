@@ -42,7 +42,10 @@ export function getS3Client(): S3Client {
       credentials: { accessKeyId: env.S3_ACCESS_KEY_ID, secretAccessKey: env.S3_SECRET_ACCESS_KEY },
       requestChecksumCalculation: 'WHEN_REQUIRED',
       responseChecksumValidation: 'WHEN_REQUIRED',
-      maxAttempts: 3,
+      // Standard retry mode (jittered exponential back-off) over five attempts rides out a service that restarts;
+      // longer outages are ridden out by the reduction queue's own back-off (lib/queue/reduction-queue.ts).
+      retryMode: 'standard',
+      maxAttempts: 5,
     });
   }
   return state.client;

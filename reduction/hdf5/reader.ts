@@ -51,18 +51,11 @@ const KNOWN_FILTER_NAMES: Readonly<Record<number, string>> = {
   32026: 'Blosc2',
 };
 
-/** Unit spellings accepted for each canonical unit. */
+/**
+ * Units are compared as FORMATS §1 writes them; the only other spellings accepted are the two §1 lists for W/cm^2.
+ */
 const UNIT_ALIASES: Readonly<Record<string, readonly string[]>> = {
-  nm: ['nm', 'nanometer', 'nanometre', 'nanometers', 'nanometres'],
-  eV: ['eV', 'ev', 'electronvolt', 'electron_volt'],
-  deg: ['deg', 'degree', 'degrees'],
-  rad: ['rad', 'radian', 'radians'],
-  fs: ['fs', 'femtosecond', 'femtoseconds'],
-  'a.u.': ['a.u.', 'au', 'atomic_unit_of_momentum'],
-  pixel: ['pixel', 'pixels', 'px'],
-  'W/cm^2': ['W/cm^2', 'W/cm2', 'W cm^-2', 'W/cm**2'],
-  uJ: ['uJ', 'µJ', 'μJ', 'microjoule'],
-  '1': ['1', '', 'dimensionless'],
+  'W/cm^2': ['W/cm^2', 'W/cm2', 'W cm-2'],
 };
 
 const ISO_8601_WITH_OFFSET = /^\d{4}-\d{2}-\d{2}[T ]\d{2}:\d{2}(:\d{2}(\.\d+)?)?(Z|[+-]\d{2}(:?\d{2})?)$/;
@@ -144,6 +137,24 @@ class Checker {
 
   use(path: string): void {
     this.used.add(path);
+  }
+
+  /**
+   * Reads optional content (FORMATS §1): every problem `read` records is turned into a warning that names the path
+   * and the rule and says what Lobeline does instead, and the result is then null, so the caller uses its default.
+   *
+   * @param instead - what happens without the content, e.g. "the default 0° is used"
+   * @param read - the reading and checking code; it records problems with `fail`
+   * @returns the value `read` returned, or null when it recorded a problem
+   */
+  optional<T>(instead: string, read: () => T | null): T | null {
+    const before = this.problems.length;
+    const v = read();
+    if (this.problems.length === before) return v;
+    for (const p of this.problems.splice(before)) {
+      this.warnings.push(`${p.message}. This content is optional, so it was ignored and ${instead}.`);
+    }
+    return null;
   }
 
   group(path: string, nxClass: string | null, required: string | null): Group | null {
@@ -290,7 +301,7 @@ class Checker {
       this.fail(path, `must be a single number (${what}), found shape ${fmtShape(m.shape)}`);
       return null;
     }
-    if (units !== null) this.checkUnits(d, path, units);
+    if (units !== null) this.checkUnits(d, path, units, required !== null);
     let v: unknown;
     try {
       v = d.value;
@@ -306,9 +317,9 @@ class Checker {
     return n;
   }
 
-  checkUnits(d: Dataset, path: string, units: string): void {
+  checkUnits(d: Dataset, path: string, units: string, required: boolean): void {
     const u = this.attrString(d, path, 'units');
-    if (u === undefined) this.fail(`${path}@units`, `required: must be "${units}" but missing`);
+    if (u === undefined) this.fail(`${path}@units`, `${required ? 'required: ' : ''}must be "${units}" but missing`);
     else if (u !== null && !unitMatches(u, units)) this.fail(`${path}@units`, `must be "${units}", found "${u}"`);
   }
 
@@ -727,7 +738,10 @@ function validate(
       `must be an ISO 8601 time with a UTC offset, e.g. 2026-03-14T09:30:00+01:00; found "${startTime}"`,
     );
   }
-  const title = c.string(`${ENTRY}/title`, null, 'scan title');
+  /** Required content is checked as it is; content that is optional here is read through `c.optional`. */
+  const maybe = <T>(required: string | null, instead: string, read: () => T | null): T | null =>
+    required !== null ? read() : c.optional(instead, read);
+  const title = c.optional('the scan is shown without a title', () => c.string(`${ENTRY}/title`, null, 'scan title'));
 
   // sample
   const sampleGroup = c.group(`${ENTRY}/sample`, 'NXsample', 'required: the NXsample group naming the target');
@@ -737,17 +751,18 @@ function validate(
     target = c.string(`${ENTRY}/sample/name`, 'required for every scan', 'target, e.g. He, Ar, N2');
     if (target !== null && target.length === 0) c.fail(`${ENTRY}/sample/name`, 'must not be empty');
     const known = target !== null && ionizationEnergyEv(target) !== null;
-    ipEv = c.number(
-      `${ENTRY}/sample/ionization_energy`,
+    const ipRequired =
       target !== null && !known
         ? `required because the target "${target}" is not in Lobeline's table of ionization energies`
-        : null,
-      'ionization energy in eV',
-      'eV',
-    );
-    if (ipEv !== null && !(ipEv > 0 && ipEv < 1000)) {
-      c.fail(`${ENTRY}/sample/ionization_energy`, `must be in (0, 1000) eV, found ${ipEv}`);
-    }
+        : null;
+    ipEv = maybe(ipRequired, "the ionization energy from Lobeline's table is used", () => {
+      const v = c.number(`${ENTRY}/sample/ionization_energy`, ipRequired, 'ionization energy in eV', 'eV');
+      if (v !== null && !(v > 0 && v < 1000)) {
+        c.fail(`${ENTRY}/sample/ionization_energy`, `must be in (0, 1000) eV, found ${v}`);
+        return null;
+      }
+      return v;
+    });
   }
 
   // instrument / source
@@ -765,68 +780,103 @@ function validate(
   else if (wavelength !== null && (wavelength < 100 || wavelength > 20000)) {
     c.warnings.push(`${SOURCE}/wavelength: ${wavelength} nm is outside 100–20 000 nm; check the units`);
   }
-  const needEll = kind === 'angular_streaking';
-  const ellipticity = src
-    ? c.number(
-        `${SOURCE}/ellipticity`,
-        needEll ? 'required for angular_streaking scans' : null,
-        'ε = F_minor/F_major in [0, 1], 1 = circular',
-        null,
-      )
-    : null;
-  if (ellipticity !== null && !(ellipticity >= 0 && ellipticity <= 1)) {
-    c.fail(
-      `${SOURCE}/ellipticity`,
-      `must be in [0, 1] (ε = F_minor/F_major; the sign goes in helicity), found ${ellipticity}`,
-    );
-  }
-  const needHel = kind === 'angular_streaking' || kind === 'bicircular';
-  const helRaw = src
-    ? c.number(
-        `${SOURCE}/helicity`,
-        needHel ? `required for ${kind} scans` : null,
-        'h = +1 or −1, sense of field rotation seen from +z',
-        null,
-      )
-    : null;
-  let helicity: 1 | -1 | null = null;
-  if (helRaw !== null) {
-    if (helRaw === 1 || helRaw === -1) helicity = helRaw;
-    else c.fail(`${SOURCE}/helicity`, `must be +1 or −1 (sense of field rotation seen from +z), found ${helRaw}`);
-  }
-  const majorAxis = src ? c.number(`${SOURCE}/major_axis_angle`, null, 'lab azimuth of the major axis', 'deg') : null;
-  const needRatio = kind === 'bicircular' || kind === 'two_color_phase';
-  const fieldRatio = src
-    ? c.number(`${SOURCE}/field_ratio`, needRatio ? `required for ${kind} scans` : null, 'F(2ω)/F(ω)', null)
-    : null;
-  if (fieldRatio !== null && !(fieldRatio > 0 && fieldRatio < 100)) {
-    c.fail(`${SOURCE}/field_ratio`, `must be a positive ratio F(2ω)/F(ω), found ${fieldRatio}`);
-  }
-  const relPhase = src ? c.number(`${SOURCE}/relative_phase`, null, 'fixed ω–2ω phase in rad', 'rad') : null;
-  const pulse = src ? c.number(`${SOURCE}/pulse_duration`, null, 'pulse duration in fs', 'fs') : null;
-  if (pulse !== null && !(pulse > 0)) c.fail(`${SOURCE}/pulse_duration`, `must be > 0 fs, found ${pulse}`);
-  const convention = src ? c.string(`${SOURCE}/intensity_convention`, null, 'intensity convention') : null;
-  if (convention !== null && !(INTENSITY_CONVENTIONS as readonly string[]).includes(convention)) {
-    c.fail(
-      `${SOURCE}/intensity_convention`,
-      `must be one of ${INTENSITY_CONVENTIONS.join(', ')}, found "${convention}"`,
-    );
-  }
-  const delaySignRaw = src ? c.number(`${SOURCE}/delay_sign`, null, 'φ = delay_sign · 2ωτ', null) : null;
-  if (delaySignRaw !== null && delaySignRaw !== 1 && delaySignRaw !== -1) {
-    c.fail(`${SOURCE}/delay_sign`, `must be +1 or −1 (φ = delay_sign · 2ωτ), found ${delaySignRaw}`);
-  }
+  const needEll = kind === 'angular_streaking' ? 'required for angular_streaking scans' : null;
+  const ellipticity = !src
+    ? null
+    : maybe(needEll, 'the scan is reduced without an ellipticity', () => {
+        const v = c.number(`${SOURCE}/ellipticity`, needEll, 'ε = F_minor/F_major in [0, 1], 1 = circular', null);
+        if (v !== null && !(v >= 0 && v <= 1)) {
+          c.fail(
+            `${SOURCE}/ellipticity`,
+            `must be in [0, 1] (ε = F_minor/F_major; the sign goes in helicity), found ${v}`,
+          );
+          return null;
+        }
+        return v;
+      });
+  const needHel = kind === 'angular_streaking' || kind === 'bicircular' ? `required for ${kind} scans` : null;
+  const helicity: 1 | -1 | null = !src
+    ? null
+    : maybe(needHel, 'the scan is reduced without a helicity', () => {
+        const v = c.number(`${SOURCE}/helicity`, needHel, 'h = +1 or −1, sense of field rotation seen from +z', null);
+        if (v === null) return null;
+        if (v === 1 || v === -1) return v;
+        c.fail(`${SOURCE}/helicity`, `must be +1 or −1 (sense of field rotation seen from +z), found ${v}`);
+        return null;
+      });
+  const majorAxis = !src
+    ? null
+    : c.optional('the default 0° is used', () =>
+        c.number(`${SOURCE}/major_axis_angle`, null, 'lab azimuth of the major axis', 'deg'),
+      );
+  const needRatio = kind === 'bicircular' || kind === 'two_color_phase' ? `required for ${kind} scans` : null;
+  const fieldRatio = !src
+    ? null
+    : maybe(needRatio, 'the scan is reduced without a field ratio', () => {
+        const v = c.number(`${SOURCE}/field_ratio`, needRatio, 'F(2ω)/F(ω)', null);
+        if (v !== null && !(v > 0 && v < 100)) {
+          c.fail(`${SOURCE}/field_ratio`, `must be a positive ratio F(2ω)/F(ω), found ${v}`);
+          return null;
+        }
+        return v;
+      });
+  const relPhase = !src
+    ? null
+    : c.optional('the default 0 rad is used', () =>
+        c.number(`${SOURCE}/relative_phase`, null, 'fixed ω–2ω phase in rad', 'rad'),
+      );
+  const pulse = !src
+    ? null
+    : c.optional('the scan is reduced without a pulse duration', () => {
+        const v = c.number(`${SOURCE}/pulse_duration`, null, 'pulse duration in fs', 'fs');
+        if (v !== null && !(v > 0)) {
+          c.fail(`${SOURCE}/pulse_duration`, `must be > 0 fs, found ${v}`);
+          return null;
+        }
+        return v;
+      });
+  const convention = !src
+    ? null
+    : c.optional('the default cycle_averaged_total is used', () => {
+        const v = c.string(`${SOURCE}/intensity_convention`, null, 'intensity convention');
+        if (v !== null && !(INTENSITY_CONVENTIONS as readonly string[]).includes(v)) {
+          c.fail(`${SOURCE}/intensity_convention`, `must be one of ${INTENSITY_CONVENTIONS.join(', ')}, found "${v}"`);
+          return null;
+        }
+        return v;
+      });
+  const delaySignRaw = !src
+    ? null
+    : c.optional('the default −1 is used', () => {
+        const v = c.number(`${SOURCE}/delay_sign`, null, 'φ = delay_sign · 2ωτ', null);
+        if (v !== null && v !== 1 && v !== -1) {
+          c.fail(`${SOURCE}/delay_sign`, `must be +1 or −1 (φ = delay_sign · 2ωτ), found ${v}`);
+          return null;
+        }
+        return v;
+      });
 
   // detector (optional)
-  const detector = instrument ? c.group(`${ENTRY}/instrument/detector`, null, null) : null;
-  if (detector !== null) checkOptionalClass(c, detector, `${ENTRY}/instrument/detector`, 'NXdetector');
-  const detDesc = detector ? c.string(`${ENTRY}/instrument/detector/description`, null, 'detector description') : null;
-  const mpp = detector
-    ? c.number(`${ENTRY}/instrument/detector/momentum_per_pixel`, null, 'nominal momentum per pixel', 'a.u.')
+  const DETECTOR = `${ENTRY}/instrument/detector`;
+  const detector = instrument
+    ? c.optional('the scan is read without detector details', () => c.group(DETECTOR, null, null))
     : null;
-  if (mpp !== null && !(mpp > 0)) {
-    c.fail(`${ENTRY}/instrument/detector/momentum_per_pixel`, `must be > 0 a.u. per pixel, found ${mpp}`);
-  }
+  if (detector !== null) checkOptionalClass(c, detector, DETECTOR, 'NXdetector');
+  const detDesc = detector
+    ? c.optional('the scan is read without a detector description', () =>
+        c.string(`${DETECTOR}/description`, null, 'detector description'),
+      )
+    : null;
+  const mpp = detector
+    ? c.optional('a calibration must give the momentum scale', () => {
+        const v = c.number(`${DETECTOR}/momentum_per_pixel`, null, 'nominal momentum per pixel', 'a.u.');
+        if (v !== null && !(v > 0)) {
+          c.fail(`${DETECTOR}/momentum_per_pixel`, `must be > 0 a.u. per pixel, found ${v}`);
+          return null;
+        }
+        return v;
+      })
+    : null;
 
   // data
   const dataGroup = c.group(DATA, 'NXdata', 'required: the NXdata group holding counts');
@@ -915,26 +965,31 @@ function validate(
       if (kind === 'two_color_phase' && !is3d) {
         c.fail(COUNTS, 'two_color_phase scans need 3-D counts [n_step, n_y, n_x] (one frame per relative phase)');
       }
-      const shotsD = c.dataset(`${DATA}/shots`, null, 'laser shots per step');
-      shots = shotsD
-        ? c.vector(`${DATA}/shots`, shotsD, shape.nStep, 'laser shots per step', !is3d)
-        : new Array<number>(shape.nStep).fill(1);
-      if (shots?.some((s) => !(s > 0))) {
-        c.fail(`${DATA}/shots`, 'shots must be > 0');
-        shots = null;
-      }
+      const nStep = shape.nStep;
+      const readShots = c.optional('every step counts as 1 shot', () => {
+        const shotsD = c.dataset(`${DATA}/shots`, null, 'laser shots per step');
+        if (shotsD === null) return null;
+        const v = c.vector(`${DATA}/shots`, shotsD, nStep, 'laser shots per step', !is3d);
+        if (v?.some((s) => !(s > 0))) {
+          c.fail(`${DATA}/shots`, 'shots must be > 0');
+          return null;
+        }
+        return v;
+      });
+      shots = readShots ?? new Array<number>(nStep).fill(1);
       for (const [axis, n] of [
         ['x', shape.nX],
         ['y', shape.nY],
       ] as const) {
         const p = `${DATA}/${axis}`;
-        const d = c.dataset(p, null, `pixel axis ${axis}`);
-        if (d === null) continue;
-        const u = c.attrString(d, p, 'units');
-        if (u !== undefined && u !== null && !unitMatches(u, 'pixel')) {
-          c.fail(`${p}@units`, `must be "pixel", found "${u}"`);
-        }
-        const v = c.vector(p, d, n, `one value per ${axis === 'x' ? 'column' : 'row'}`, false);
+        const v = c.optional(`the default pixel axis 0…${n - 1} is used`, () => {
+          const d = c.dataset(p, null, `pixel axis ${axis}`);
+          if (d === null) return null;
+          const u = c.attrString(d, p, 'units');
+          if (u === undefined) c.fail(`${p}@units`, 'must be "pixel" but missing');
+          else if (u !== null && !unitMatches(u, 'pixel')) c.fail(`${p}@units`, `must be "pixel", found "${u}"`);
+          return c.vector(p, d, n, `one value per ${axis === 'x' ? 'column' : 'row'}`, false);
+        });
         if (axis === 'x') xAxis = v;
         else yAxis = v;
       }
@@ -945,39 +1000,47 @@ function validate(
   let background: Dataset | null = null;
   let backgroundInfo: ScanMetadata['background'] = null;
   const bgEntity = c.get(BACKGROUND);
-  if (bgEntity !== null) {
-    const bgGroup = c.group(BACKGROUND, 'NXdata', 'optional');
-    if (bgGroup !== null) {
-      const bgPath = `${BACKGROUND}/counts`;
-      const bd = c.dataset(bgPath, 'required when the background group exists', 'background frames');
-      const bm = bd ? c.metadata(bd, bgPath) : null;
-      if (bd !== null && bm !== null && shape !== null) {
-        const r = checkCounts(c, bd, bgPath, bm, accepted, maxFrameBytes, 'background');
-        if (r !== null) {
+  const nFramesWanted = shape;
+  const bgRead =
+    bgEntity === null || nFramesWanted === null
+      ? null
+      : c.optional('nothing is subtracted as background', () => {
+          const bgGroup = c.group(BACKGROUND, 'NXdata', 'optional');
+          if (bgGroup === null) return null;
+          const bgPath = `${BACKGROUND}/counts`;
+          const bd = c.dataset(bgPath, 'required when the background group exists', 'background frames');
+          const bm = bd ? c.metadata(bd, bgPath) : null;
+          if (bd === null || bm === null) return null;
+          const r = checkCounts(c, bd, bgPath, bm, accepted, maxFrameBytes, 'background');
+          if (r === null) return null;
           const single = !r.is3d;
-          if (r.shape.nY !== shape.nY || r.shape.nX !== shape.nX) {
-            c.fail(bgPath, `frames must be ${shape.nY}×${shape.nX} like the counts, found ${r.shape.nY}×${r.shape.nX}`);
-          } else if (!single && r.shape.nStep !== shape.nStep) {
+          const { nStep, nY, nX } = nFramesWanted;
+          if (r.shape.nY !== nY || r.shape.nX !== nX) {
+            c.fail(bgPath, `frames must be ${nY}×${nX} like the counts, found ${r.shape.nY}×${r.shape.nX}`);
+            return null;
+          }
+          if (!single && r.shape.nStep !== nStep) {
             c.fail(
               bgPath,
-              `must be [${shape.nY}, ${shape.nX}] (one frame) or [${shape.nStep}, ${shape.nY}, ${shape.nX}] (one per step), found ${r.shape.nStep} frames`,
+              `must be [${nY}, ${nX}] (one frame) or [${nStep}, ${nY}, ${nX}] (one per step), found ${r.shape.nStep} frames`,
             );
-          } else {
-            background = bd;
-            const nFrames = single ? 1 : shape.nStep;
-            const bsPath = `${BACKGROUND}/shots`;
-            const bs = c.dataset(bsPath, null, 'shots behind the background');
-            let bShots: number[] | null = new Array<number>(nFrames).fill(1);
-            if (bs !== null) bShots = c.vector(bsPath, bs, nFrames, 'shots behind the background', true);
-            if (bShots?.some((s) => !(s > 0))) {
-              c.fail(bsPath, 'shots must be > 0');
-              bShots = null;
-            }
-            if (bShots !== null) backgroundInfo = { layout: single ? 'single' : 'per_step', shots: bShots };
+            return null;
           }
-        }
-      }
-    }
+          const nFrames = single ? 1 : nStep;
+          const bsPath = `${BACKGROUND}/shots`;
+          const bs = c.dataset(bsPath, null, 'shots behind the background');
+          let bShots: number[] | null = new Array<number>(nFrames).fill(1);
+          if (bs !== null) bShots = c.vector(bsPath, bs, nFrames, 'shots behind the background', true);
+          if (bShots?.some((x) => !(x > 0))) {
+            c.fail(bsPath, 'shots must be > 0');
+            return null;
+          }
+          if (bShots === null) return null;
+          return { bd, info: { layout: single ? ('single' as const) : ('per_step' as const), shots: bShots } };
+        });
+  if (bgRead !== null) {
+    background = bgRead.bd;
+    backgroundInfo = bgRead.info;
   }
 
   const extraPaths = listExtraPaths(rt, file, c.used, false);

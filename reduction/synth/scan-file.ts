@@ -78,6 +78,7 @@ export interface SynthText {
  *
  * @param broken - optional broken variant (file-level kinds not_hdf5/truncated are applied by the caller on bytes)
  * @param text - optional title and note replacing the generator's own
+ * @param startTime - optional ISO 8601 `/entry/start_time` (default: the generator's fixed 2026-03-14T09:30:00+01:00)
  */
 export function writeSynthScan(
   rt: H5Runtime,
@@ -85,6 +86,7 @@ export function writeSynthScan(
   plan: ScanPlan,
   broken: BrokenKind | null = null,
   text: SynthText = {},
+  startTime: string | null = null,
 ): SynthTruth {
   const o = plan.options;
   const n = o.size;
@@ -105,7 +107,7 @@ export function writeSynthScan(
     writeString(
       entry,
       'start_time',
-      broken === 'bad_start_time' ? 'yesterday after lunch' : '2026-03-14T09:30:00+01:00',
+      broken === 'bad_start_time' ? 'yesterday after lunch' : (startTime ?? '2026-03-14T09:30:00+01:00'),
     );
     writeString(
       entry,

@@ -210,6 +210,30 @@ async function main(): Promise<number> {
   }
   setSessionSourceForTests(null);
   times.sort((a, b) => a - b);
+
+  // Side by side, alternating in one process: the free-text filter's two SQL statements (count and page) as they
+  // were before scans.search_text (LIKE over the title and the joined file name) and as they are now.
+  const like = '%scan 01%';
+  const order = 'ORDER BY s.created_at IS NULL, s.created_at DESC, s.id DESC LIMIT 25 OFFSET 25';
+  const former =
+    "FROM scans s JOIN raw_files f ON f.id = s.raw_file_id WHERE s.campaign_id = :c AND (s.title LIKE :q ESCAPE '\\\\' OR f.original_name LIKE :q ESCAPE '\\\\')";
+  const indexed = "FROM scans s WHERE s.campaign_id = :c AND s.search_text LIKE :q ESCAPE '\\\\'";
+  const pair = { former: [] as number[], indexed: [] as number[] };
+  const hasColumn = ((await db.query("SHOW COLUMNS FROM scans LIKE 'search_text'", { type: 'SELECT' })) as unknown[])
+    .length;
+  for (let i = 0; hasColumn && i < 60; i++) {
+    for (const [name, from] of [
+      ['former', former],
+      ['indexed', indexed],
+    ] as const) {
+      const t = performance.now();
+      await db.query(`SELECT COUNT(*) AS n ${from}`, { replacements: { c: campaign.id, q: like }, type: 'SELECT' });
+      await db.query(`SELECT s.id ${from} ${order}`, { replacements: { c: campaign.id, q: like }, type: 'SELECT' });
+      if (i >= 10) pair[name].push(performance.now() - t);
+    }
+  }
+  pair.former.sort((a, b) => a - b);
+  pair.indexed.sort((a, b) => a - b);
   const out = {
     bench: 'N5 scan table API',
     target: 'p95 < 100 ms',
@@ -245,6 +269,13 @@ async function main(): Promise<number> {
     );
     for (const [q, p] of Object.entries(out.per_query_p95_ms)) console.log(`  p95 ${String(p).padStart(7)} ms  ${q}`);
     console.log(`  ${out.how}${seedMs > 1000 ? `; seeding took ${(seedMs / 1000).toFixed(1)} s` : ''}`);
+    if (pair.former.length) {
+      const f = (x: number[]) =>
+        `p50 ${percentile(x, 50).toFixed(1)} ms, p95 ${percentile(x, 95).toFixed(1)} ms, p99 ${percentile(x, 99).toFixed(1)} ms`;
+      console.log(`  q='scan 01' SQL, ${pair.former.length} alternating pairs (count + page):`);
+      console.log(`    former (LIKE over title and joined file name)  ${f(pair.former)}`);
+      console.log(`    indexed scans.search_text                       ${f(pair.indexed)}`);
+    }
   }
   await closeSequelize();
   return 0;

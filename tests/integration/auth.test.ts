@@ -15,7 +15,16 @@ const { NextRequest } = await import('next/server');
 const { callRoute } = await import('./helpers/call');
 const { actAs, actWithToken, clearSession } = await import('./helpers/session');
 const { makeUser, makeWorld, TEST_PASSWORD } = await import('./helpers/world');
-const { attemptSignIn, MAX_FAILURES_PER_ACCOUNT, MAX_FAILURES_PER_IP } = await import('@/lib/auth/sign-in');
+const { attemptSignIn, FREE_FAILURES_PER_ACCOUNT, MAX_ACCOUNT_WAIT_SECONDS, MAX_FAILURES_PER_ADDRESS } = await import(
+  '@/lib/auth/sign-in'
+);
+const { accountWaitSeconds, closeSignInThrottle, endAccountWaitForTests } = await import('@/lib/auth/throttle');
+const { clientAddressFromForwardedFor, forwardedForHeader, parseTrustedProxyHops } = await import(
+  '@/lib/auth/client-address'
+);
+const { settlePasswordResetRequests } = await import('@/lib/auth/password-reset');
+const { changePassword } = await import('@/lib/auth/change-password');
+const passwordRoute = await import('@/app/api/me/password/route');
 const { authOptions } = await import('@/lib/auth/options');
 const { claimsFromSessionToken } = await import('@/lib/auth/session-source');
 const { getActor } = await import('@/lib/auth/actor');
@@ -59,8 +68,12 @@ beforeAll(async () => {
   w = await makeWorld();
 });
 
+const normalize = (email: string) => email.trim().toLowerCase();
+
 afterAll(async () => {
   clearSession();
+  await settlePasswordResetRequests();
+  await closeSignInThrottle();
   closeMailTransport();
   await closeSequelize();
 });
@@ -95,25 +108,45 @@ describe('sign-in', () => {
     expect(row?.details).toMatchObject({ reason: 'deactivated' });
   });
 
-  it(`locks an account after ${MAX_FAILURES_PER_ACCOUNT} failures, even for the right password next`, async () => {
-    const email = `locked-${w.run}@matrix.example`;
+  it(`slows an account after ${FREE_FAILURES_PER_ACCOUNT} failures instead of locking it (ASVS 4.0 V2.2.1)`, async () => {
+    const email = `slowed-${w.run}@matrix.example`;
     await makeUser({ email, teamId: w.teamA, role: 'operator' });
-    for (let i = 0; i < MAX_FAILURES_PER_ACCOUNT; i++) {
+    for (let i = 0; i < FREE_FAILURES_PER_ACCOUNT - 1; i++) {
       // Different addresses: the per-account limit must not depend on where the attempts come from.
       const r = await attemptSignIn({ email, password: `wrong-${i}`, ip: freshIp() });
       expect(r).toEqual({ ok: false, reason: 'wrong_password' });
     }
+    // The free failures cost no wait: the right password still works at once.
+    expect(await attemptSignIn({ email, password: TEST_PASSWORD, ip: freshIp() })).toMatchObject({ ok: true });
+
+    // After the free failures each further failure doubles the wait, never past the bound.
+    const waits: number[] = [];
+    for (let i = 0; i < FREE_FAILURES_PER_ACCOUNT + 8; i++) {
+      const r = await attemptSignIn({ email, password: `wrong-again-${i}`, ip: freshIp() });
+      if (r.ok === false && r.reason === 'rate_limited') {
+        waits.push(r.retryAfterSeconds ?? -1);
+        await endAccountWaitForTests(normalize(email)); // as if the wait had passed
+      }
+    }
+    expect(waits.length).toBeGreaterThan(0);
+    expect(Math.max(...waits)).toBeLessThanOrEqual(MAX_ACCOUNT_WAIT_SECONDS);
+    expect(accountWaitSeconds(FREE_FAILURES_PER_ACCOUNT)).toBe(1);
+    expect(accountWaitSeconds(FREE_FAILURES_PER_ACCOUNT + 3)).toBe(8);
+    expect(accountWaitSeconds(FREE_FAILURES_PER_ACCOUNT + 50)).toBe(MAX_ACCOUNT_WAIT_SECONDS);
+
+    // A failure now starts a wait: an attempt inside it is refused with how long to wait, and audited.
+    await attemptSignIn({ email, password: 'one more wrong', ip: freshIp() });
     const ip = freshIp();
-    const locked = await attemptSignIn({ email, password: TEST_PASSWORD, ip });
-    expect(locked.ok).toBe(false);
-    expect(locked).toMatchObject({ reason: 'rate_limited' });
-    expect((locked as { retryAfterSeconds: number }).retryAfterSeconds).toBeGreaterThan(60);
-    expect((locked as { retryAfterSeconds: number }).retryAfterSeconds).toBeLessThanOrEqual(15 * 60);
+    const slowed = await attemptSignIn({ email, password: TEST_PASSWORD, ip });
+    expect(slowed).toMatchObject({ ok: false, reason: 'rate_limited' });
+    const retry = (slowed as { retryAfterSeconds: number }).retryAfterSeconds;
+    expect(retry).toBeGreaterThanOrEqual(1);
+    expect(retry).toBeLessThanOrEqual(MAX_ACCOUNT_WAIT_SECONDS);
     const [row] = await auditRows({ action: 'auth.sign_in_failed', ip });
     expect(row?.outcome).toBe('refused');
     expect(row?.details).toMatchObject({ reason: 'rate_limited', limitedBy: 'account' });
 
-    // The provider turns the lock into the code the sign-in page shows as a plain sentence.
+    // The provider turns the wait into the code the sign-in page shows as a plain sentence.
     const provider = authOptions.providers[0] as unknown as {
       options: { authorize: (c: unknown, req: unknown) => Promise<unknown> };
     };
@@ -121,17 +154,14 @@ describe('sign-in', () => {
       provider.options.authorize({ email, password: TEST_PASSWORD }, { headers: { 'x-forwarded-for': freshIp() } }),
     ).rejects.toThrow('rate_limited');
 
-    // Once the failures are older than the window, the right password works again.
-    await SignInAttempt.update(
-      { created_at: new Date(Date.now() - 16 * 60_000) },
-      { where: { email, succeeded: false } },
-    );
+    // Once the wait is over, the right password works again: slowed, never locked out.
+    await endAccountWaitForTests(normalize(email));
     expect(await attemptSignIn({ email, password: TEST_PASSWORD, ip: freshIp() })).toMatchObject({ ok: true });
   });
 
-  it(`limits an address after ${MAX_FAILURES_PER_IP} failures, whatever the accounts`, async () => {
+  it(`limits an address after ${MAX_FAILURES_PER_ADDRESS} failures, whatever the accounts`, async () => {
     const ip = freshIp();
-    for (let i = 0; i < MAX_FAILURES_PER_IP; i++) {
+    for (let i = 0; i < MAX_FAILURES_PER_ADDRESS; i++) {
       await attemptSignIn({ email: `spray-${i}-${w.run}@matrix.example`, password: 'guess', ip });
     }
     const r = await attemptSignIn({ email: w.emails.pi, password: TEST_PASSWORD, ip });
@@ -142,6 +172,24 @@ describe('sign-in', () => {
     expect(await attemptSignIn({ email: w.emails.pi, password: TEST_PASSWORD, ip: freshIp() })).toMatchObject({
       ok: true,
     });
+  });
+
+  it('takes the client address from x-forwarded-for as scripts/serve.ts writes it, not as the client sent it', () => {
+    // serve.ts with no trusted proxy: the client's own header is replaced by the socket address.
+    expect(forwardedForHeader('1.2.3.4, 5.6.7.8', '203.0.113.9', 0)).toBe('203.0.113.9');
+    expect(clientAddressFromForwardedFor(forwardedForHeader('1.2.3.4', '203.0.113.9', 0), 0)).toBe('203.0.113.9');
+    expect(clientAddressFromForwardedFor(forwardedForHeader(undefined, '::ffff:127.0.0.1', 0), 0)).toBe('127.0.0.1');
+    // One trusted proxy (it appended the client it saw, 198.51.100.7); anything before that is the client's own.
+    const one = forwardedForHeader('6.6.6.6, 198.51.100.7', '10.0.0.2', 1);
+    expect(one).toBe('6.6.6.6, 198.51.100.7, 10.0.0.2');
+    expect(clientAddressFromForwardedFor(one, 1)).toBe('198.51.100.7');
+    // Two trusted proxies.
+    expect(clientAddressFromForwardedFor(forwardedForHeader('6.6.6.6, 198.51.100.7, 10.0.0.3', '10.0.0.2', 2), 2)).toBe(
+      '198.51.100.7',
+    );
+    expect(parseTrustedProxyHops('')).toBe(0);
+    expect(parseTrustedProxyHops('2')).toBe(2);
+    for (const bad of ['-1', 'one', '11', '1.5']) expect(parseTrustedProxyHops(bad)).toBeNull();
   });
 
   it('stores bcrypt hashes that bcryptjs verifies', async () => {
@@ -163,7 +211,7 @@ describe('sessions', () => {
     const tampered = `${good.slice(0, -6)}${good.slice(-6).split('').reverse().join('')}`;
     const expired = await encode({ token: { userId: w.users.analyst }, secret, maxAge: -120 });
 
-    expect(await claimsFromSessionToken(good)).toEqual({ userId: w.users.analyst });
+    expect(await claimsFromSessionToken(good)).toEqual({ userId: w.users.analyst, sessionVersion: 0 });
     for (const t of [forged, tampered, expired, 'not-a-token']) expect(await claimsFromSessionToken(t)).toBeNull();
 
     actWithToken(good);
@@ -221,6 +269,86 @@ describe('sessions', () => {
     actAs(userId);
     expect(await getActor()).toBeNull();
     expect((await callRoute(meRoute.GET, { method: 'GET', path: '/api/me' })).status).toBe(401);
+  });
+
+  it('ends every session of the account on sign-out, password reset and password change (ASVS 4.0 V3.3.1, V3.3.3)', async () => {
+    const secret = getEnv().NEXTAUTH_SECRET;
+    const email = `sessions-${w.run}@matrix.example`;
+    const userId = await makeUser({ email, teamId: w.teamA, role: 'operator' });
+    const me = async () => (await callRoute(meRoute.GET, { method: 'GET', path: '/api/me' })).status;
+    /** A session token as next-auth issues it at sign-in (the jwt callback copies the account's version). */
+    const sessionToken = async () => {
+      const signIn = await attemptSignIn({ email, password: TEST_PASSWORD, ip: freshIp() });
+      if (!signIn.ok) throw new Error(`sign-in failed: ${signIn.reason}`);
+      const jwt = authOptions.callbacks?.jwt as (a: unknown) => Promise<Record<string, unknown>>;
+      const token = await jwt({
+        token: { email },
+        user: { id: String(signIn.user.id), email, sessionVersion: signIn.user.sessionVersion },
+      });
+      return encode({ token, secret, maxAge: 3600 });
+    };
+
+    // Sign-out in one browser ends the session of another browser at once.
+    const laptop = await sessionToken();
+    const lab = await sessionToken();
+    actWithToken(lab);
+    expect(await me()).toBe(200);
+    const signOut = authOptions.events?.signOut as (m: { token: Record<string, unknown> }) => Promise<void>;
+    await signOut({ token: { userId, email } });
+    actWithToken(lab);
+    expect(await me()).toBe(401);
+    actWithToken(laptop);
+    expect(await me()).toBe(401);
+
+    // A password change ends the other sessions; a wrong current password changes nothing.
+    const other = await sessionToken();
+    const here = await sessionToken();
+    actWithToken(here);
+    const wrong = await callRoute(passwordRoute.POST, {
+      method: 'POST',
+      path: '/api/me/password',
+      body: { currentPassword: 'not it at all', password: 'tidal pool lantern', confirm: 'tidal pool lantern' },
+    });
+    expect(wrong.status).toBe(400);
+    expect((wrong.json as { error: { details: string[] } }).error.details).toEqual([
+      'currentPassword: The current password is not right.',
+    ]);
+    actWithToken(other);
+    expect(await me()).toBe(200);
+    actWithToken(here);
+    const changed = await callRoute(passwordRoute.POST, {
+      method: 'POST',
+      path: '/api/me/password',
+      body: { currentPassword: TEST_PASSWORD, password: 'tidal pool lantern', confirm: 'tidal pool lantern' },
+    });
+    expect(changed.status).toBe(200);
+    actWithToken(other);
+    expect(await me()).toBe(401);
+    expect(await auditRows({ action: 'auth.password_changed', target_id: String(userId) })).toHaveLength(1);
+    expect(await attemptSignIn({ email, password: 'tidal pool lantern', ip: freshIp() })).toMatchObject({ ok: true });
+
+    // A password reset ends every session too.
+    await changePassword({
+      userId,
+      currentPassword: 'tidal pool lantern',
+      newPassword: TEST_PASSWORD,
+      by: { userId, email, ip: freshIp() },
+    });
+    const before = await sessionToken();
+    actWithToken(before);
+    expect(await me()).toBe(200);
+    actAs(null);
+    await callRoute(resetRoute.POST, { method: 'POST', path: '/api/auth/password-reset', body: { email } });
+    await settlePasswordResetRequests();
+    const token = tokenFromLink((await waitForCaughtMessage((m) => m.to.includes(email))).text, 'reset-password');
+    const done = await callRoute(resetCompleteRoute.POST, {
+      method: 'POST',
+      path: '/api/auth/password-reset/complete',
+      body: { token, password: 'quay crane at dusk', confirm: 'quay crane at dusk' },
+    });
+    expect(done.status).toBe(200);
+    actWithToken(before);
+    expect(await me()).toBe(401);
   });
 
   it('audits sign-out and refused access', async () => {
@@ -343,7 +471,7 @@ describe('password reset', () => {
     });
     expect(short.status).toBe(400);
     expect((short.json as { error: { details: string[] } }).error.details).toEqual([
-      'password: The password needs at least 10 characters.',
+      'password: The password needs at least 12 characters.',
       'confirm: The two passwords are not the same.',
     ]);
   });

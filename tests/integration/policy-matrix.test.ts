@@ -137,7 +137,8 @@ const versionRows = (kind: 'calibration' | 'settings'): Row[] => {
         ...campaignPath(t, `/${seg}`),
         body: { body: w.versionBody(kind), note: 'matrix: a new draft' },
       }),
-      expect: analystOnly(200),
+      // RFC 9110 §15.3.2: a new version is a created resource.
+      expect: analystOnly(201),
     },
     {
       route: `${base}/[versionId]`,
@@ -225,6 +226,22 @@ const ROWS: Row[] = [
       body: { shift_receipt: true, reduction_failed: true, fixity_alert: true },
     }),
     expect: signedIn(200),
+  },
+  {
+    // Own password only: every signed-in user reaches the current-password check (a wrong one here, so the
+    // matrix's accounts keep theirs: 400); signed out: 401. Two wrong tries per account stay under the free
+    // failures of the sign-in throttle.
+    route: '/api/me/password',
+    method: 'POST',
+    request: () => ({
+      path: '/api/me/password',
+      body: {
+        currentPassword: 'not the password',
+        password: 'a fresh long passphrase',
+        confirm: 'a fresh long passphrase',
+      },
+    }),
+    expect: signedIn(400),
   },
   { route: '/api/teams', method: 'GET', request: () => ({ path: '/api/teams' }), expect: signedIn(200) },
   {
@@ -568,6 +585,21 @@ const ROWS: Row[] = [
     request: async ({ w, t }) => {
       const scanId = await w.freshScan(t);
       return { path: `/api/scans/${scanId}/reduce`, params: { scanId: String(scanId) }, body: {} };
+    },
+    expect: analystOnly(200),
+  },
+  // Flagging a scan is the analyst's (PRODUCT.md "Who uses it": analyst … flag scans); a fresh scan per call, so
+  // a flag set by one row never leaks into the data other rows read.
+  {
+    route: '/api/scans/[scanId]/flag',
+    method: 'PUT',
+    request: async ({ w, t }) => {
+      const scanId = await w.freshScan(t);
+      return {
+        path: `/api/scans/${scanId}/flag`,
+        params: { scanId: String(scanId) },
+        body: { flagged: true, reason: 'Background frame looks saturated.' },
+      };
     },
     expect: analystOnly(200),
   },

@@ -26,7 +26,7 @@ const valid: Record<string, string> = {
   S3_BUCKET_ARCHIVE: 'lobeline-archive',
 };
 
-const OPTIONAL = ['MAIL_CATCHER_DIR', 'S3_ENDPOINT', 'LOG_LEVEL'];
+const OPTIONAL = ['MAIL_CATCHER_DIR', 'S3_ENDPOINT', 'LOG_LEVEL', 'TRUSTED_PROXY_HOPS'];
 const REQUIRED = Object.keys(ENV_HELP).filter((k) => !OPTIONAL.includes(k));
 
 function problemsOf(source: Record<string, string | undefined>) {
@@ -89,6 +89,16 @@ describe('parseEnv', () => {
       'LOG_LEVEL',
     ]);
     expect(err.problems.every((p) => p.problem.startsWith('invalid'))).toBe(true);
+  });
+
+  it('reads TRUSTED_PROXY_HOPS as 0 when unset and refuses what is not 0–10', () => {
+    expect(parseEnv(valid).TRUSTED_PROXY_HOPS).toBe(0);
+    expect(parseEnv({ ...valid, TRUSTED_PROXY_HOPS: '2' }).TRUSTED_PROXY_HOPS).toBe(2);
+    for (const bad of ['-1', 'two', '11']) {
+      expect(problemsOf({ ...valid, TRUSTED_PROXY_HOPS: bad }).problems.map((p) => p.name)).toEqual([
+        'TRUSTED_PROXY_HOPS',
+      ]);
+    }
   });
 
   it('allows an empty S3_ENDPOINT (AWS S3) and optional catcher folder and log level', () => {

@@ -26,5 +26,6 @@ export default async function SignInPage({
       : one(sp.invited)
         ? NOTICES.invited
         : null;
-  return <SignInForm next={one(sp.next)} initialError={one(sp.error)} notice={notice ?? null} />;
+  // proxy.ts has already refused a malformed return address (400) and dropped a foreign one.
+  return <SignInForm next={one(sp.next) ?? one(sp.callbackUrl)} initialError={one(sp.error)} notice={notice ?? null} />;
 }

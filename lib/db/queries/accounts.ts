@@ -97,11 +97,22 @@ function toUserDto(u: UserWithRoles): UserDto {
 
 // ACTOR //
 
-/** The actor for a user id, read fresh from the database; null when unknown or deactivated. */
-export async function getActorByUserId({ userId }: { userId: number }): Promise<Actor | null> {
+/**
+ * The actor for a user id, read fresh from the database; null when unknown or deactivated, and — when
+ * `sessionVersion` is given — when the account's session version has moved on since the token was issued
+ * (signed out elsewhere, password reset or changed). The version is compared in the same query, at no extra cost.
+ */
+export async function getActorByUserId({
+  userId,
+  sessionVersion,
+}: {
+  userId: number;
+  sessionVersion?: number;
+}): Promise<Actor | null> {
   return db('getActorByUserId', async () => {
     const user = (await User.findByPk(userId, { include: userIncludes() })) as UserWithRoles | null;
     if (!user?.is_active) return null;
+    if (sessionVersion !== undefined && Number(user.session_version ?? 0) !== sessionVersion) return null;
     const dto = toUserDto(user);
     return {
       userId: dto.id,
@@ -121,6 +132,7 @@ export interface SignInUser {
   name: string;
   isActive: boolean;
   passwordHash: string | null;
+  sessionVersion: number;
 }
 
 /** For the credentials check only: the one function that returns the password hash. */
@@ -128,53 +140,15 @@ export async function getUserForSignIn({ email }: { email: string }): Promise<Si
   return db('getUserForSignIn', async () => {
     const u = await User.findOne({ where: { email: normalizeEmail(email) } });
     return u
-      ? { id: u.id, email: u.email, name: u.name, isActive: !!u.is_active, passwordHash: u.password_hash }
+      ? {
+          id: u.id,
+          email: u.email,
+          name: u.name,
+          isActive: !!u.is_active,
+          passwordHash: u.password_hash,
+          sessionVersion: Number(u.session_version ?? 0),
+        }
       : null;
-  });
-}
-
-/** Failed attempts since `since` for an account (after its last success) and for an address. */
-export async function countFailedSignIns({
-  email,
-  ip,
-  since,
-}: {
-  email: string;
-  ip: string;
-  since: Date;
-}): Promise<{ byAccount: number; byIp: number }> {
-  return db('countFailedSignIns', async () => {
-    const normalized = normalizeEmail(email);
-    const lastSuccess = (await SignInAttempt.max('created_at', {
-      where: { email: normalized, succeeded: true, created_at: { [Op.gte]: since } },
-    })) as Date | null;
-    const accountSince = lastSuccess && new Date(lastSuccess) > since ? new Date(lastSuccess) : since;
-    const [byAccount, byIp] = await Promise.all([
-      SignInAttempt.count({ where: { email: normalized, succeeded: false, created_at: { [Op.gt]: accountSince } } }),
-      SignInAttempt.count({ where: { ip, succeeded: false, created_at: { [Op.gte]: since } } }),
-    ]);
-    return { byAccount, byIp };
-  });
-}
-
-/** Oldest failure still inside the window, to tell the user how long to wait. */
-export async function oldestFailureSince({
-  email,
-  ip,
-  since,
-  by,
-}: {
-  email: string;
-  ip: string;
-  since: Date;
-  by: 'account' | 'ip';
-}): Promise<Date | null> {
-  return db('oldestFailureSince', async () => {
-    const where = by === 'account' ? { email: normalizeEmail(email) } : { ip };
-    const v = (await SignInAttempt.min('created_at', {
-      where: { ...where, succeeded: false, created_at: { [Op.gte]: since } },
-    })) as Date | null;
-    return v ? new Date(v) : null;
   });
 }
 
@@ -190,6 +164,50 @@ export async function recordSignInAttempt({
   await db('recordSignInAttempt', async () => {
     await SignInAttempt.create({ email: normalizeEmail(email).slice(0, 254), ip: ip.slice(0, 64), succeeded });
   });
+}
+
+/** Ends every session of the account (their tokens carry the old version); returns the new version. */
+export async function bumpSessionVersion({ userId }: { userId: number }, t?: Transaction): Promise<number> {
+  const run = async (tx: Transaction | undefined) => {
+    await User.increment('session_version', { by: 1, where: { id: userId }, transaction: tx });
+    const u = await User.findByPk(userId, { attributes: ['session_version'], transaction: tx });
+    return Number(u?.session_version ?? 0);
+  };
+  if (t) return run(t);
+  return db('bumpSessionVersion', () => run(undefined));
+}
+
+/** The password hash and session version of an active account, for the password change check. */
+export async function getPasswordCheck({
+  userId,
+}: {
+  userId: number;
+}): Promise<{ email: string; passwordHash: string | null } | null> {
+  return db('getPasswordCheck', async () => {
+    const u = await User.findByPk(userId, { attributes: ['email', 'password_hash', 'is_active'] });
+    return u?.is_active ? { email: u.email, passwordHash: u.password_hash } : null;
+  });
+}
+
+/** Sets a new password and ends every session of the account in one transaction; returns the new version. */
+export async function changePasswordRecord(input: { userId: number; passwordHash: string }, by: By): Promise<number> {
+  return db('changePasswordRecord', () =>
+    getDb().transaction(async (t) => {
+      await User.update({ password_hash: input.passwordHash }, { where: { id: input.userId }, transaction: t });
+      const version = await bumpSessionVersion({ userId: input.userId }, t);
+      await recordAudit(
+        {
+          action: 'auth.password_changed',
+          ...auditBy(by),
+          targetType: 'user',
+          targetId: input.userId,
+          details: { sessionsEnded: true },
+        },
+        { transaction: t },
+      );
+      return version;
+    }),
+  );
 }
 
 export async function markSignedIn({ userId }: { userId: number }): Promise<void> {
@@ -739,6 +757,8 @@ export async function completeResetRecord(
       if (!row || !user || state !== 'valid') return { ok: false as const, state, userId: row?.user_id ?? null };
       const now = new Date();
       await user.update({ password_hash: input.passwordHash }, { transaction: t });
+      // A reset ends every session of the account (whoever knew the old password is signed out at once).
+      await bumpSessionVersion({ userId: user.id }, t);
       await PasswordResetToken.update({ used_at: now }, { where: { user_id: user.id, used_at: null }, transaction: t });
       await recordAudit(
         {

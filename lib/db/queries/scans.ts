@@ -211,9 +211,16 @@ export async function listCampaignScans(q: ScanListQuery): Promise<{ rows: ScanR
       where.push('s.flagged = :flagged');
       repl.flagged = q.flagged ? 1 : 0;
     }
-    const needsFile = !!q.q;
+    // The free-text filter reads scans.search_text (title, line feed, file name; kept by triggers and indexed with
+    // the campaign: migrations/2026.12.02T17.10.00.scan-search-text.ts) instead of joining raw_files. A filter
+    // with a line feed of its own could match across the separator, so it takes the two columns as before.
+    const needsFile = !!q.q && q.q.includes('\n');
     if (q.q) {
-      where.push("(s.title LIKE :q ESCAPE '\\\\' OR f.original_name LIKE :q ESCAPE '\\\\')");
+      where.push(
+        needsFile
+          ? "(s.title LIKE :q ESCAPE '\\\\' OR f.original_name LIKE :q ESCAPE '\\\\')"
+          : "s.search_text LIKE :q ESCAPE '\\\\'",
+      );
       repl.q = `%${likeEscape(q.q)}%`;
     }
     const whereSql = where.join(' AND ');

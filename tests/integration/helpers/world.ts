@@ -442,6 +442,13 @@ export async function makeWorld(opts: { data?: boolean } = {}): Promise<World> {
       for (const job of await queue.getJobs(['waiting', 'delayed', 'prioritized'])) {
         if (job && all.has(job.data.scanId)) await job.remove().catch(() => undefined);
       }
+      // …nor be put back on the queue by a later worker's lost-job sweep (lib/jobs/sweep.ts).
+      if (all.size) {
+        await ReductionJob.update(
+          { status: 'failed', error_message: 'Closed by the test clean-up.' },
+          { where: { scan_id: [...all], status: ['queued', 'running'] } },
+        );
+      }
     },
   };
 }

@@ -209,6 +209,36 @@ describe('the recovery checks can fail', () => {
   });
 });
 
+describe("a file from another group's software (tests/fixtures/h5py/make_fixtures.py, written by h5py)", () => {
+  const H5PY = path.join(ROOT, 'tests/fixtures/h5py');
+  it('unusable optional fields: exit 0, the scan reduces, each field named in a warning (FORMATS §1)', async () => {
+    const r = await run([path.join(H5PY, 'opt_other_group_software.h5'), '--json']);
+    expect(r.code, r.stderr).toBe(0);
+    const result = JSON.parse(r.stdout) as LobelineResult;
+    expect(result.steps).toHaveLength(3);
+    for (const p of [
+      '/entry/instrument/source/pulse_duration@units',
+      '/entry/instrument/source/major_axis_angle',
+      '/entry/instrument/detector/description',
+      '/entry/data/x@units',
+    ]) {
+      expect(
+        result.warnings.some((w) => w.startsWith(`${p}: `) && w.includes('ignored')),
+        p,
+      ).toBe(true);
+    }
+    // the ignored major axis falls back to the default 0° of FORMATS §1
+    expect(result.input.major_axis_angle_deg).toBe(0);
+  });
+
+  it('the same defect on a required field (wavelength without @units): exit 2 naming path and rule', async () => {
+    const r = await run([path.join(H5PY, 'bad_wavelength_no_units.h5'), '--json']);
+    expect(r.code).toBe(2);
+    expect(r.stdout).toBe('');
+    expect(r.stderr).toContain('/entry/instrument/source/wavelength@units: required: must be "nm" but missing');
+  });
+});
+
 describe('refusals and exit codes', () => {
   it('a broken file: exit 2, every problem on stderr, one per line, nothing on stdout', async () => {
     const file = path.join(DIR, 'many.h5');

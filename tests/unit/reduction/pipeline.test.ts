@@ -248,7 +248,9 @@ describe('two-colour phase scan through the reducer', () => {
     expect(Number.isNaN(phaseMaps!.phase_of_max[0]!)).toBe(true);
     expect(arrays.length).toBe(16);
     expect(result.steps.map((st) => st.index)).toEqual([0, 1, 2, 3, 4, 5, 6, 7]);
-    expect(result.steps[0]!.lobes[0]!.expected_deg).toBeNull();
+    // FORMATS §4: a two-colour phase scan has no lobes (no lobe fit, simple-man direction or offset)
+    expect(result.steps[0]!.lobes).toEqual([]);
+    expect(result.steps[0]!.offset_deg).toBeNull();
     expect(result.steps[0]!.intensity_from_radius_Wcm2).toBeNull();
   });
 });

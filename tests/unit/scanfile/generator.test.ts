@@ -162,7 +162,10 @@ print(json.dumps({'shape': c.shape, 'dtype': str(c.dtype), 'chunks': c.chunks, '
 });
 
 describe('broken variants (--broken): each has its own specific message', () => {
-  const expected: Record<string, { path: string; words: string[] } | { step: number; words: string[] }> = {
+  const expected: Record<
+    string,
+    { path: string; words: string[] } | { step: number; words: string[] } | { warning: string; words: string[] }
+  > = {
     not_hdf5: { path: '(file)', words: ['not an HDF5 file', 'text file'] },
     truncated: { path: '(file)', words: ['truncated HDF5 file', 'superblock records'] },
     missing_wavelength: { path: '/entry/instrument/source/wavelength', words: ['required', 'missing'] },
@@ -176,7 +179,8 @@ describe('broken variants (--broken): each has its own specific message', () => 
     wrong_step_units: { path: '/entry/data/step@units', words: ['"W/cm^2"', '"fs"'] },
     bad_ellipticity: { path: '/entry/instrument/source/ellipticity', words: ['[0, 1]', '1.3'] },
     bad_start_time: { path: '/entry/start_time', words: ['ISO 8601', 'yesterday after lunch'] },
-    background_shape_mismatch: { path: '/entry/background/counts', words: ['64×64', '56×56'] },
+    // FORMATS §1: the background is optional content, so a wrong one is ignored with a warning and the scan opens
+    background_shape_mismatch: { warning: '/entry/background/counts', words: ['64×64', '56×56', 'ignored'] },
     lz4_compressed: { path: '/entry/data/counts', words: ['unsupported compression: LZ4'] },
   };
   it('covers every kind', () => expect(Object.keys(expected).sort()).toEqual([...BROKEN_KINDS].sort()));
@@ -200,6 +204,15 @@ describe('broken variants (--broken): each has its own specific message', () => 
     // lz4 is readable with the plugins: the refusal is checked without them
     const r = openScanFile(rt, out, kind === 'lz4_compressed' ? { acceptedPluginFilters: [] } : {});
     const want = expected[kind]!;
+    if ('warning' in want) {
+      if (!r.ok) throw new Error(r.problems.map((p) => p.message).join('\n'));
+      expect(r.scan.meta.background).toBeNull();
+      r.scan.close();
+      const w = r.warnings.find((x) => x.startsWith(`${want.warning}: `));
+      expect(w, r.warnings.join(' | ')).toBeDefined();
+      for (const word of want.words) expect(w).toContain(word);
+      return;
+    }
     if ('step' in want) {
       if (!r.ok) throw new Error(r.problems.map((p) => p.message).join('\n'));
       let err: unknown = null;

@@ -22,6 +22,9 @@ interface FixtureFile {
   background?: { layout: 'single' | 'per_step'; frames: number[][][] } | null;
   problems?: { path: string; words: string[] }[];
   read_error?: { step: number; words: string[] };
+  tolerated?: boolean;
+  warnings?: { path: string; words: string[] }[];
+  meta?: Record<string, unknown>;
 }
 
 const fixtures = JSON.parse(readFileSync(path.join(H5PY_DIR, 'fixtures.json'), 'utf8')) as {
@@ -29,7 +32,8 @@ const fixtures = JSON.parse(readFileSync(path.join(H5PY_DIR, 'fixtures.json'), '
   files: Record<string, FixtureFile>;
 };
 const entries = Object.entries(fixtures.files);
-const validFiles = entries.filter(([, f]) => f.valid && f.frames !== undefined);
+const validFiles = entries.filter(([, f]) => f.valid && f.frames !== undefined && !f.tolerated);
+const toleratedFiles = entries.filter(([, f]) => f.tolerated === true);
 const refused = entries.filter(([, f]) => !f.valid);
 const frameErrors = entries.filter(([, f]) => f.read_error !== undefined);
 
@@ -152,6 +156,71 @@ describe('valid h5py files: every value read back', () => {
     expect(() => r.scan.readFrame(0)).toThrow(/already closed/);
   });
 });
+
+describe('unusable optional content (FORMATS §1): ignored with a warning naming path and rule, the scan opens', () => {
+  it('has the fixtures (make_fixtures.py, `tolerated`)', () => {
+    expect(toleratedFiles.map(([n]) => n).sort()).toEqual(['opt_background_shape.h5', 'opt_other_group_software.h5']);
+  });
+
+  it.each(toleratedFiles)('%s', (name, f) => {
+    const r = openScanFile(rt, path.join(H5PY_DIR, name));
+    if (!r.ok) throw new Error(r.problems.map((p) => p.message).join('\n'));
+    try {
+      // one warning per unusable field, each starting with the path and carrying the rule's words
+      const want = f.warnings ?? [];
+      const ignored = r.warnings.filter((w) => w.includes('optional, so it was ignored'));
+      expect(ignored.length, ignored.join(' | ')).toBe(want.length);
+      for (const w of want) {
+        const hit = ignored.find((x) => x.startsWith(`${w.path}: `) && w.words.every((word) => x.includes(word)));
+        expect(
+          hit,
+          `${name}: expected a warning at ${w.path} with ${JSON.stringify(w.words)}, got ${ignored.join(' | ')}`,
+        ).toBeDefined();
+      }
+      // the defaults of FORMATS §1 stand in for what was ignored; the required values are those h5py wrote
+      expect(scan(r).meta).toMatchObject({
+        ...f.meta,
+        wavelengthNm: 800,
+        target: 'Ar',
+        helicity: 1,
+        ellipticity: 0.87,
+      });
+      // every frame still equals what h5py wrote
+      const frames = f.frames as number[][][];
+      const out = new Float64Array(fixtures.shape[0] * fixtures.shape[1]);
+      frames.forEach((frame, k) => {
+        scan(r).readFrame(k, out);
+        expect(Array.from(out)).toEqual(frame.flat());
+      });
+    } finally {
+      scan(r).close();
+    }
+  });
+
+  it("lists the other group's own extra group as extra content", () => {
+    const r = openScanFile(rt, path.join(H5PY_DIR, 'opt_other_group_software.h5'));
+    if (!r.ok) throw new Error('refused');
+    expect(r.scan.meta.extraPaths).toEqual(
+      expect.arrayContaining(['/entry/acquisition_settings', '/entry/acquisition_settings/exposure']),
+    );
+    r.scan.close();
+  });
+
+  it('the same defects on required content still refuse, naming path and rule', () => {
+    const noUnits = openScanFile(rt, path.join(H5PY_DIR, 'bad_wavelength_no_units.h5'));
+    expect(noUnits.ok ? [] : noUnits.problems.map((p) => p.message)).toEqual([
+      '/entry/instrument/source/wavelength@units: required: must be "nm" but missing',
+    ]);
+    const asText = openScanFile(rt, path.join(H5PY_DIR, 'bad_ellipticity_string.h5'));
+    expect(asText.ok).toBe(false);
+    if (!asText.ok) expect(asText.problems[0]?.path).toBe('/entry/instrument/source/ellipticity');
+  });
+});
+
+function scan(r: ReturnType<typeof openScanFile>) {
+  if (!r.ok) throw new Error('refused');
+  return r.scan;
+}
 
 describe('broken h5py files: refused with every problem, each naming path and rule', () => {
   it.each(refused)('%s', (name, f) => {

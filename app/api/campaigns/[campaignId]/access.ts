@@ -1,6 +1,6 @@
 // Shared access checks and version-route builders of the campaign API (not a route: Next only serves route.ts).
 import { z } from 'zod';
-import { apiRoute, idParam } from '@/lib/api/route';
+import { apiRoute, idParam, jsonResponse } from '@/lib/api/route';
 import {
   approveVersion,
   createVersion,
@@ -37,6 +37,12 @@ export function campaignAbilities(actor: Actor, teamId: number) {
 const noteSchema = z.string().trim().max(2000, 'at most 2000 characters').nullish();
 export const versionBody = z.object({ body: z.unknown(), note: noteSchema });
 
+/**
+ * Body limit of a calibration or settings version: 1 MiB, which bounds a bad-pixel list to well under 100 000
+ * [row, column] pairs (a 1024 × 1024 detector with 10 % dead pixels stays far below it).
+ */
+export const VERSION_MAX_BODY_BYTES = 1024 * 1024;
+
 /** GET (list) and POST (new draft) for `/api/campaigns/[id]/{calibrations|settings}`. */
 export function versionCollectionRoutes(kind: VersionKind) {
   return {
@@ -44,18 +50,22 @@ export function versionCollectionRoutes(kind: VersionKind) {
       await campaignFor(actor, params.campaignId, 'calibration.view');
       return { versions: await listVersions({ campaignId: params.campaignId, kind }) };
     }),
-    POST: apiRoute({ params: campaignParams, body: versionBody }, async ({ actor, params, body, ip }) => {
-      await campaignFor(actor, params.campaignId, 'calibration.edit');
-      const version = await createVersion({
-        campaignId: params.campaignId,
-        kind,
-        body: body.body,
-        note: body.note,
-        actor,
-        ip,
-      });
-      return { version };
-    }),
+    POST: apiRoute(
+      { params: campaignParams, body: versionBody, maxBodyBytes: VERSION_MAX_BODY_BYTES },
+      async ({ actor, params, body, ip }) => {
+        await campaignFor(actor, params.campaignId, 'calibration.edit');
+        const version = await createVersion({
+          campaignId: params.campaignId,
+          kind,
+          body: body.body,
+          note: body.note,
+          actor,
+          ip,
+        });
+        // RFC 9110 §15.3.2: a request that created a resource answers 201 Created.
+        return jsonResponse({ version }, { status: 201 });
+      },
+    ),
   };
 }
 
@@ -73,11 +83,14 @@ export function versionItemRoutes(kind: VersionKind) {
       authorizeObject(actor, 'calibration.view', { teamId: v.teamId, surface: kind });
       return { version: v.version };
     }),
-    PATCH: apiRoute({ params: versionParams, body: versionBody }, async ({ actor, params, body }) => {
-      const v = await versionInCampaign(kind, params.campaignId, params.versionId);
-      authorizeObject(actor, 'calibration.edit', { teamId: v.teamId, surface: kind });
-      return { version: await updateDraft({ kind, versionId: params.versionId, body: body.body, note: body.note }) };
-    }),
+    PATCH: apiRoute(
+      { params: versionParams, body: versionBody, maxBodyBytes: VERSION_MAX_BODY_BYTES },
+      async ({ actor, params, body }) => {
+        const v = await versionInCampaign(kind, params.campaignId, params.versionId);
+        authorizeObject(actor, 'calibration.edit', { teamId: v.teamId, surface: kind });
+        return { version: await updateDraft({ kind, versionId: params.versionId, body: body.body, note: body.note }) };
+      },
+    ),
   };
 }
 
