@@ -36,6 +36,8 @@ const nextConfig = {
   poweredByHeader: false,
   reactStrictMode: true,
   typedRoutes: false,
+  // forbidden() + app/(app)/forbidden.tsx: pages a role may not use answer 403 (not 200) inside the app's frame.
+  experimental: { authInterrupts: true },
   async headers() {
     return [
       { source: '/:path*', headers: everywhere },

@@ -114,6 +114,8 @@ export async function proxy(request: NextRequest): Promise<NextResponse> {
   const csp = contentSecurityPolicy(nonce);
   const requestHeaders = new Headers(request.headers);
   requestHeaders.set('x-nonce', nonce);
+  // The address, for app/(app)/forbidden.tsx (the 403 boundary says why without the page's help).
+  requestHeaders.set('x-lobeline-path', pathname);
   requestHeaders.set('content-security-policy', csp);
   return withSecurityHeaders(NextResponse.next({ request: { headers: requestHeaders } }), csp);
 }

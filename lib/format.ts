@@ -43,3 +43,38 @@ export function formatDay(value: string | Date | null | undefined): string {
   const d = toDate(value);
   return d ? DAY.format(d) : '—';
 }
+
+const SUPERSCRIPT: Record<string, string> = {
+  '0': '⁰',
+  '1': '¹',
+  '2': '²',
+  '3': '³',
+  '4': '⁴',
+  '5': '⁵',
+  '6': '⁶',
+  '7': '⁷',
+  '8': '⁸',
+  '9': '⁹',
+  '-': '⁻',
+};
+
+/**
+ * Number text for people (tables, axes, messages): `2×10¹⁴`, `2.5×10⁻⁴`, `0.012`, `1250`. Values of 10⁵ and more,
+ * or below 10⁻³, are written in scientific form with a real power of ten, never as `2e14`; `digits` significant
+ * digits, trailing zeros dropped; `—` for a missing or non-finite value. Machine formats (CSV, JSON) keep plain
+ * numbers and do not use this.
+ */
+export function formatNumber(v: number | null | undefined, digits = 3): string {
+  if (v === null || v === undefined || !Number.isFinite(v)) return '—';
+  const a = Math.abs(v);
+  if (a !== 0 && (a >= 1e5 || a < 1e-3)) {
+    const [m, e] = v.toExponential(Math.max(0, digits - 1)).split('e');
+    const mantissa = Number(m);
+    const exponent = String(Number(e))
+      .split('')
+      .map((ch) => SUPERSCRIPT[ch] ?? ch)
+      .join('');
+    return `${mantissa}×10${exponent}`;
+  }
+  return String(Number(v.toPrecision(digits)));
+}

@@ -242,6 +242,27 @@ export function authorizeObject(
   });
 }
 
+/** Actions on the signed-in user's own account (C11: which e-mails they get). */
+export const OWN_ACCOUNT_ACTIONS = ['account.notifications'] as const;
+export type OwnAccountAction = (typeof OWN_ACCOUNT_ACTIONS)[number];
+
+/**
+ * Throws unless `actor` may perform an own-account action on the account `ownerUserId`: every signed-in user may,
+ * on their own account only (401 without a session, 403 for anyone else's, administrators included).
+ */
+export function authorizeOwn(
+  actor: Actor | null,
+  action: OwnAccountAction,
+  ownerUserId: number,
+): asserts actor is Actor {
+  if (!actor) throw new AppError('unauthorized:auth');
+  if (actor.userId === ownerUserId) return;
+  throw new AppError('forbidden:auth', {
+    message: 'Only the account holder chooses their own e-mail notifications.',
+    context: { action, userId: actor.userId, ownerUserId },
+  });
+}
+
 const ACTION_WORDS: Partial<Record<Action, string>> = {
   'shift.open': 'opening a shift',
   'shift.close': 'closing a shift',

@@ -341,7 +341,7 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
     const offGrid = hCart[maps.cartesian.nBins]!;
     if (total > 0 && offGrid / total > 0.01) {
       warnings.add(
-        `${((100 * offGrid) / total).toFixed(1)} % of the counts fell outside the momentum grid; a larger grid.p_max_au would keep them.`,
+        `${((100 * offGrid) / total).toFixed(1)} % of the counts fell outside the momentum grid; raise “Momentum grid half-width” in the analysis settings to keep them.`,
         index,
       );
     }
@@ -414,7 +414,7 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
       }
       if (chainCfg.fitHalfWidthDeg !== 'follow' && l.widthDeg !== null && l.widthDeg > settings.fit_half_width_deg) {
         warnings.add(
-          `The fitted width of lobe ${i + 1} exceeds fit_half_width_deg; a window of about twice the lobe width gives a stabler width and background.`,
+          `The fitted width of lobe ${i + 1} exceeds the “Fit half-width” of the analysis settings; set it to about twice the lobe width for a stabler width and background.`,
           index,
         );
       }

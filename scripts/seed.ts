@@ -76,7 +76,7 @@ export const DEMO_USERS: {
   },
   {
     email: 'analyst@harbor-point.example',
-    name: 'Dev Raman',
+    name: 'Dev Aranha',
     memberships: [['attoclock', 'analyst']],
     facility: [],
     summary: 'analyst in attoclock',

@@ -6,7 +6,7 @@ import { Badge } from '@/components/ui/badge';
 import { DataTable } from '@/components/ui/data-table';
 import { EmptyState } from '@/components/ui/empty-state';
 import { ErrorState } from '@/components/ui/error-state';
-import { inputClass } from '@/components/ui/input-class';
+import { compactInputClass } from '@/components/ui/input-class';
 import { Panel } from '@/components/ui/panel';
 import { apiFetch } from '@/lib/api/client';
 import type { AuditAction } from '@/lib/audit';
@@ -23,6 +23,8 @@ interface AuditRow {
   ip: string | null;
   outcome: 'ok' | 'refused' | 'failed';
   details: Record<string, unknown> | null;
+  /** The app's own words for the ids (e.g. "calibration v2"), from the server. */
+  labels?: { target?: string; details: Record<string, string> };
 }
 
 const PAGE_SIZE = 50;
@@ -144,7 +146,8 @@ function detailValue(key: string, v: unknown): ReactNode {
     if (key.endsWith('Bytes')) return formatBytes(v);
     if (key.endsWith('Deg')) return `${v.toFixed(2).replace('-', '−')}°`;
     if (key === 'wavelengthNm') return `${v} nm`;
-    if (key.endsWith('Id') || key === 'version') return `#${v}`;
+    if (key === 'version') return `v${v}`;
+    if (key.endsWith('Id')) return `no. ${v}`;
     return Number.isInteger(v) ? String(v) : v.toPrecision(4).replace('-', '−');
   }
   if (typeof v === 'string') {
@@ -161,12 +164,20 @@ function detailValue(key: string, v: unknown): ReactNode {
   return null; // nested objects (e.g. a metadata override) are not summarised here
 }
 
-function Details({ action, details }: { action: string; details: Record<string, unknown> | null }) {
+function Details({
+  action,
+  details,
+  labels = {},
+}: {
+  action: string;
+  details: Record<string, unknown> | null;
+  labels?: Record<string, string>;
+}) {
   if (!details) return null;
   const reasons = Array.isArray(details.reasons) ? details.reasons.filter((x) => typeof x === 'string') : [];
   const parts = Object.entries(details)
     .filter(([k, v]) => k !== 'reasons' && v !== null && v !== undefined)
-    .map(([k, v]) => [k, detailValue(k, v)] as const)
+    .map(([k, v]) => [k, labels[k] ? labels[k].replace(/^(calibration|settings) /, '') : detailValue(k, v)] as const)
     .filter(([, v]) => v !== null && v !== '')
     .slice(0, 5);
   return (
@@ -191,11 +202,23 @@ export function AuditTrail({ scopeNote }: { scopeNote: string }) {
   const [page, setPage] = useState(1);
   const [action, setAction] = useState('');
   const [outcome, setOutcome] = useState('');
+  const [from, setFrom] = useState('');
+  const [to, setTo] = useState('');
   const params = new URLSearchParams({ page: String(page), pageSize: String(PAGE_SIZE) });
   if (action) params.set('action', action);
   if (outcome) params.set('outcome', outcome);
+  if (from) params.set('from', from);
+  if (to) params.set('to', to);
+  // The export takes the same kind of event and the chosen days (the last 30 days when none are chosen).
+  const today = new Date().toISOString().slice(0, 10);
+  const monthAgo = new Date(Date.now() - 29 * 86_400_000).toISOString().slice(0, 10);
+  const exportHref = (format: 'csv' | 'json') => {
+    const p = new URLSearchParams({ format, from: from || (to && to < monthAgo ? to : monthAgo), to: to || today });
+    if (action) p.set('action', action);
+    return `/api/audit/export?${p}`;
+  };
   const q = useQuery({
-    queryKey: ['audit', page, action, outcome],
+    queryKey: ['audit', page, action, outcome, from, to],
     queryFn: () => apiFetch<{ events: AuditRow[]; total: number }>(`/api/audit?${params}`),
     placeholderData: keepPreviousData,
   });
@@ -206,7 +229,7 @@ export function AuditTrail({ scopeNote }: { scopeNote: string }) {
       description={scopeNote}
       flush
       actions={
-        <div className="flex items-center gap-2">
+        <div className="flex flex-wrap items-center gap-2">
           <label htmlFor="audit-action" className="sr-only">
             Kind of event
           </label>
@@ -217,7 +240,7 @@ export function AuditTrail({ scopeNote }: { scopeNote: string }) {
               setAction(e.target.value);
               setPage(1);
             }}
-            className={`${inputClass()} h-8 py-0 text-small`}
+            className={compactInputClass()}
           >
             {ACTION_GROUPS.map((g) => (
               <option key={g.value} value={g.value}>
@@ -235,13 +258,58 @@ export function AuditTrail({ scopeNote }: { scopeNote: string }) {
               setOutcome(e.target.value);
               setPage(1);
             }}
-            className={`${inputClass()} h-8 py-0 text-small`}
+            className={compactInputClass()}
           >
             <option value="">Any outcome</option>
             <option value="ok">Done</option>
             <option value="failed">Failed</option>
             <option value="refused">Refused</option>
           </select>
+          <label htmlFor="audit-from" className="text-small text-ink-600">
+            From (UTC day)
+          </label>
+          <input
+            id="audit-from"
+            type="date"
+            value={from}
+            max={to || undefined}
+            onChange={(e) => {
+              setFrom(e.target.value);
+              setPage(1);
+            }}
+            className={compactInputClass('w-36')}
+          />
+          <label htmlFor="audit-to" className="text-small text-ink-600">
+            To (UTC day)
+          </label>
+          <input
+            id="audit-to"
+            type="date"
+            value={to}
+            min={from || undefined}
+            onChange={(e) => {
+              setTo(e.target.value);
+              setPage(1);
+            }}
+            className={compactInputClass('w-36')}
+          />
+          <span className="flex items-center gap-1 text-small text-ink-600" data-testid="audit-export">
+            Export
+            <a
+              className="rounded px-1.5 py-0.5 font-medium text-lobe-700 ring-1 ring-ink-200 hover:bg-ink-50"
+              href={exportHref('csv')}
+              download
+            >
+              CSV
+            </a>
+            <a
+              className="rounded px-1.5 py-0.5 font-medium text-lobe-700 ring-1 ring-ink-200 hover:bg-ink-50"
+              href={exportHref('json')}
+              download
+            >
+              JSON
+            </a>
+          </span>
         </div>
       }
     >
@@ -284,8 +352,10 @@ export function AuditTrail({ scopeNote }: { scopeNote: string }) {
               header: 'Object',
               className: 'whitespace-nowrap',
               render: (r) =>
-                r.targetType ? (
-                  `${TARGET_WORDS[r.targetType] ?? words(r.targetType)}${r.targetId ? ` #${r.targetId}` : ''}`
+                r.labels?.target ? (
+                  r.labels.target.charAt(0).toUpperCase() + r.labels.target.slice(1)
+                ) : r.targetType ? (
+                  `${TARGET_WORDS[r.targetType] ?? words(r.targetType)}${r.targetId ? ` no. ${r.targetId}` : ''}`
                 ) : (
                   <span className="text-ink-400">—</span>
                 ),
@@ -303,7 +373,7 @@ export function AuditTrail({ scopeNote }: { scopeNote: string }) {
               key: 'details',
               header: 'Details',
               className: 'max-w-[26rem] break-words',
-              render: (r) => <Details action={r.action} details={r.details} />,
+              render: (r) => <Details action={r.action} details={r.details} labels={r.labels?.details} />,
             },
           ]}
         />

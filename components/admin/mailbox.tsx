@@ -2,22 +2,25 @@
 
 import { useQuery } from '@tanstack/react-query';
 import { useState } from 'react';
-import { cx } from '@/components/ui/cx';
+import { Badge } from '@/components/ui/badge';
 import { EmptyState } from '@/components/ui/empty-state';
 import { ErrorState } from '@/components/ui/error-state';
 import { LoadingBlock } from '@/components/ui/loading-block';
 import { Panel } from '@/components/ui/panel';
 import { apiFetch } from '@/lib/api/client';
 import { formatDateTime } from '@/lib/format';
+import { NOTICE_KIND_WORDS, NOTICE_KINDS, type NoticeKind } from '@/lib/mail/notice-kinds';
 
-interface Summary {
+interface Notice {
   id: string;
   date: string;
   from: string;
   to: string[];
   subject: string;
+  kind: NoticeKind;
+  facts: string[];
 }
-interface Message extends Summary {
+interface Message extends Omit<Notice, 'kind' | 'facts'> {
   text: string;
   html: string;
 }
@@ -41,74 +44,113 @@ function Linkified({ text }: { text: string }) {
   );
 }
 
+function FullText({ id }: { id: string }) {
+  const one = useQuery({
+    queryKey: ['admin', 'mailbox', id],
+    queryFn: () => apiFetch<{ message: Message }>(`/api/admin/mailbox/${id}`),
+  });
+  if (one.isPending) return <LoadingBlock />;
+  if (one.isError) return <ErrorState message={one.error.message} />;
+  return (
+    <div className="mt-3 rounded-md bg-ink-50 p-3 ring-1 ring-ink-100">
+      <p className="mb-2 text-micro text-ink-500">
+        “{one.data.message.subject}” from {one.data.message.from}
+      </p>
+      <Linkified text={one.data.message.text} />
+    </div>
+  );
+}
+
+function NoticeCard({ n }: { n: Notice }) {
+  const [open, setOpen] = useState(false);
+  return (
+    <li className="px-5 py-3" data-testid="notice">
+      <div className="flex flex-wrap items-baseline justify-between gap-x-4 gap-y-1">
+        <p className="min-w-0 text-body font-medium break-all text-ink-900">{n.to.join(', ')}</p>
+        <p className="text-micro whitespace-nowrap text-ink-500 tabular-nums">{formatDateTime(n.date)}</p>
+      </div>
+      <ul className="mt-1 flex flex-wrap gap-x-3 gap-y-0.5 text-small text-ink-600">
+        {n.facts.map((f) => (
+          <li key={f} className="break-words">
+            {f}
+          </li>
+        ))}
+      </ul>
+      <button
+        type="button"
+        aria-expanded={open}
+        onClick={() => setOpen((v) => !v)}
+        className="mt-1.5 text-small font-medium text-lobe-700 hover:underline"
+      >
+        {open ? 'Hide the message' : 'Read the full message'}
+      </button>
+      {open ? <FullText id={n.id} /> : null}
+    </li>
+  );
+}
+
+/**
+ * The development mailbox: what Lobeline sent, sorted by kind of notice (invitations, resets, receipts, failures…),
+ * each with its recipient and the facts worth checking; the full text opens in place.
+ */
 export function Mailbox() {
-  const [openId, setOpenId] = useState<string | null>(null);
   const list = useQuery({
     queryKey: ['admin', 'mailbox'],
-    queryFn: () => apiFetch<{ messages: Summary[] }>('/api/admin/mailbox'),
+    queryFn: () => apiFetch<{ messages: Notice[] }>('/api/admin/mailbox'),
     refetchInterval: 5000,
   });
-  const one = useQuery({
-    queryKey: ['admin', 'mailbox', openId],
-    queryFn: () => apiFetch<{ message: Message }>(`/api/admin/mailbox/${openId}`),
-    enabled: openId !== null,
-  });
-
+  if (list.isPending)
+    return (
+      <Panel>
+        <LoadingBlock label="Reading the caught mail…" />
+      </Panel>
+    );
+  if (list.isError) return <ErrorState message={list.error.message} onRetry={() => void list.refetch()} />;
+  if (list.data.messages.length === 0)
+    return (
+      <Panel>
+        <EmptyState title="Nothing sent yet">
+          Invitations, password resets, shift receipts and failure notices appear here within seconds of being sent.
+        </EmptyState>
+      </Panel>
+    );
+  const byKind = new Map<NoticeKind, Notice[]>();
+  for (const m of list.data.messages) byKind.set(m.kind, [...(byKind.get(m.kind) ?? []), m]);
   return (
-    <div className="grid gap-6 lg:grid-cols-[24rem_minmax(0,1fr)]">
-      <Panel title="Caught messages" flush>
-        {list.isPending ? (
-          <div className="px-5 py-4">
-            <LoadingBlock />
-          </div>
-        ) : list.isError ? (
-          <div className="px-5 py-4">
-            <ErrorState message={list.error.message} onRetry={() => void list.refetch()} />
-          </div>
-        ) : list.data.messages.length === 0 ? (
-          <div className="px-5 py-4">
-            <EmptyState title="No mail yet">Invitations and reset links sent here appear within seconds.</EmptyState>
-          </div>
-        ) : (
-          <ul className="divide-y divide-ink-100" data-testid="mail-list">
-            {list.data.messages.map((m) => (
-              <li key={m.id}>
-                <button
-                  type="button"
-                  onClick={() => setOpenId(m.id)}
-                  className={cx('block w-full px-5 py-2.5 text-left hover:bg-ink-50', openId === m.id && 'bg-lobe-50')}
-                >
-                  <span className="block truncate text-small font-medium text-ink-900">{m.subject}</span>
-                  <span className="block truncate text-micro text-ink-500">
-                    to {m.to.join(', ')} · {formatDateTime(m.date)}
-                  </span>
-                </button>
-              </li>
+    <div className="space-y-5">
+      <nav aria-label="Kinds of notice" className="flex flex-wrap gap-2">
+        {NOTICE_KINDS.filter((k) => byKind.has(k)).map((k) => (
+          <a
+            key={k}
+            href={`#notices-${k}`}
+            className="inline-flex items-center gap-1.5 rounded-full bg-white px-3 py-1 text-small text-ink-700 ring-1 ring-ink-200 hover:bg-ink-50"
+          >
+            {NOTICE_KIND_WORDS[k].title}
+            <Badge tone="neutral">{byKind.get(k)?.length ?? 0}</Badge>
+          </a>
+        ))}
+      </nav>
+      {NOTICE_KINDS.filter((k) => byKind.has(k)).map((k) => (
+        <section
+          key={k}
+          id={`notices-${k}`}
+          data-testid={`notice-group-${k}`}
+          className="min-w-0 rounded-panel bg-white shadow-panel ring-1 ring-ink-100"
+        >
+          <header className="border-b border-ink-100 px-5 py-3">
+            <h2 className="text-lead font-semibold text-ink-900">
+              {NOTICE_KIND_WORDS[k].title}{' '}
+              <span className="text-small font-normal text-ink-500">({byKind.get(k)?.length ?? 0})</span>
+            </h2>
+            <p className="text-small text-ink-500">{NOTICE_KIND_WORDS[k].about}</p>
+          </header>
+          <ul className="divide-y divide-ink-100">
+            {(byKind.get(k) ?? []).slice(0, 50).map((n) => (
+              <NoticeCard key={n.id} n={n} />
             ))}
           </ul>
-        )}
-      </Panel>
-      <Panel title={one.data?.message.subject ?? 'Message'}>
-        {openId === null ? (
-          <p className="text-small text-ink-500">Choose a message on the left.</p>
-        ) : one.isPending ? (
-          <LoadingBlock />
-        ) : one.isError ? (
-          <ErrorState message={one.error.message} />
-        ) : (
-          <div className="space-y-3">
-            <dl className="grid grid-cols-[4rem_1fr] gap-y-1 text-small">
-              <dt className="text-ink-500">From</dt>
-              <dd className="text-ink-800">{one.data.message.from}</dd>
-              <dt className="text-ink-500">To</dt>
-              <dd className="text-ink-800">{one.data.message.to.join(', ')}</dd>
-            </dl>
-            <div className="border-t border-ink-100 pt-3">
-              <Linkified text={one.data.message.text} />
-            </div>
-          </div>
-        )}
-      </Panel>
+        </section>
+      ))}
     </div>
   );
 }

@@ -4,9 +4,10 @@ import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { type FormEvent, useState } from 'react';
 import { Badge } from '@/components/ui/badge';
 import { Button } from '@/components/ui/button';
+import { ConfirmDialog } from '@/components/ui/confirm-dialog';
 import { ErrorState } from '@/components/ui/error-state';
 import { Field } from '@/components/ui/field';
-import { inputClass } from '@/components/ui/input-class';
+import { compactInputClass, inputClass } from '@/components/ui/input-class';
 import { LoadingBlock } from '@/components/ui/loading-block';
 import { Panel } from '@/components/ui/panel';
 import { ApiError, apiFetch, detailsByField } from '@/lib/api/client';
@@ -40,6 +41,12 @@ interface TeamRow {
 }
 
 const ROLE: Record<TeamRole, string> = { operator: 'Operator', analyst: 'Analyst', pi: 'PI' };
+/** What each team role may do, in the words of the confirmation (the policy itself is lib/policy.ts). */
+const ROLE_SCOPE: Record<TeamRole, string> = {
+  operator: 'will open shifts and send files, and no longer edit calibrations or approve.',
+  analyst: 'will send files, edit calibration and settings drafts and start reductions, but not approve.',
+  pi: 'will approve calibration and settings versions, create campaigns and read the team’s audit trail, but not open shifts or edit drafts.',
+};
 const FACILITY: Record<FacilityRole, string> = { steward: 'Data steward', admin: 'Administrator' };
 const PAGE = 40;
 const msg = (e: unknown) => (e instanceof Error ? e.message : 'Something went wrong.');
@@ -58,6 +65,15 @@ export function UsersAdmin({ selfId }: { selfId: number }) {
   const [notice, setNotice] = useState<{ tone: 'ok' | 'error'; text: string } | null>(null);
   const [filter, setFilter] = useState('');
   const [showAll, setShowAll] = useState(false);
+  // A role change waits here for the admin's answer: the menu itself changes nothing (arrow keys move its value).
+  const [roleChange, setRoleChange] = useState<{
+    userId: number;
+    userName: string;
+    teamId: number;
+    teamName: string;
+    from: TeamRole;
+    to: TeamRole;
+  } | null>(null);
 
   const act = useMutation({
     mutationFn: (a: { url: string; method: 'POST' | 'DELETE'; json?: unknown; done: string }) =>
@@ -90,6 +106,35 @@ export function UsersAdmin({ selfId }: { selfId: number }) {
 
   return (
     <div className="space-y-6">
+      {roleChange ? (
+        <ConfirmDialog
+          title="Change this role?"
+          confirmLabel={`Change the role to ${ROLE[roleChange.to]}`}
+          cancelLabel="Keep the current role"
+          busy={act.isPending}
+          onCancel={() => setRoleChange(null)}
+          onConfirm={() => {
+            const c = roleChange;
+            act.mutate(
+              {
+                url: '/api/admin/memberships',
+                method: 'POST',
+                json: { userId: c.userId, teamId: c.teamId, role: c.to },
+                done: `${c.userName} is now ${ROLE[c.to]} in ${c.teamName}.`,
+              },
+              { onSettled: () => setRoleChange(null) },
+            );
+          }}
+        >
+          <p>
+            {roleChange.userName} is {ROLE[roleChange.from]} in {roleChange.teamName}. As {ROLE[roleChange.to]} they{' '}
+            {ROLE_SCOPE[roleChange.to]}
+          </p>
+          <p className="text-small text-ink-500">
+            The change takes effect at their next request and is recorded in the audit trail.
+          </p>
+        </ConfirmDialog>
+      ) : null}
       <InviteForm teams={teamList} onDone={(t) => setNotice({ tone: 'ok', text: t })} />
       {notice ? (
         <p
@@ -122,7 +167,7 @@ export function UsersAdmin({ selfId }: { selfId: number }) {
               value={filter}
               onChange={(e) => setFilter(e.target.value)}
               placeholder="Name, e-mail or team"
-              className={`${inputClass()} h-8 w-64 py-0 text-small`}
+              className={compactInputClass('w-64')}
             />
           </>
         }
@@ -182,14 +227,18 @@ export function UsersAdmin({ selfId }: { selfId: number }) {
                             id={`role-${u.id}-${m.teamId}`}
                             value={m.role}
                             disabled={act.isPending}
-                            onChange={(e) =>
-                              act.mutate({
-                                url: '/api/admin/memberships',
-                                method: 'POST',
-                                json: { userId: u.id, teamId: m.teamId, role: e.target.value },
-                                done: `${u.name} is now ${ROLE[e.target.value as TeamRole]} in ${m.teamName}.`,
-                              })
-                            }
+                            onChange={(e) => {
+                              const to = e.target.value as TeamRole;
+                              if (to === m.role) return;
+                              setRoleChange({
+                                userId: u.id,
+                                userName: u.name,
+                                teamId: m.teamId,
+                                teamName: m.teamName,
+                                from: m.role,
+                                to,
+                              });
+                            }}
                             className="h-7 rounded-md bg-white py-0 pr-7 pl-2 text-small ring-1 ring-ink-200 ring-inset"
                           >
                             {(Object.keys(ROLE) as TeamRole[]).map((r) => (

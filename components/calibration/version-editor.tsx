@@ -7,6 +7,7 @@ import { Button } from '@/components/ui';
 import { inputClass } from '@/components/ui/input-class';
 import { type ApiError, apiFetch } from '@/lib/api/client';
 import type { VersionDto, VersionKind } from '@/lib/db/queries/calibrations';
+import { problemForUser } from '@/lib/field-labels';
 import { parseCalibration, parseSettings } from '@/reduction/formats';
 import { calibrationToForm, type FormState, formToCalibration, formToSettings, settingsToForm } from './version-forms';
 
@@ -67,13 +68,14 @@ export function VersionEditor({
       qc.invalidateQueries({ queryKey: ['versions', campaignId] });
       onDone();
     },
-    onError: (err: ApiError) => setProblems(err.details?.length ? err.details : [err.message]),
+    onError: (err: ApiError) =>
+      setProblems(err.details?.length ? err.details.map((d) => problemForUser(d, kind)) : [err.message]),
   });
   function save() {
     const body = kind === 'calibration' ? formToCalibration(f, baseBody) : formToSettings(f, baseBody);
     const r = kind === 'calibration' ? parseCalibration(body) : parseSettings(body);
     if (!r.ok) {
-      setProblems(r.problems);
+      setProblems(r.problems.map((p) => problemForUser(p)));
       return;
     }
     setProblems([]);

@@ -3,6 +3,7 @@
 import { useDropzone } from 'react-dropzone';
 import { displayUnits } from '@/components/scans/format';
 import { Badge, Button, Panel } from '@/components/ui';
+import { formatNumber } from '@/lib/format';
 import { checkAgainstLog } from '@/lib/ingest/log-check';
 import type { LogEntryDto, UnfinishedUploadDto } from '@/lib/ingest/types';
 import { attentionFor } from './attention';
@@ -130,7 +131,7 @@ function ItemRow({
             </div>
             <div>
               <dt className="text-micro text-ink-500">First frame</dt>
-              <dd>{pc?.preview ? `${pc.preview.totalCounts.toExponential(2)} counts` : '—'}</dd>
+              <dd>{pc?.preview ? `${formatNumber(pc.preview.totalCounts, 3)} counts` : '—'}</dd>
             </div>
           </dl>
         ) : null}

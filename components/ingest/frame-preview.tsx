@@ -1,6 +1,7 @@
 'use client';
 
 import { useEffect, useRef } from 'react';
+import { formatNumber } from '@/lib/format';
 import type { PrecheckPreview } from './precheck-protocol';
 
 /**
@@ -43,7 +44,7 @@ export function FramePreview({ preview, size = 96 }: { preview: PrecheckPreview;
     <canvas
       ref={ref}
       role="img"
-      aria-label={`First frame preview, ${preview.totalCounts.toExponential(2)} counts in total`}
+      aria-label={`First frame preview, ${formatNumber(preview.totalCounts, 3)} counts in total`}
       className="shrink-0 rounded-md ring-1 ring-ink-200 [image-rendering:pixelated]"
       style={{ width: size, height: size * (preview.height / preview.width) }}
       data-testid="frame-preview"

@@ -192,8 +192,8 @@ export function Heatmap({
   };
 
   return (
-    <div className="flex items-start gap-3" data-testid={rest['data-testid']}>
-      <div className="relative w-full max-w-[440px]">
+    <div className="flex min-w-0 items-start gap-3" data-testid={rest['data-testid']}>
+      <div className="relative w-full min-w-0 max-w-[440px]">
         <div className="relative" style={{ aspectRatio: '1 / 1' }}>
           <canvas
             ref={canvasRef}

@@ -33,16 +33,8 @@ export function niceTicks(lo: number, hi: number, count = 5): number[] {
   return out;
 }
 
-/** Compact number text for axes and tables (e.g. 2.5e14, 0.012, 1 250). */
-export function formatNumber(v: number | null | undefined, digits = 3): string {
-  if (v === null || v === undefined || !Number.isFinite(v)) return '—';
-  const a = Math.abs(v);
-  if (a !== 0 && (a >= 1e5 || a < 1e-3)) {
-    const [m, e] = v.toExponential(Math.max(0, digits - 1)).split('e');
-    return `${Number(m)}e${Number(e)}`;
-  }
-  return String(Number(v.toPrecision(digits)));
-}
+/** Number text for axes and tables: the one formatter of lib/format.ts (e.g. 2.5×10¹⁴, 0.012, 1250). */
+export { formatNumber } from '@/lib/format';
 
 /** Padded [min, max] of finite values (with optional error bars). */
 export function extent(values: number[], errors?: (number | null)[], pad = 0.06): [number, number] {

@@ -1,7 +1,7 @@
 'use client';
 // An SVG plot of one or more series (lines and/or points with vertical error bars) on linear or log axes, with
 // tick labels, axis titles and an optional legend. Lobeline's own design: framed plot area, ticks inside, no grid fill.
-import { type ReactNode, useId } from 'react';
+import { type ReactNode, useId, useRef } from 'react';
 import {
   extent,
   formatNumber,
@@ -13,6 +13,7 @@ import {
   positiveExtent,
 } from './scales';
 import { type MarkerShape, markerPath } from './series-styles';
+import { usePlotWidth } from './use-plot-width';
 
 export interface XYPoint {
   x: number;
@@ -56,7 +57,9 @@ export interface XYPlotProps {
   children?: ReactNode;
 }
 
-const W = 640;
+/** Widest drawing in CSS px (and SVG units); narrower containers get a narrower drawing with the same text size. */
+const W_MAX = 640;
+const W_MIN = 260;
 const M = { l: 64, r: 16, t: 14, b: 44 };
 
 export function XYPlot({
@@ -74,6 +77,8 @@ export function XYPlot({
   ...rest
 }: XYPlotProps) {
   const clip = useId().replace(/:/g, '');
+  const figureRef = useRef<HTMLElement>(null);
+  const W = usePlotWidth(figureRef, W_MIN, W_MAX);
   const all = series.flatMap((s) => s.points);
   const xLog = xScale === 'log';
   const yLog = yScale === 'log';
@@ -94,12 +99,12 @@ export function XYPlot({
     );
   const x: LinearScale = xLog && xd[0] > 0 ? logScale(xd, [M.l, W - M.r]) : linearScale(xd, [M.l, W - M.r]);
   const y: LinearScale = yLog && yd[0] > 0 ? logScale(yd, [height - M.b, M.t]) : linearScale(yd, [height - M.b, M.t]);
-  const xt = xLog ? logTicks(xd[0], xd[1]) : niceTicks(xd[0], xd[1], 6);
+  const xt = xLog ? logTicks(xd[0], xd[1]) : niceTicks(xd[0], xd[1], W < 420 ? 4 : 6);
   const yt = yLog ? logTicks(yd[0], yd[1]) : niceTicks(yd[0], yd[1], 5);
   // a log axis shows only positive values; an error bar reaching below zero is cut at the bottom of the frame
   const yAt = (v: number) => (yLog && !(v > 0) ? height - M.b : y(v));
   return (
-    <figure className="w-full max-w-3xl" data-testid={rest['data-testid']}>
+    <figure ref={figureRef} className="w-full min-w-0 max-w-3xl" data-testid={rest['data-testid']}>
       <svg
         viewBox={`0 0 ${W} ${height}`}
         className="w-full select-none"

@@ -2,6 +2,7 @@ import Link from 'next/link';
 import { type Actor, can } from '@/lib/policy';
 import { Wordmark } from './logo';
 import { type NavItem, NavLinks } from './nav-links';
+import { SmallScreenMenu } from './small-screen-menu';
 import { TeamSwitcher } from './team-switcher';
 import { UserMenu } from './user-menu';
 
@@ -21,7 +22,7 @@ export function navItemsFor(actor: Actor, currentTeamId: number | null): NavItem
   if (can(actor, 'admin.users')) items.push({ href: '/admin/users', label: 'Users' });
   if (can(actor, 'admin.teams')) items.push({ href: '/admin/teams', label: 'Teams' });
   if (can(actor, 'admin.mailbox') && process.env.MAIL_CATCHER_DIR)
-    items.push({ href: '/admin/mailbox', label: 'Mailbox' });
+    items.push({ href: '/admin/mailbox', label: 'Sent notices' });
   return items;
 }
 
@@ -36,9 +37,10 @@ export function AppHeader({ actor, currentTeamId }: { actor: Actor; currentTeamI
   const teams = [...actor.memberships]
     .sort((a, b) => a.teamName.localeCompare(b.teamName))
     .map((m) => ({ teamId: m.teamId, teamName: m.teamName, role: TEAM_ROLE_LABEL[m.role] }));
+  const items = navItemsFor(actor, currentTeamId);
   return (
     <header className="sticky top-0 z-20 border-b border-ink-200 bg-white/95 backdrop-blur">
-      <div className="mx-auto flex h-14 max-w-7xl items-center gap-4 px-4 sm:px-6">
+      <div className="relative mx-auto flex h-14 max-w-7xl items-center gap-3 px-4 sm:gap-4 sm:px-6">
         <Link
           href="/"
           className="shrink-0 rounded-md focus-visible:outline-2 focus-visible:outline-lobe-500"
@@ -47,10 +49,16 @@ export function AppHeader({ actor, currentTeamId }: { actor: Actor; currentTeamI
           <Wordmark />
         </Link>
         <div className="hidden h-6 w-px bg-ink-200 md:block" aria-hidden="true" />
-        <div className="min-w-0 flex-1">
-          <NavLinks items={navItemsFor(actor, currentTeamId)} />
+        <div className="hidden min-w-0 flex-1 md:block">
+          <NavLinks items={items} />
         </div>
-        <TeamSwitcher teams={teams} currentTeamId={currentTeamId} />
+        <div className="flex-1 md:hidden" />
+        <div className="hidden md:block">
+          <TeamSwitcher teams={teams} currentTeamId={currentTeamId} />
+        </div>
+        <SmallScreenMenu items={items}>
+          <TeamSwitcher teams={teams} currentTeamId={currentTeamId} />
+        </SmallScreenMenu>
         <UserMenu name={actor.name} email={actor.email} roles={roleLines(actor)} />
       </div>
     </header>

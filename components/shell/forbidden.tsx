@@ -1,6 +1,6 @@
 import { LinkButton } from '@/components/ui/link-button';
 
-/** Shown by server pages when the signed-in user may not use them (the API refuses the same requests with 403). */
+/** The refusal text with a way back (the API refuses the same requests with 403). */
 export function Forbidden({
   message,
   title = 'You do not have access to this page',

@@ -1,5 +1,6 @@
 'use client';
 
+import Link from 'next/link';
 import { signOut } from 'next-auth/react';
 import { useEffect, useRef, useState } from 'react';
 
@@ -74,6 +75,14 @@ export function UserMenu({ name, email, roles }: UserMenuProps) {
           >
             Your account and password
           </a>
+          <Link
+            href="/settings/notifications"
+            role="menuitem"
+            onClick={() => setOpen(false)}
+            className="block w-full rounded-md px-3 py-2 text-left text-body text-ink-800 hover:bg-ink-50"
+          >
+            E-mail notifications
+          </Link>
           <button
             type="button"
             role="menuitem"

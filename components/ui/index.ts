@@ -1,6 +1,7 @@
 // Lobeline's UI primitives. Import from '@/components/ui' or from the single file.
 export { Badge, type BadgeTone } from './badge';
 export { Button, type ButtonProps, type ButtonSize, type ButtonVariant, buttonClass } from './button';
+export { ConfirmDialog, type ConfirmDialogProps } from './confirm-dialog';
 export { cx } from './cx';
 export { DataTable, type DataTableColumn, type DataTableProps, type SortDirection } from './data-table';
 export { EmptyState } from './empty-state';

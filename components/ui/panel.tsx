@@ -16,7 +16,7 @@ export interface PanelProps {
 export function Panel({ title, description, actions, children, className, flush, ...rest }: PanelProps) {
   return (
     <section
-      className={cx('rounded-panel bg-white shadow-panel ring-1 ring-ink-100', className)}
+      className={cx('min-w-0 rounded-panel bg-white shadow-panel ring-1 ring-ink-100', className)}
       data-testid={rest['data-testid']}
     >
       {title || actions ? (
@@ -25,7 +25,7 @@ export function Panel({ title, description, actions, children, className, flush,
             {title ? <h2 className="text-lead font-semibold text-ink-900">{title}</h2> : null}
             {description ? <p className="mt-0.5 text-small text-ink-500">{description}</p> : null}
           </div>
-          {actions ? <div className="flex shrink-0 items-center gap-2">{actions}</div> : null}
+          {actions ? <div className="flex min-w-0 flex-wrap items-center gap-2">{actions}</div> : null}
         </header>
       ) : null}
       <div className={flush ? '' : 'px-5 py-4'}>{children}</div>

@@ -39,6 +39,7 @@ import {
 import { getEnv } from '@/lib/env';
 import { AppError } from '@/lib/errors';
 import { log } from '@/lib/log';
+import { recipientsWanting } from '@/lib/mail/preferences';
 import { sendMail } from '@/lib/mail/transport';
 import { type Actor, authorize, authorizeObject, can } from '@/lib/policy';
 import {
@@ -851,15 +852,17 @@ export async function closeShift(
   let mailed = !!after.header.receiptSentAt;
   if (!mailed) {
     const analysts = await listTeamAnalystEmails({ teamId: shift.teamId });
-    const to = [...new Set([actor.email, ...analysts].map((e) => e.toLowerCase()))];
-    try {
-      await sendMail({ to, subject: receipt.subject, text: receiptText(receipt), html: receiptHtml(receipt) });
-      await markReceiptSent({ shiftId });
-      mailed = true;
-    } catch (err) {
-      // The shift stays closed; the page offers to send the receipt again.
-      ilog.error('shift receipt could not be sent', { shiftId, err });
-    }
+    // C11: people who turned shift receipts off in their notification settings are left out.
+    const to = await recipientsWanting([actor.email, ...analysts], 'shift_receipt');
+    if (to.length)
+      try {
+        await sendMail({ to, subject: receipt.subject, text: receiptText(receipt), html: receiptHtml(receipt) });
+        await markReceiptSent({ shiftId });
+        mailed = true;
+      } catch (err) {
+        // The shift stays closed; the page offers to send the receipt again.
+        ilog.error('shift receipt could not be sent', { shiftId, err });
+      }
   }
   return { view: await getShiftView(actor, shiftId), receipt, mailed };
 }

@@ -3,12 +3,13 @@
 // the `reduction_failed` notification off in their preferences.
 import { getEnv } from '@/lib/env';
 import { log } from '@/lib/log';
+import { type OptionalNotice, wantsNotice } from '@/lib/mail/preferences';
 import { sendMail } from '@/lib/mail/transport';
 import { PERMISSIONS_BY_TEAM_ROLE } from '@/lib/policy';
 import { Campaign, Membership, Team, User } from '@/models';
 
 /** Key in users.notification_prefs (absent = on). */
-export const REDUCTION_FAILED_PREF = 'reduction_failed';
+export const REDUCTION_FAILED_PREF = 'reduction_failed' satisfies OptionalNotice;
 
 export interface FailureNotice {
   teamId: number;
@@ -33,7 +34,7 @@ export async function reductionFailureRecipients(teamId: number): Promise<string
     const u = (m as Membership & { user?: User }).user;
     if (!u?.is_active) continue;
     if (!PERMISSIONS_BY_TEAM_ROLE[m.role].has('reduction.start')) continue;
-    if (u.notification_prefs?.[REDUCTION_FAILED_PREF] === false) continue;
+    if (!wantsNotice(u.notification_prefs, REDUCTION_FAILED_PREF)) continue;
     out.add(u.email);
   }
   return [...out].sort();

@@ -1,11 +1,17 @@
 // Checks of a calibration and settings version against the scan it is about to reduce, before any frame is read.
 // Each problem is a sentence a physicist reads without the code: which number, what it should be, what it is.
+
+import { formatNumber } from '@/lib/format';
 import type { AnalysisSettings, DetectorCalibration, ScanMetadata } from '@/reduction/formats';
 import { parseCalibration, parseSettings } from '@/reduction/formats';
 import { ReductionRefusedError } from './failure';
 
 const fmt = (v: number) =>
-  Math.abs(v) >= 1000 || Number.isInteger(v) ? String(Math.round(v * 100) / 100) : v.toPrecision(4);
+  Math.abs(v) >= 1e5
+    ? formatNumber(v, 4)
+    : Math.abs(v) >= 1000 || Number.isInteger(v)
+      ? String(Math.round(v * 100) / 100)
+      : v.toPrecision(4);
 
 /**
  * Parses both versions and checks them against the file's metadata.
@@ -56,7 +62,7 @@ export function preflight(
   if (Array.isArray(set.radial_window_au) && set.radial_window_au[1] > set.grid.p_max_au) {
     problems.push(
       `the radial window of ${labels.settings} ends at ${fmt(set.radial_window_au[1])} a.u., beyond the momentum grid ` +
-        `(p_max ${fmt(set.grid.p_max_au)} a.u.); widen grid.p_max_au or narrow the window`,
+        `(p_max ${fmt(set.grid.p_max_au)} a.u.); raise “Momentum grid half-width” in the analysis settings or lower “Radial window to”`,
     );
   }
   // The detector's reach in momentum: half the shorter side times the scale. A grid far larger only costs time; a
@@ -66,7 +72,7 @@ export function preflight(
     problems.push(
       `the momentum grid of ${labels.settings} (p_max ${fmt(set.grid.p_max_au)} a.u.) covers less than 5 % of the ` +
         `detector's reach (about ${fmt(reach)} a.u. with ${fmt(cal.momentum_per_pixel_au)} a.u. per pixel); ` +
-        'check momentum_per_pixel_au of the calibration',
+        'check “Momentum per pixel” in the detector calibration',
     );
   }
   if (meta.background && cal.background.subtract && cal.background.scale_by === 'shots') {

@@ -218,6 +218,22 @@ const ROWS: Row[] = [
     expect: all(404),
   },
   { route: '/api/me', method: 'GET', request: () => ({ path: '/api/me' }), expect: signedIn(200) },
+  // C11: everyone signed in reads and sets their own e-mail choices (the account is the session's, never an id).
+  {
+    route: '/api/me/notifications',
+    method: 'GET',
+    request: () => ({ path: '/api/me/notifications' }),
+    expect: signedIn(200),
+  },
+  {
+    route: '/api/me/notifications',
+    method: 'PUT',
+    request: () => ({
+      path: '/api/me/notifications',
+      body: { shift_receipt: true, reduction_failed: true, fixity_alert: true },
+    }),
+    expect: signedIn(200),
+  },
   {
     // Own password only: every signed-in user reaches the current-password check (a wrong one here, so the
     // matrix's accounts keep theirs: 400); signed out: 401. Two wrong tries per account stay under the free
@@ -274,6 +290,16 @@ const ROWS: Row[] = [
     route: '/api/audit',
     method: 'GET',
     request: ({ teamId }) => ({ path: '/api/audit', query: { teamId } }),
+    expect: { operator: 403, analyst: 403, pi: [200, 403], steward: 200, admin: 200, signedOut: 401 },
+  },
+  // The export of a range of days: the same readers as the audit trail itself (C13).
+  {
+    route: '/api/audit/export',
+    method: 'GET',
+    request: ({ teamId }) => ({
+      path: '/api/audit/export',
+      query: { teamId, format: 'json', from: '2026-01-01', to: '2026-12-31' },
+    }),
     expect: { operator: 403, analyst: 403, pi: [200, 403], steward: 200, admin: 200, signedOut: 401 },
   },
   { route: '/api/admin/users', method: 'GET', request: () => ({ path: '/api/admin/users' }), expect: adminOnly(200) },

@@ -3,8 +3,7 @@
 import { z } from 'zod';
 import { apiRoute, idParam } from '@/lib/api/route';
 import { listAuditEvents } from '@/lib/db/queries/accounts';
-import { AppError } from '@/lib/errors';
-import { authorize, can, teamsWhere } from '@/lib/policy';
+import { auditTeamScope } from './scope';
 
 export const dynamic = 'force-dynamic';
 
@@ -18,24 +17,27 @@ const query = z.object({
     .optional(),
   actor: z.string().trim().max(254).optional(),
   outcome: z.enum(['ok', 'refused', 'failed']).optional(),
+  /** First and last UTC day (YYYY-MM-DD), both included. */
+  from: z
+    .string()
+    .regex(/^\d{4}-\d{2}-\d{2}$/, 'Enter a day as YYYY-MM-DD.')
+    .optional(),
+  to: z
+    .string()
+    .regex(/^\d{4}-\d{2}-\d{2}$/, 'Enter a day as YYYY-MM-DD.')
+    .optional(),
   page: z.coerce.number().int().min(1).max(100_000).default(1),
   pageSize: z.coerce.number().int().min(5).max(200).default(50),
 });
 
 export const GET = apiRoute({ query }, async ({ actor, query }) => {
-  const all = can(actor, 'audit.view.all') || can(actor, 'admin.audit');
-  let teamIds: number[] | 'all';
-  if (all) teamIds = 'all';
-  else {
-    teamIds = teamsWhere(actor, 'audit.view');
-    if (teamIds.length === 0) {
-      throw new AppError('forbidden:audit', {
-        message: 'The audit trail is open to PIs (for their teams), data stewards and administrators.',
-        context: { action: 'audit.view' },
-      });
-    }
-    if (query.teamId) authorize(actor, 'audit.view', { teamId: query.teamId });
-  }
-  const { events, total } = await listAuditEvents({ ...query, teamIds });
-  return { events, total, page: query.page, pageSize: query.pageSize, scope: all ? 'all' : 'teams' };
+  const teamIds = auditTeamScope(actor, query.teamId);
+  const { from, to, ...rest } = query;
+  const { events, total } = await listAuditEvents({
+    ...rest,
+    teamIds,
+    from: from ? new Date(`${from}T00:00:00Z`) : undefined,
+    before: to ? new Date(Date.parse(`${to}T00:00:00Z`) + 86_400_000) : undefined,
+  });
+  return { events, total, page: query.page, pageSize: query.pageSize, scope: teamIds === 'all' ? 'all' : 'teams' };
 });

@@ -8,7 +8,10 @@ import { AppError } from '@/lib/errors';
 import type { Actor, FacilityRole, TeamRole } from '@/lib/policy';
 import { FACILITY_ROLES, TEAM_ROLES } from '@/lib/policy';
 import {
+  AnalysisSettingsVersion,
   AuditEvent,
+  Campaign,
+  DetectorCalibrationVersion,
   FacilityRoleGrant,
   Invitation,
   Membership,
@@ -788,6 +791,80 @@ export interface AuditEventDto {
   ip: string | null;
   outcome: 'ok' | 'refused' | 'failed';
   details: Record<string, unknown> | null;
+  /**
+   * The words the rest of the app uses for the ids in this event: `target` for the object (e.g. "calibration v2"),
+   * and per detail key (calibrationId → "calibration v2", settingsId → "settings v1", campaignId → its name).
+   */
+  labels: { target?: string; details: Record<string, string> };
+}
+
+const VERSION_TARGETS: Record<string, 'calibration' | 'settings'> = {
+  detector_calibration: 'calibration',
+  analysis_settings: 'settings',
+};
+
+/** Version numbers and campaign names for the ids that audit events carry, in three queries. */
+async function auditLabels(rows: AuditEvent[]): Promise<(r: AuditEvent) => AuditEventDto['labels']> {
+  const cal = new Set<number>();
+  const set = new Set<number>();
+  const camp = new Set<number>();
+  const num = (v: unknown) => (typeof v === 'number' && Number.isInteger(v) ? v : Number.NaN);
+  for (const r of rows) {
+    const d = (r.details ?? {}) as Record<string, unknown>;
+    const kind = r.target_type ? VERSION_TARGETS[r.target_type] : undefined;
+    const tid = Number(r.target_id);
+    if (kind === 'calibration' && Number.isInteger(tid)) cal.add(tid);
+    if (kind === 'settings' && Number.isInteger(tid)) set.add(tid);
+    if (r.target_type === 'campaign' && Number.isInteger(tid)) camp.add(tid);
+    if (Number.isInteger(num(d.calibrationId))) cal.add(num(d.calibrationId));
+    if (Number.isInteger(num(d.settingsId))) set.add(num(d.settingsId));
+    if (Number.isInteger(num(d.campaignId))) camp.add(num(d.campaignId));
+    if (Number.isInteger(num(d.previousId)) && kind === 'calibration') cal.add(num(d.previousId));
+    if (Number.isInteger(num(d.previousId)) && kind === 'settings') set.add(num(d.previousId));
+  }
+  const [cals, sets, camps] = await Promise.all([
+    cal.size
+      ? DetectorCalibrationVersion.findAll({
+          where: { id: { [Op.in]: [...cal] } },
+          attributes: ['id', 'version'],
+          raw: true,
+        })
+      : [],
+    set.size
+      ? AnalysisSettingsVersion.findAll({
+          where: { id: { [Op.in]: [...set] } },
+          attributes: ['id', 'version'],
+          raw: true,
+        })
+      : [],
+    camp.size ? Campaign.findAll({ where: { id: { [Op.in]: [...camp] } }, attributes: ['id', 'name'], raw: true }) : [],
+  ]);
+  const calV = new Map(cals.map((c) => [c.id, `calibration v${c.version}`]));
+  const setV = new Map(sets.map((c) => [c.id, `settings v${c.version}`]));
+  const campN = new Map(camps.map((c) => [c.id, c.name]));
+  return (r) => {
+    const d = (r.details ?? {}) as Record<string, unknown>;
+    const kind = r.target_type ? VERSION_TARGETS[r.target_type] : undefined;
+    const tid = Number(r.target_id);
+    const labels: AuditEventDto['labels'] = { details: {} };
+    const versions = kind === 'calibration' ? calV : kind === 'settings' ? setV : null;
+    if (versions) {
+      labels.target =
+        versions.get(tid) ?? (typeof d.version === 'number' ? `${kind} v${d.version}` : `${kind} (removed)`);
+    }
+    if (r.target_type === 'campaign') labels.target = campN.get(tid) ? `campaign “${campN.get(tid)}”` : undefined;
+    const put = (key: string, map: Map<number, string>) => {
+      const v = map.get(num(d[key]));
+      if (v) labels.details[key] = v;
+    };
+    put('calibrationId', calV);
+    put('settingsId', setV);
+    if (kind === 'calibration') put('previousId', calV);
+    if (kind === 'settings') put('previousId', setV);
+    const cn = campN.get(num(d.campaignId));
+    if (cn) labels.details.campaignId = cn;
+    return labels;
+  };
 }
 
 /** Audit events, newest first. `teamIds: 'all'` for facility readers; otherwise only events of those teams. */
@@ -797,11 +874,21 @@ export async function listAuditEvents(input: {
   action?: string;
   actor?: string;
   outcome?: 'ok' | 'refused' | 'failed';
+  /** Events at or after this moment. */
+  from?: Date;
+  /** Events before this moment. */
+  before?: Date;
   page: number;
   pageSize: number;
 }): Promise<{ events: AuditEventDto[]; total: number }> {
   return db('listAuditEvents', async () => {
     const where: Record<string | symbol, unknown> = {};
+    if (input.from || input.before) {
+      where.at = {
+        ...(input.from ? { [Op.gte]: input.from } : {}),
+        ...(input.before ? { [Op.lt]: input.before } : {}),
+      };
+    }
     if (input.teamIds !== 'all') where.team_id = { [Op.in]: input.teamIds.length ? input.teamIds : [0] };
     if (input.teamId) {
       where.team_id = input.teamIds === 'all' || input.teamIds.includes(input.teamId) ? input.teamId : { [Op.in]: [0] };
@@ -821,6 +908,7 @@ export async function listAuditEvents(input: {
     const teamIds = [...new Set(rows.map((r) => r.team_id).filter((x): x is number => x != null))];
     const teams = teamIds.length ? await Team.findAll({ where: { id: { [Op.in]: teamIds } }, raw: true }) : [];
     const names = new Map(teams.map((t) => [t.id, t.name]));
+    const labelsOf = await auditLabels(rows);
     return {
       total: count,
       events: rows.map((r) => ({
@@ -836,6 +924,7 @@ export async function listAuditEvents(input: {
         ip: r.ip,
         outcome: r.outcome,
         details: r.details,
+        labels: labelsOf(r),
       })),
     };
   });

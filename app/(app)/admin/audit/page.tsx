@@ -1,6 +1,6 @@
 import type { Metadata } from 'next';
+import { forbidden } from 'next/navigation';
 import { AuditTrail } from '@/components/admin/audit-trail';
-import { Forbidden } from '@/components/shell/forbidden';
 import { PageHeader } from '@/components/ui/page-header';
 import { requireActor } from '@/lib/auth/actor';
 import { can, teamsWhere } from '@/lib/policy';
@@ -12,7 +12,7 @@ export default async function AuditPage() {
   const all = can(actor, 'audit.view.all') || can(actor, 'admin.audit');
   const teamIds = teamsWhere(actor, 'audit.view');
   if (!all && teamIds.length === 0) {
-    return <Forbidden message="The audit trail is open to PIs (for their teams), data stewards and administrators." />;
+    forbidden(); // the sentence: REFUSALS in components/shell/forbidden.tsx
   }
   const teams = actor.memberships.filter((m) => teamIds.includes(m.teamId)).map((m) => m.teamName);
   return (

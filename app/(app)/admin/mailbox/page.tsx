@@ -1,26 +1,25 @@
 import type { Metadata } from 'next';
-import { notFound } from 'next/navigation';
+import { forbidden, notFound } from 'next/navigation';
 import { Mailbox } from '@/components/admin/mailbox';
-import { Forbidden } from '@/components/shell/forbidden';
 import { PageHeader } from '@/components/ui/page-header';
 import { requireActor } from '@/lib/auth/actor';
 import { catcherDir } from '@/lib/mail/catcher-store';
 import { can } from '@/lib/policy';
 
-export const metadata: Metadata = { title: 'Development mailbox' };
+export const metadata: Metadata = { title: 'Sent notices (development)' };
 export const dynamic = 'force-dynamic';
 
 // Only where the local SMTP catcher runs (MAIL_CATCHER_DIR set: development and tests).
 export default async function MailboxPage() {
   if (!catcherDir()) notFound();
   const actor = await requireActor();
-  if (!can(actor, 'admin.mailbox')) return <Forbidden message="Only administrators read the development mailbox." />;
+  if (!can(actor, 'admin.mailbox')) forbidden(); // the sentence: REFUSALS in components/shell/forbidden.tsx
   return (
     <>
       <PageHeader
         eyebrow="Development"
-        title="Mailbox"
-        description="Messages Lobeline sent through the local mail catcher. Nothing here leaves this machine."
+        title="Sent notices"
+        description="Every e-mail Lobeline sent on this machine, by kind of notice. The local SMTP catcher keeps them; nothing leaves this machine."
       />
       <Mailbox />
     </>

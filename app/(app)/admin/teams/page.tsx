@@ -1,6 +1,6 @@
 import type { Metadata } from 'next';
+import { forbidden } from 'next/navigation';
 import { TeamsAdmin } from '@/components/admin/teams-admin';
-import { Forbidden } from '@/components/shell/forbidden';
 import { PageHeader } from '@/components/ui/page-header';
 import { requireActor } from '@/lib/auth/actor';
 import { can } from '@/lib/policy';
@@ -9,7 +9,7 @@ export const metadata: Metadata = { title: 'Teams' };
 
 export default async function AdminTeamsPage() {
   const actor = await requireActor();
-  if (!can(actor, 'admin.teams')) return <Forbidden message="Only administrators create and manage teams." />;
+  if (!can(actor, 'admin.teams')) forbidden(); // the sentence: REFUSALS in components/shell/forbidden.tsx
   return (
     <>
       <PageHeader

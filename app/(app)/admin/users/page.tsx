@@ -1,6 +1,6 @@
 import type { Metadata } from 'next';
+import { forbidden } from 'next/navigation';
 import { UsersAdmin } from '@/components/admin/users-admin';
-import { Forbidden } from '@/components/shell/forbidden';
 import { PageHeader } from '@/components/ui/page-header';
 import { requireActor } from '@/lib/auth/actor';
 import { can } from '@/lib/policy';
@@ -9,8 +9,7 @@ export const metadata: Metadata = { title: 'Users' };
 
 export default async function AdminUsersPage() {
   const actor = await requireActor();
-  if (!can(actor, 'admin.users'))
-    return <Forbidden message="Only administrators manage users, invitations and roles." />;
+  if (!can(actor, 'admin.users')) forbidden(); // the sentence: REFUSALS in components/shell/forbidden.tsx
   return (
     <>
       <PageHeader

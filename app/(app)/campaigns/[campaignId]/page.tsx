@@ -5,7 +5,7 @@ import { getCampaignTeamId } from '@/lib/db/queries/scans';
 import { isAppError } from '@/lib/errors';
 import { can } from '@/lib/policy';
 
-export const metadata = { title: 'Campaign · Lobeline' };
+export const metadata = { title: 'Campaign' };
 
 // The campaign page: shifts, the server-paged scan table and the trend. Access is checked here; data via the API.
 export default async function CampaignPage({ params }: { params: Promise<{ campaignId: string }> }) {

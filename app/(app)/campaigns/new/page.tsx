@@ -1,11 +1,11 @@
 import type { Metadata } from 'next';
+import { forbidden } from 'next/navigation';
 import { CampaignForm } from '@/components/home/campaign-form';
-import { Forbidden } from '@/components/shell/forbidden';
 import { PageHeader } from '@/components/ui/page-header';
 import { Panel } from '@/components/ui/panel';
 import { requireActor } from '@/lib/auth/actor';
 import { getCurrentTeamId } from '@/lib/auth/current-team';
-import { can, describeAction } from '@/lib/policy';
+import { can } from '@/lib/policy';
 
 export const metadata: Metadata = { title: 'New campaign' };
 
@@ -14,11 +14,7 @@ export default async function NewCampaignPage() {
   const teamId = await getCurrentTeamId(actor);
   const team = actor.memberships.find((m) => m.teamId === teamId);
   if (!teamId || !team || !can(actor, 'campaign.create', { teamId })) {
-    return (
-      <Forbidden
-        message={`Creating a campaign is for analysts and PIs of a team${team ? `; your role in ${team.teamName} does not include ${describeAction('campaign.create')}` : ''}.`}
-      />
-    );
+    forbidden(); // the sentence: app/(app)/forbidden.tsx
   }
   return (
     <div className="mx-auto max-w-2xl">

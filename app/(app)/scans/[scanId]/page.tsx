@@ -5,7 +5,7 @@ import { getScanTeamId } from '@/lib/db/queries/scans';
 import { isAppError } from '@/lib/errors';
 import { can } from '@/lib/policy';
 
-export const metadata = { title: 'Scan · Lobeline' };
+export const metadata = { title: 'Scan' };
 
 // The scan page: access is checked here on the server; the data come from the JSON API (TanStack Query).
 export default async function ScanPage({

@@ -10,7 +10,7 @@ import { getShiftReceipt, getShiftView } from '@/lib/ingest/service';
 export const dynamic = 'force-dynamic';
 
 export async function generateMetadata({ params }: { params: Promise<{ shiftId: string }> }) {
-  return { title: `Shift ${(await params).shiftId} · Lobeline` };
+  return { title: `Shift ${(await params).shiftId}` };
 }
 
 // The shift page (C2): campaign and shift, the safety reminder, drop and send files, the log, the end of shift.

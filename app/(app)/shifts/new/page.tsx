@@ -1,7 +1,7 @@
 import type { Metadata } from 'next';
+import { forbidden } from 'next/navigation';
 import { formatWavelength } from '@/components/home/labels';
 import { ShiftForm } from '@/components/home/shift-form';
-import { Forbidden } from '@/components/shell/forbidden';
 import { EmptyState } from '@/components/ui/empty-state';
 import { PageHeader } from '@/components/ui/page-header';
 import { Panel } from '@/components/ui/panel';
@@ -18,11 +18,7 @@ export default async function NewShiftPage({ searchParams }: { searchParams: Pro
   const teamId = await getCurrentTeamId(actor);
   const team = actor.memberships.find((m) => m.teamId === teamId);
   if (!teamId || !team || !can(actor, 'shift.open', { teamId })) {
-    return (
-      <Forbidden
-        message={`Opening a shift is for operators and analysts of a team${team ? `; your role in ${team.teamName} does not include it` : ''}.`}
-      />
-    );
+    forbidden(); // the sentence: app/(app)/forbidden.tsx
   }
   const campaigns = (await listCampaigns({ teamIds: [teamId] })).filter((c) => c.status === 'active');
   const requested = Number((await searchParams).campaignId);

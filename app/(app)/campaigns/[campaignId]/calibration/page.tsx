@@ -5,7 +5,7 @@ import { getCampaignTeamId } from '@/lib/db/queries/scans';
 import { isAppError } from '@/lib/errors';
 import { can } from '@/lib/policy';
 
-export const metadata = { title: 'Calibration and settings · Lobeline' };
+export const metadata = { title: 'Calibration and settings' };
 
 // Versions of the campaign's detector calibration and analysis settings: edit (analysts), approve (PI).
 export default async function CalibrationPage({ params }: { params: Promise<{ campaignId: string }> }) {
