@@ -52,8 +52,13 @@ test('pages load under the CSP with no violation: sign-in, home, account, a shif
   await expect(page.getByTestId('change-password-form')).toBeVisible();
 
   // A shift with a drop: the pre-check worker runs h5wasm (WebAssembly) and the parts go straight to S3.
-  const campaigns = (await (await page.request.get('/api/campaigns')).json()) as { campaigns: { id: number }[] };
-  const campaignId = campaigns.campaigns[0]?.id as number;
+  // a campaign whose target and wavelength the generated file matches, so the pre-check asks for no confirmation
+  const campaigns = (await (await page.request.get('/api/campaigns')).json()) as {
+    campaigns: { id: number; experimentKind: string; target: string; wavelengthNm: number }[];
+  };
+  const campaign = campaigns.campaigns.find((c) => c.experimentKind === 'angular_streaking');
+  expect(campaign, 'an angular-streaking campaign').toBeDefined();
+  const campaignId = campaign!.id;
   const opened = await page.request.post('/api/shifts', { data: { campaignId, title: `CSP walk ${Date.now()}` } });
   expect(opened.ok(), await opened.text()).toBeTruthy();
   const shiftBody = (await opened.json()) as { shift?: { id: number }; id?: number };
@@ -63,7 +68,22 @@ test('pages load under the CSP with no violation: sign-in, home, account, a shif
   const file = path.join(dir, name);
   execFileSync(
     'npx',
-    ['tsx', 'scripts/make-example.ts', '--kind', 'angular_streaking', '--out', file, '--steps', '2', '--size', '64'],
+    [
+      'tsx',
+      'scripts/make-example.ts',
+      '--kind',
+      'angular_streaking',
+      '--target',
+      campaign!.target,
+      '--wavelength',
+      String(campaign!.wavelengthNm),
+      '--out',
+      file,
+      '--steps',
+      '2',
+      '--size',
+      '64',
+    ],
     { stdio: 'ignore' },
   );
   await page.goto(`/shifts/${shiftId}`);
