@@ -25,8 +25,16 @@ const REFUSALS: Record<string, () => string | Promise<string>> = {
   '/shifts/new': async () => `Opening a shift is for operators and analysts of a team${await teamPart('it')}.`,
 };
 
+/** Refusals of addresses with an id in them. */
+const PATTERNS: [RegExp, () => string][] = [
+  [
+    /^\/campaigns\/\d+\/calibration$/,
+    () => 'Calibrations and analysis settings are for the team’s members; data stewards see the campaign’s metadata.',
+  ],
+];
+
 export default async function ForbiddenPage() {
-  const path = (await headers()).get('x-lobeline-path') ?? '';
-  const sentence = REFUSALS[path.replace(/\/+$/, '') || '/'];
+  const path = ((await headers()).get('x-lobeline-path') ?? '').replace(/\/+$/, '') || '/';
+  const sentence = REFUSALS[path] ?? PATTERNS.find(([re]) => re.test(path))?.[1];
   return <Forbidden message={sentence ? await sentence() : 'Your roles do not include this page.'} />;
 }

@@ -56,9 +56,11 @@ export function CampaignView({ campaignId }: { campaignId: number }) {
           .filter(Boolean)
           .join(' · ')}
         actions={
-          <LinkButton href={`/campaigns/${c.id}/calibration`} variant="secondary" size="sm">
-            Calibration &amp; settings
-          </LinkButton>
+          can.viewCalibration ? (
+            <LinkButton href={`/campaigns/${c.id}/calibration`} variant="secondary" size="sm">
+              Calibration &amp; settings
+            </LinkButton>
+          ) : null
         }
       />
       <div className="grid gap-6 lg:grid-cols-3">

@@ -5,6 +5,7 @@ export interface CampaignResponse {
   targets: string[];
   can: {
     viewResults: boolean;
+    viewCalibration: boolean;
     editCalibration: boolean;
     approveCalibration: boolean;
     startReduction: boolean;

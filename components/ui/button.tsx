@@ -13,14 +13,15 @@ const VARIANTS: Record<ButtonVariant, string> = {
 };
 
 const SIZES: Record<ButtonSize, string> = {
-  sm: 'h-8 px-3 text-small gap-1.5',
-  md: 'h-10 px-4 text-body gap-2',
+  sm: 'min-h-8 py-1 px-3 text-small gap-1.5',
+  md: 'min-h-10 py-1.5 px-4 text-body gap-2',
 };
 
 /** Class names of a button, for links that look like buttons. */
 export function buttonClass(variant: ButtonVariant = 'primary', size: ButtonSize = 'md', extra?: string): string {
   return cx(
-    'inline-flex items-center justify-center rounded-md font-medium whitespace-nowrap transition-colors',
+    // On a small screen a long label wraps inside the button instead of widening the page.
+    'inline-flex max-w-full items-center justify-center rounded-md text-center font-medium whitespace-normal sm:whitespace-nowrap transition-colors',
     'focus-visible:outline-2 focus-visible:outline-offset-2 focus-visible:outline-lobe-500 disabled:cursor-not-allowed',
     VARIANTS[variant],
     SIZES[size],

@@ -85,6 +85,19 @@ test.describe('status codes of missing and forbidden pages', () => {
   });
 });
 
+test('a steward sees no calibration button; the calibration page answers 403 with the reason', async ({ page }) => {
+  await signIn(page, DEMO.steward);
+  const href = await firstCampaignHref(page);
+  await page.goto(href);
+  await expect(page.getByRole('heading', { name: 'Scans by state' })).toBeVisible();
+  await expect(page.getByRole('link', { name: 'Calibration & settings' })).toHaveCount(0);
+  const res = await page.goto(`${href}/calibration`);
+  expect(res?.status()).toBe(403);
+  await expect(page.getByTestId('forbidden')).toContainText('data stewards see the campaign’s metadata');
+  await expect(page.getByTestId('forbidden').getByRole('link', { name: /overview/i })).toBeVisible();
+  await page.screenshot({ path: `${SHOTS}/steward-calibration-forbidden.png`, fullPage: true });
+});
+
 test('a role menu asks before a role changes (arrow keys change nothing on their own)', async ({ page }) => {
   await signIn(page, DEMO.admin);
   await page.goto('/admin/users');
@@ -166,6 +179,16 @@ test.describe('a 390 px wide screen', () => {
       await page.screenshot({ path: `${SHOTS}/pi-390-${name}.png`, fullPage: true });
       expect(await docWidth(page), `${path} is wider than the screen`).toBeLessThanOrEqual(390);
     }
+  });
+
+  test('an analyst’s campaign page fits too: its long re-reduce button wraps', async ({ page }) => {
+    await signIn(page, DEMO.analyst);
+    const href = await firstCampaignHref(page);
+    await page.goto(href);
+    await expect(page.getByRole('button', { name: /^Re-reduce all scans with/ })).toBeVisible();
+    await page.waitForLoadState('networkidle');
+    await page.screenshot({ path: `${SHOTS}/analyst-390-campaign.png`, fullPage: true });
+    expect(await docWidth(page), `${href} is wider than the screen`).toBeLessThanOrEqual(390);
   });
 
   test('the admin pages fit too, their tables scroll inside their panel', async ({ page }) => {

@@ -28,6 +28,7 @@ export async function campaignFor(actor: Actor, campaignId: number, action: Acti
 export function campaignAbilities(actor: Actor, teamId: number) {
   return {
     viewResults: can(actor, 'result.view', { teamId }),
+    viewCalibration: can(actor, 'calibration.view', { teamId }),
     editCalibration: can(actor, 'calibration.edit', { teamId }),
     approveCalibration: can(actor, 'calibration.approve', { teamId }),
     startReduction: can(actor, 'reduction.start', { teamId }),

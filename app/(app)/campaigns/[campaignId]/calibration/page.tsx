@@ -1,4 +1,4 @@
-import { notFound, redirect } from 'next/navigation';
+import { forbidden, notFound, redirect } from 'next/navigation';
 import { CalibrationView } from '@/components/calibration/calibration-view';
 import { getActor } from '@/lib/auth/actor';
 import { getCampaignTeamId } from '@/lib/db/queries/scans';
@@ -21,6 +21,10 @@ export default async function CalibrationPage({ params }: { params: Promise<{ ca
     if (isAppError(err) && err.type === 'not_found') notFound();
     throw err;
   }
-  if (!can(actor, 'calibration.view', { teamId })) notFound();
+  if (!can(actor, 'calibration.view', { teamId })) {
+    // a campaign the actor may see (a steward reads its metadata) answers 403 with a sentence; any other 404
+    if (can(actor, 'campaign.view', { teamId })) forbidden(); // the sentence: app/(app)/forbidden.tsx
+    notFound();
+  }
   return <CalibrationView campaignId={id} />;
 }
