@@ -84,5 +84,36 @@ describe('a file sent twice into one campaign', () => {
     );
     const trend = await getCampaignTrend({ campaignId: t.campaignId });
     expect(new Set(trend.map((p) => p.scanId))).toEqual(new Set([t.scanId]));
+
+    // What the queries read: the insert trigger (migrations/2026.12.03T10.00.00.scan-counted-as.ts) names the
+    // campaign's first scan of the file on the second row, and nothing on the first.
+    expect(await duplicateOf(outcome.scanId)).toBe(t.scanId);
+    expect(await duplicateOf(t.scanId)).toBeNull();
+  });
+
+  it('counts the same file once in each campaign it was sent to', async () => {
+    const first = await models.Scan.findByPk(world.a.scanId);
+    const b = world.b;
+    const { id: _id, created_at: _c, updated_at: _u, ...row } = first!.get({ plain: true }) as Record<string, unknown>;
+    const before = await getCampaignOverview({ campaignId: b.campaignId });
+    const other = await models.Scan.create({
+      ...row,
+      team_id: b.teamId,
+      campaign_id: b.campaignId,
+      shift_id: b.shiftId,
+      status: 'uploaded',
+      latest_result_id: null,
+    } as never);
+    expect(await duplicateOf(other.id)).toBeNull();
+    const after = await getCampaignOverview({ campaignId: b.campaignId });
+    expect(after.counts.total).toBe(before.counts.total + 1);
+    expect((await table(b.campaignId)).rows.map((r) => r.id)).toContain(other.id);
   });
 });
+
+async function duplicateOf(scanId: number): Promise<number | null> {
+  const [rows] = (await models.Scan.sequelize!.query('SELECT duplicate_of_scan_id AS d FROM scans WHERE id = ?', {
+    replacements: [scanId],
+  })) as [{ d: number | null }[], unknown];
+  return rows[0]?.d == null ? null : Number(rows[0].d);
+}

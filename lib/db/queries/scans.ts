@@ -44,7 +44,8 @@ async function guard<T>(what: string, fn: () => Promise<T>): Promise<T> {
  * campaign counts, lists and trends it once.
  */
 export function firstOfItsFile(alias: string): string {
-  return `NOT EXISTS (SELECT 1 FROM scans dup WHERE dup.campaign_id = ${alias}.campaign_id AND dup.raw_file_id = ${alias}.raw_file_id AND dup.id < ${alias}.id)`;
+  // kept by a trigger: migrations/2026.12.03T10.00.00.scan-counted-as.ts
+  return `${alias}.duplicate_of_scan_id IS NULL`;
 }
 
 /**
@@ -165,6 +166,8 @@ export const SCAN_SORTS = {
   id: 's.id',
 } as const;
 export type ScanSort = keyof typeof SCAN_SORTS;
+/** Sort columns declared NOT NULL in the schema (migrations/2026.12.02T01.00.00.initial-schema.ts). */
+const NOT_NULL_SORTS: ReadonlySet<ScanSort> = new Set(['uploaded', 'status', 'id']);
 
 export interface ScanListQuery {
   campaignId: number;
@@ -248,8 +251,11 @@ export async function listCampaignScans(q: ScanListQuery): Promise<{ rows: ScanR
     const whereSql = where.join(' AND ');
     const col = SCAN_SORTS[q.sort];
     const dir = q.dir === 'asc' ? 'ASC' : 'DESC';
-    // NULLs last in either direction, then the id as a stable tie-breaker.
-    const order = `${col} IS NULL, ${col} ${dir}, s.id ${dir}`;
+    // NULLs last in either direction, then the id as a stable tie-breaker. Columns that are never NULL order without
+    // the IS NULL term, so the default order (newest upload first) is read from an index instead of sorted.
+    const order = NOT_NULL_SORTS.has(q.sort)
+      ? `${col} ${dir}, s.id ${dir}`
+      : `${col} IS NULL, ${col} ${dir}, s.id ${dir}`;
     repl.limit = q.pageSize;
     repl.offset = (q.page - 1) * q.pageSize;
     // The worker's headline columns, unless the scan's latest result is a trial one: then the current result's.
