@@ -19,6 +19,8 @@ SECTIONS=(
   "N4|npx tsx scripts/bench/n4-multipart.ts"
   "N3b|npx tsx scripts/bench/n3-browser-sha256.ts"
   "N5|npx tsx scripts/bench/n5-scan-table.ts"
+  # event lists: conversion + histogramming per core (reduction/events)
+  "EVENTS|npx tsx scripts/bench/events.ts"
   # 20 signed-in HTTP clients on the running app (start the app and run N5 once first; see the script's header).
   "LOAD|npx tsx scripts/bench/load-app.ts"
   # precision of the lobe angles (several minutes; scripts/bench/precision.ts --realisations 10 for a quick look)

@@ -131,9 +131,26 @@ export function longitudinalMomentum(t: number, sp: SpectrometerAu): number {
   if (!(t > 0)) return Number.NaN;
   const single = sp.L / t - (sp.E * t) / 2;
   if (!(sp.D > 0)) return single;
-  // t(p) decreases monotonically with p. Bracket [lo, hi] with t(lo) > t > t(hi), then Newton with bisection.
-  let lo = single - 1;
-  let hi = single + 1;
+  // t(p) decreases monotonically with p. Newton from the single-region value (it converges in a few steps on any
+  // ordinary spectrometer); only if a step goes astray, bracket the root and bisect.
+  let p = single;
+  for (let i = 0; i < 40; i++) {
+    const vL = Math.sqrt(p * p + 2 * sp.E * sp.L);
+    const f = (vL - p) / sp.E + sp.D / vL - t;
+    // d t/d p: acceleration part (p/vL − 1)/E, drift part −D p/vL³
+    const dt = (p / vL - 1) / sp.E - (sp.D * p) / (vL * vL * vL);
+    const next = p - f / dt;
+    if (!Number.isFinite(next)) break;
+    if (Math.abs(next - p) <= 1e-13 * Math.max(1, Math.abs(p))) return next;
+    p = next;
+  }
+  return bracketedMomentum(t, sp, single);
+}
+
+/** The slow, safe way: bracket the root of t(p) = t, then bisect to the last bit. */
+function bracketedMomentum(t: number, sp: SpectrometerAu, start: number): number {
+  let lo = start - 1;
+  let hi = start + 1;
   for (let k = 0; flightTimeAu(lo, sp) < t; k++) {
     lo -= 2 ** k;
     if (k > 60) return Number.NaN; // slower than any electron of this spectrometer can be
@@ -142,20 +159,12 @@ export function longitudinalMomentum(t: number, sp: SpectrometerAu): number {
     hi += 2 ** k;
     if (k > 60) return Number.NaN;
   }
-  let p = Math.min(Math.max(single, lo), hi);
-  for (let i = 0; i < 100; i++) {
-    const f = flightTimeAu(p, sp) - t;
-    if (f > 0) lo = p;
-    else hi = p;
-    const vL = Math.sqrt(p * p + 2 * sp.E * sp.L);
-    // d t/d p: acceleration part (p/vL − 1)/E, drift part −D p/vL³
-    const dt = (p / vL - 1) / sp.E - (sp.D * p) / (vL * vL * vL);
-    let next = p - f / dt;
-    if (!(next > lo && next < hi)) next = (lo + hi) / 2;
-    if (Math.abs(next - p) <= 1e-15 * Math.max(1, Math.abs(p))) return next;
-    p = next;
+  for (let i = 0; i < 200 && hi - lo > 1e-15 * Math.max(1, Math.abs(lo)); i++) {
+    const mid = (lo + hi) / 2;
+    if (flightTimeAu(mid, sp) > t) lo = mid;
+    else hi = mid;
   }
-  return p;
+  return (lo + hi) / 2;
 }
 
 /**
