@@ -2,6 +2,8 @@
  * Writes a synthetic scan file (FORMATS §1) from a plan of model.ts, one frame at a time (memory stays bounded),
  * plus the deliberately broken variants the tests use. The h5wasm runtime is passed in.
  */
+
+import type { Group } from 'h5wasm';
 import { SOFTWARE_VERSION } from '../formats';
 import {
   createChunkedDataset,
@@ -99,47 +101,7 @@ export function writeSynthScan(
 
   const f = new rt.File(path, 'w');
   try {
-    f.create_attribute('default', 'entry');
-    f.create_attribute('creator', `lobeline ${SOFTWARE_VERSION} synthetic example generator`);
-    f.create_attribute('file_time', new Date(Date.UTC(2026, 2, 14, 8, 30, 0)).toISOString());
-    const entry = createNxGroup(f, 'entry', broken === 'missing_entry_class' ? null : 'NXentry', { default: 'data' });
-    writeString(entry, 'experiment_kind', o.kind);
-    writeString(
-      entry,
-      'start_time',
-      broken === 'bad_start_time' ? 'yesterday after lunch' : (startTime ?? '2026-03-14T09:30:00+01:00'),
-    );
-    writeString(
-      entry,
-      'title',
-      text.title ??
-        `Harbor Point Ultrafast Lab synthetic ${o.kind} scan, ${o.target} at ${o.wavelengthNm} nm (seed ${o.seed})`,
-    );
-    const sample = createNxGroup(entry, 'sample', 'NXsample');
-    writeString(sample, 'name', o.target);
-    const instrument = createNxGroup(entry, 'instrument', 'NXinstrument');
-    const source = createNxGroup(instrument, 'source', 'NXsource');
-    if (broken !== 'missing_wavelength') writeScalar(source, 'wavelength', o.wavelengthNm, 'nm');
-    if (o.kind === 'angular_streaking') {
-      writeScalar(source, 'ellipticity', broken === 'bad_ellipticity' ? 1.3 : o.ellipticity);
-    }
-    if (o.kind === 'angular_streaking' || o.kind === 'bicircular') {
-      writeScalar(source, 'helicity', broken === 'bad_helicity' ? 0 : o.helicity, null, '<i');
-    }
-    writeScalar(source, 'major_axis_angle', o.majorAxisDeg, 'deg');
-    if (o.kind === 'bicircular' || o.kind === 'two_color_phase') writeScalar(source, 'field_ratio', o.fieldRatio);
-    if (o.kind === 'bicircular') writeScalar(source, 'relative_phase', o.relativePhaseRad, 'rad');
-    writeScalar(source, 'pulse_duration', 6, 'fs');
-    writeString(source, 'intensity_convention', 'cycle_averaged_total');
-    const detector = createNxGroup(instrument, 'detector', 'NXdetector');
-    writeString(detector, 'description', 'Harbor Point VMI-2 (synthetic): MCP, phosphor screen and camera');
-    writeScalar(detector, 'momentum_per_pixel', plan.calibration.momentum_per_pixel_au, 'a.u.');
-    const notes = createNxGroup(entry, 'notes', 'NXnote');
-    writeString(
-      notes,
-      'comment',
-      text.comment ?? 'synthetic data with known truth; see the .truth.json file beside this one',
-    );
+    const entry = writeEntryMetadata(f, plan, broken, text, startTime);
 
     const data = createNxGroup(entry, 'data', 'NXdata', { signal: 'counts' });
     data.create_attribute('axes', is3d ? ['step', 'y', 'x'] : ['y', 'x']);
@@ -238,6 +200,64 @@ export function writeSynthScan(
     phase: plan.phase,
     broken_step: brokenStep,
   };
+}
+
+/**
+ * Writes the file attributes and everything of /entry except the data: experiment kind, start time, title, sample,
+ * laser source, detector and notes (FORMATS §1). Shared by image scans (here) and event lists (event-file.ts).
+ *
+ * @returns the /entry group
+ */
+export function writeEntryMetadata(
+  f: Group,
+  plan: ScanPlan,
+  broken: BrokenKind | null,
+  text: SynthText,
+  startTime: string | null,
+): Group {
+  const o = plan.options;
+  f.create_attribute('default', 'entry');
+  f.create_attribute('creator', `lobeline ${SOFTWARE_VERSION} synthetic example generator`);
+  f.create_attribute('file_time', new Date(Date.UTC(2026, 2, 14, 8, 30, 0)).toISOString());
+  const entry = createNxGroup(f, 'entry', broken === 'missing_entry_class' ? null : 'NXentry', { default: 'data' });
+  writeString(entry, 'experiment_kind', o.kind);
+  writeString(
+    entry,
+    'start_time',
+    broken === 'bad_start_time' ? 'yesterday after lunch' : (startTime ?? '2026-03-14T09:30:00+01:00'),
+  );
+  writeString(
+    entry,
+    'title',
+    text.title ??
+      `Harbor Point Ultrafast Lab synthetic ${o.kind} scan, ${o.target} at ${o.wavelengthNm} nm (seed ${o.seed})`,
+  );
+  const sample = createNxGroup(entry, 'sample', 'NXsample');
+  writeString(sample, 'name', o.target);
+  const instrument = createNxGroup(entry, 'instrument', 'NXinstrument');
+  const source = createNxGroup(instrument, 'source', 'NXsource');
+  if (broken !== 'missing_wavelength') writeScalar(source, 'wavelength', o.wavelengthNm, 'nm');
+  if (o.kind === 'angular_streaking') {
+    writeScalar(source, 'ellipticity', broken === 'bad_ellipticity' ? 1.3 : o.ellipticity);
+  }
+  if (o.kind === 'angular_streaking' || o.kind === 'bicircular') {
+    writeScalar(source, 'helicity', broken === 'bad_helicity' ? 0 : o.helicity, null, '<i');
+  }
+  writeScalar(source, 'major_axis_angle', o.majorAxisDeg, 'deg');
+  if (o.kind === 'bicircular' || o.kind === 'two_color_phase') writeScalar(source, 'field_ratio', o.fieldRatio);
+  if (o.kind === 'bicircular') writeScalar(source, 'relative_phase', o.relativePhaseRad, 'rad');
+  writeScalar(source, 'pulse_duration', 6, 'fs');
+  writeString(source, 'intensity_convention', 'cycle_averaged_total');
+  const detector = createNxGroup(instrument, 'detector', 'NXdetector');
+  writeString(detector, 'description', 'Harbor Point VMI-2 (synthetic): MCP, phosphor screen and camera');
+  writeScalar(detector, 'momentum_per_pixel', plan.calibration.momentum_per_pixel_au, 'a.u.');
+  const notes = createNxGroup(entry, 'notes', 'NXnote');
+  writeString(
+    notes,
+    'comment',
+    text.comment ?? 'synthetic data with known truth; see the .truth.json file beside this one',
+  );
+  return entry;
 }
 
 /**
