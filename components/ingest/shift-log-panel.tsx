@@ -27,11 +27,14 @@ export function ShiftLogPanel({
   entries,
   canLog,
   onAdded,
+  campaignTarget,
 }: {
   shiftId: number;
   entries: LogEntryDto[];
   canLog: boolean;
   onAdded: () => void;
+  /** The campaign's target, shown as the example in the target field. */
+  campaignTarget?: string | null;
 }) {
   const [form, setForm] = useState<Record<string, string>>({});
   const [errors, setErrors] = useState<Record<string, string>>({});
@@ -125,7 +128,7 @@ export function ShiftLogPanel({
               value={form.target ?? ''}
               onChange={set('target')}
               error={errors.target}
-              placeholder="He"
+              placeholder={campaignTarget ?? undefined}
             />
             {NUMBERS.map(([k, label]) => (
               <Field

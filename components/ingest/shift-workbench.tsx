@@ -76,7 +76,13 @@ export function ShiftWorkbench({ initial, initialReceipt }: { initial: ShiftView
         />
       </div>
       <div className="space-y-6">
-        <ShiftLogPanel shiftId={shiftId} entries={data.log} canLog={data.permissions.log} onAdded={refresh} />
+        <ShiftLogPanel
+          shiftId={shiftId}
+          entries={data.log}
+          canLog={data.permissions.log}
+          onAdded={refresh}
+          campaignTarget={data.shift.campaign.target}
+        />
         <CloseShiftPanel
           shiftId={shiftId}
           canClose={data.permissions.close}
