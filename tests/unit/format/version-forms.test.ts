@@ -7,8 +7,8 @@
  */
 import { describe, expect, it } from 'vitest';
 import { fitWindowWords, formToSettings, peakModelWords, settingsToForm } from '@/components/calibration/version-forms';
-import { effectiveSettings } from '@/reduction/pipeline';
 import { parseSettings } from '@/reduction/formats';
+import { effectiveSettings } from '@/reduction/pipeline';
 
 function stored(raw: unknown): Record<string, unknown> {
   // what the server stores: the parsed body (lib/db/queries/calibrations.ts parseVersionBody)
