@@ -27,6 +27,7 @@ export const FIELD_LABELS: Record<string, string> = {
   'settings.angular_smoothing_deg': 'Angular smoothing',
   'settings.peak_model': 'Peak model',
   'settings.fit_half_width_deg': 'Fit half-width',
+  'settings.follow_data.fit_window': 'Fit window',
   'settings.bootstrap.resamples': 'Bootstrap resamples',
   'settings.bootstrap.seed': 'Bootstrap seed',
   'settings.phase.min_counts': 'Phase maps: minimum counts per cell',

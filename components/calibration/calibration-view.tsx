@@ -13,6 +13,7 @@ import type { ApprovalPreviewDto, VersionDto, VersionKind } from '@/lib/db/queri
 import { formatDateTime } from '@/lib/format';
 import { parseCalibration, parseSettings } from '@/reduction/formats';
 import { VersionEditor } from './version-editor';
+import { fitWindowWords, peakModelWords } from './version-forms';
 
 function summary(kind: VersionKind, body: unknown): string {
   if (kind === 'calibration') {
@@ -26,7 +27,7 @@ function summary(kind: VersionKind, body: unknown): string {
   if (!r.ok) return 'not valid settings';
   const b = r.value;
   const win = Array.isArray(b.radial_window_au) ? `${b.radial_window_au.join('–')} a.u.` : 'auto';
-  return `grid ±${b.grid.p_max_au} a.u., ${b.grid.n}² cells · window ${win} · ${b.peak_model} · ${b.bootstrap.resamples} resamples`;
+  return `grid ±${b.grid.p_max_au} a.u., ${b.grid.n}² cells · window ${win} · ${peakModelWords(b)}, fit window ${fitWindowWords(b)} · ${b.bootstrap.resamples} resamples`;
 }
 
 const pairWords = (p: { calibration: number | null; settings: number | null } | null) =>

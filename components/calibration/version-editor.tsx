@@ -179,14 +179,28 @@ export function VersionEditor({
           </Row>
           <Row label="Peak model">
             <select className={inputClass(false)} value={String(f.peak_model)} onChange={set('peak_model')}>
+              <option value="follow">von Mises + constant, following the data</option>
               <option value="gaussian">Gaussian + constant</option>
               <option value="von_mises">von Mises + constant</option>
               <option value="parabola">parabola at the maximum</option>
             </select>
           </Row>
-          <Row label="Fit half-width" hint="deg">
-            {text('fit_half_width_deg')}
+          <Row label="Fit window">
+            <select
+              className={inputClass(false)}
+              value={String(f.fit_window_rule)}
+              onChange={set('fit_window_rule')}
+              data-testid="fit-window-rule"
+            >
+              <option value="follow">±3σ of each lobe, clipped at its neighbours</option>
+              <option value="fixed">fixed half-width</option>
+            </select>
           </Row>
+          {f.fit_window_rule === 'fixed' ? (
+            <Row label="Fit half-width" hint="deg">
+              {text('fit_half_width_deg')}
+            </Row>
+          ) : null}
           <Row label="Bootstrap resamples">{text('bootstrap_resamples', { inputMode: 'numeric' })}</Row>
           <Row label="Bootstrap seed">{text('bootstrap_seed', { inputMode: 'numeric' })}</Row>
           <Row label="Phase maps: minimum counts per cell">{text('phase_min_counts')}</Row>

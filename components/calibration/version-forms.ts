@@ -1,6 +1,6 @@
 // Form state ⇄ calibration / settings objects (FORMATS §2, §3). Fields the forms do not show (flat field, phase
 // regions) are carried over unchanged from the version the edit starts from.
-import { DEFAULT_SETTINGS } from '@/reduction/formats';
+import { type AnalysisSettings, DEFAULT_SETTINGS, parseSettings } from '@/reduction/formats';
 
 export type FormState = Record<string, string | boolean>;
 
@@ -51,8 +51,32 @@ export function formToCalibration(f: FormState, base: Record<string, unknown> | 
   return out;
 }
 
+/**
+ * The peak model a settings version reduces with, in words: with `follow_data.peak_model` the von Mises shape is
+ * used whatever `peak_model` holds (reduction/pipeline.ts `effectiveSettings`).
+ */
+export function peakModelWords(b: Pick<AnalysisSettings, 'peak_model' | 'follow_data'>): string {
+  if (b.follow_data?.peak_model) return 'von Mises + constant (follows the data)';
+  return { gaussian: 'Gaussian + constant', von_mises: 'von Mises + constant', parabola: 'parabola at the maximum' }[
+    b.peak_model
+  ];
+}
+
+/** The angular fit window rule of a settings version, in words. */
+export function fitWindowWords(b: Pick<AnalysisSettings, 'fit_half_width_deg' | 'follow_data'>): string {
+  if (b.follow_data?.fit_window) return '±3σ of each lobe, clipped at its neighbours (follows the data)';
+  return `±${b.fit_half_width_deg}°`;
+}
+
+/**
+ * The form of a stored settings version. The body is completed as the server and the reduction complete it
+ * (parseSettings, with `follow_data`), so the form shows the peak model and the fit-window rule the version really
+ * reduces with, not the defaults. Without a body (a first version) the form starts from the fixed defaults.
+ */
 export function settingsToForm(body: Record<string, unknown> | null): FormState {
-  const b = { ...DEFAULT_SETTINGS, ...(body ?? {}) } as typeof DEFAULT_SETTINGS & { note?: string };
+  const parsed = body ? parseSettings(body) : null;
+  const b = (parsed?.ok ? parsed.value : { ...DEFAULT_SETTINGS, ...(body ?? {}) }) as typeof DEFAULT_SETTINGS &
+    Pick<AnalysisSettings, 'follow_data'> & { note?: string };
   const win = b.radial_window_au;
   return {
     p_max_au: String(b.grid.p_max_au),
@@ -64,7 +88,9 @@ export function settingsToForm(body: Record<string, unknown> | null): FormState 
     radial_bins: String(b.radial_bins),
     lobes: b.lobes === 'auto' ? 'auto' : String(b.lobes),
     angular_smoothing_deg: String(b.angular_smoothing_deg),
-    peak_model: b.peak_model,
+    // `follow`: von Mises chosen by the data (follow_data.peak_model)
+    peak_model: b.follow_data?.peak_model ? 'follow' : b.peak_model,
+    fit_window_rule: b.follow_data?.fit_window ? 'follow' : 'fixed',
     fit_half_width_deg: String(b.fit_half_width_deg),
     bootstrap_resamples: String(b.bootstrap.resamples),
     bootstrap_seed: String(b.bootstrap.seed),
@@ -84,24 +110,24 @@ export function formToSettings(f: FormState, base: Record<string, unknown> | nul
     radial_bins: num(f.radial_bins),
     lobes: f.lobes === 'auto' ? 'auto' : num(f.lobes),
     angular_smoothing_deg: num(f.angular_smoothing_deg),
-    peak_model: f.peak_model,
+    peak_model: f.peak_model === 'follow' ? 'von_mises' : f.peak_model,
     fit_half_width_deg: num(f.fit_half_width_deg),
     bootstrap: { resamples: num(f.bootstrap_resamples), seed: num(f.bootstrap_seed) },
     phase,
   };
-  // settings that followed the data keep doing so unless this edit changed them (an explicit value wins)
+  // The peak model and the fit-window rule are shown and chosen in the form (`follow` = follows the data). A grid
+  // that followed the data keeps doing so unless this edit changed it (an explicit value wins).
   const follow = (base?.follow_data ?? null) as { grid: boolean; fit_window: boolean; peak_model: boolean } | null;
-  if (follow && base) {
-    const g = base.grid as { p_max_au?: number; n?: number } | undefined;
-    out.follow_data = {
-      grid:
-        follow.grid &&
-        g?.p_max_au === num(f.p_max_au) &&
-        g?.n === num(f.grid_n) &&
-        base.radial_bins === num(f.radial_bins),
-      fit_window: follow.fit_window && base.fit_half_width_deg === num(f.fit_half_width_deg),
-      peak_model: follow.peak_model && base.peak_model === f.peak_model,
-    };
-  }
+  const g = (base?.grid ?? undefined) as { p_max_au?: number; n?: number } | undefined;
+  const followData = {
+    grid:
+      !!follow?.grid &&
+      g?.p_max_au === num(f.p_max_au) &&
+      g?.n === num(f.grid_n) &&
+      base?.radial_bins === num(f.radial_bins),
+    fit_window: f.fit_window_rule === 'follow',
+    peak_model: f.peak_model === 'follow',
+  };
+  if (follow || followData.fit_window || followData.peak_model) out.follow_data = followData;
   return out;
 }

@@ -9,6 +9,7 @@ import { Badge, ErrorState, LinkButton, LoadingBlock, PageHeader, Panel } from '
 import { apiFetch } from '@/lib/api/client';
 import { formatDateTime } from '@/lib/format';
 import { BatchesPanel } from './batches-panel';
+import { HelicityPanel } from './helicity-panel';
 import { campaignKeys, FOLLOW_INTERVAL_MS, IDLE_INTERVAL_MS, workerBusy } from './query-keys';
 import { ScansTable } from './scans-table';
 import { TrendPanel } from './trend-panel';
@@ -131,6 +132,14 @@ export function CampaignView({ campaignId }: { campaignId: number }) {
       {can.viewResults ? (
         <Panel title="Trend across scans" description="Latest result of every reduced scan of this campaign.">
           <TrendPanel campaignId={c.id} following={busy} />
+        </Panel>
+      ) : null}
+      {can.viewResults ? (
+        <Panel
+          title="Helicity difference"
+          description="Offsets of h = +1 and h = −1 scans at matching conditions; half their difference is a systematic."
+        >
+          <HelicityPanel campaignId={c.id} />
         </Panel>
       ) : null}
     </div>

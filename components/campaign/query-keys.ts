@@ -8,6 +8,7 @@ export const campaignKeys = {
   scans: (campaignId: number, params: string) => ['campaign', campaignId, 'scans', params] as const,
   trend: (campaignId: number) => ['campaign', campaignId, 'trend'] as const,
   batches: (campaignId: number) => ['campaign', campaignId, 'batches'] as const,
+  helicity: (campaignId: number) => ['campaign', campaignId, 'helicity'] as const,
 };
 
 /** How often the views ask again while a worker has something of theirs (ms). */

@@ -8,7 +8,7 @@ import { apiFetch } from '@/lib/api/client';
 import type { AnalysisSettings, StepResult } from '@/reduction/formats';
 import { HARTREE_EV } from './format';
 import { viewsFor } from './kind-views';
-import { lobeModelSegments } from './lobe-model';
+import { fittedWindow, lobeModelSegments } from './lobe-model';
 import type { CurvesResponse } from './types';
 
 const MEASURED = '#253043';
@@ -48,7 +48,7 @@ export function DistributionsPanel({
           c.angular,
           l.angle_deg,
           l.width_deg,
-          settings.fit_half_width_deg,
+          fittedWindow(l, settings),
           settings.peak_model,
         ).map((points, k) => ({
           id: `fit${i}-${k}`,
@@ -98,9 +98,9 @@ export function DistributionsPanel({
               <LegendDash color={EXPECTED}>simple-man direction</LegendDash>
             </div>
             <p className="text-micro text-ink-500">
-              Solid line: measured counts; thick line: peak model ({settings.peak_model}, centre and width from the
-              fit); dashed verticals: fitted lobe direction (amber) and simple-man direction (teal). Offset = fitted −
-              simple-man, positive in the sense of field rotation.
+              Solid line: measured counts; thick line: peak model ({settings.peak_model}, centre and width from the fit,
+              drawn over the angular window the fit used); dashed verticals: fitted lobe direction (amber) and
+              simple-man direction (teal). Offset = fitted − simple-man, positive in the sense of field rotation.
             </p>
           </>
         ) : (

@@ -4,6 +4,7 @@
 import { useQuery } from '@tanstack/react-query';
 import Link from 'next/link';
 import { useEffect, useState } from 'react';
+import { HelicitySystematic } from '@/components/campaign/helicity-panel';
 import { overridePhrases } from '@/components/ingest/release-fields';
 import { formatNumber } from '@/components/plots/scales';
 import { XYPlot } from '@/components/plots/xy-plot';
@@ -199,6 +200,14 @@ export function ScanView({
                 ) : (
                   <p className="text-small text-ink-600">This kind of scan has no offset angle.</p>
                 )}
+                {views.lobeFigures ? (
+                  <HelicitySystematic
+                    campaignId={scan.campaignId}
+                    scanId={scanId}
+                    stepIndex={step}
+                    enabled={shownId === latest && !results.find((r) => r.id === shownId)?.trial}
+                  />
+                ) : null}
                 <div className="text-small text-ink-600">
                   calibration v{resultQ.data.calibrationVersion} · settings v{resultQ.data.settingsVersion}
                   <br />

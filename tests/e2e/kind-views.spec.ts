@@ -123,7 +123,8 @@ test('a bicircular scan draws every lobe model around its lobe, none across the 
     }),
   );
   expect(spans.length).toBeGreaterThanOrEqual(3);
-  // A lobe model covers at most ±fit_half_width (the settings default is well under 90°), i.e. under half the axis.
+  // A lobe model covers its fit window: ±fit_half_width, or ±3σ clipped half-way to the neighbouring lobes (≤ ±60° for
+  // three lobes), i.e. under half the axis.
   for (const s of spans) expect(s).toBeLessThan(frame / 2);
   await page.screenshot({ path: test.info().outputPath('bicircular-scan.png'), fullPage: true });
 });

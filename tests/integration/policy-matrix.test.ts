@@ -425,6 +425,13 @@ const ROWS: Row[] = [
     request: ({ t }) => campaignPath(t, '/trends'),
     expect: memberRead(),
   },
+  // Helicity-difference residuals (systematic of the offset): results.
+  {
+    route: '/api/campaigns/[campaignId]/helicity',
+    method: 'GET',
+    request: ({ t }) => campaignPath(t, '/helicity'),
+    expect: memberRead(),
+  },
 
   // INGEST (C2) //
   {
