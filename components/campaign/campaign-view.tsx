@@ -134,7 +134,8 @@ export function CampaignView({ campaignId }: { campaignId: number }) {
           <TrendPanel campaignId={c.id} following={busy} />
         </Panel>
       ) : null}
-      {can.viewResults ? (
+      {can.viewResults && (c.experimentKind === 'angular_streaking' || c.experimentKind === 'bicircular') ? (
+        // helicity applies to elliptical and bicircular light only (two-colour phase scans use linear fields)
         <Panel
           title="Helicity difference"
           description="Offsets of h = +1 and h = −1 scans at matching conditions; half their difference is a systematic."

@@ -128,3 +128,21 @@ test('a bicircular scan draws every lobe model around its lobe, none across the 
   for (const s of spans) expect(s).toBeLessThan(frame / 2);
   await page.screenshot({ path: test.info().outputPath('bicircular-scan.png'), fullPage: true });
 });
+
+test('the helicity-difference panel shows on bicircular campaigns, not on two-colour phase campaigns', async ({
+  page,
+}) => {
+  await signIn(page, DEMO.phaseAnalyst);
+  const res = await page.request.get('/api/campaigns');
+  const all = ((await res.json()) as { campaigns: { id: number; name: string }[] }).campaigns;
+  for (const [name, shown] of [
+    ['Ar 800 + 400 nm phase scan', false],
+    ['Ne 1300 nm bicircular', true],
+  ] as const) {
+    const c = all.find((x) => x.name === name);
+    expect(c, `seeded campaign "${name}"`).toBeDefined();
+    await page.goto(`/campaigns/${(c as { id: number }).id}`);
+    await expect(page.getByRole('heading', { name: 'Trend across scans' })).toBeVisible();
+    await expect(page.getByRole('heading', { name: 'Helicity difference' })).toHaveCount(shown ? 1 : 0);
+  }
+});
