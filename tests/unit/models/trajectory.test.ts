@@ -105,3 +105,17 @@ describe('Keldysh–Rutherford estimate (SCIENCE.md §10.6 columns of the §10.5
     expect(kr.full).toBeCloseTo(2 * kr.half, 12);
   });
 });
+
+describe('ensemble (SCIENCE.md §10.7 procedure)', () => {
+  it('without the Coulomb field the most-probable direction is the simple-man one, within its fit error', async () => {
+    const { runEnsemble } = await import('@/reduction/models/ensemble');
+    const c = heliumCase(4e14, 800, 0.87);
+    const r = runEnsemble({ field: c.field, state: { ...c.state, z: 1e-9 }, trajectories: 6000, seed: 3 });
+    expect(r.offsetErrDeg).not.toBeNull();
+    expect(Math.abs(r.offsetDeg)).toBeLessThan(4 * r.offsetErrDeg! + 0.05);
+    expect(r.boundFraction).toBe(0);
+    // the lobe is spread by the birth-time window (time-to-angle mapping of §4.2, ≈ ωτ/ε): tens of degrees
+    expect(r.widthDeg).toBeGreaterThan(10);
+    expect(r.widthDeg).toBeLessThan(60);
+  });
+});
