@@ -259,6 +259,27 @@ export function toImageAxes(
   return out;
 }
 
+/**
+ * Detector-frame momentum (p_x, p_y, p_s) of an electron with image-plane momentum (u, v) and `along` the laser:
+ * the inverse of toImageAxes.
+ */
+export function fromImageAxes(u: number, v: number, along: number, axis: LaserAxis): [number, number, number] {
+  switch (axis) {
+    case '+y':
+      return [v, along, u];
+    case '-y':
+      return [u, -along, v];
+    case '+x':
+      return [along, u, v];
+    case '-x':
+      return [-along, v, u];
+    case '+s':
+      return [u, v, along];
+    case '-s':
+      return [v, u, -along];
+  }
+}
+
 /** An empty n × n histogram for `grid` ([v][u] row-major, as images are [py][px]). */
 export function emptyHistogram(grid: CartesianGrid): Float64Array {
   return new Float64Array(grid.n * grid.n);

@@ -8,6 +8,7 @@
  * against the simple-man direction is the most-probable offset, its σ the lobe's rms width. Bound electrons
  * (energy ≤ 0 after the pulse) are counted apart with their weight.
  */
+import { radToDeg, wrapDeg, wrapPositive } from '../angles';
 import type { EllipticalFieldParams } from '../fields';
 import { electricFieldEllipticalAu, vectorPotentialEllipticalAu } from '../fields';
 import { levenbergMarquardt } from '../lm';
@@ -70,8 +71,7 @@ export function runEnsemble(input: EnsembleInput): EnsembleResult {
       nBound++;
     } else {
       wFree += w;
-      let phi = (Math.atan2(r.pFinal[1], r.pFinal[0]) * 180) / Math.PI;
-      phi = ((phi % 180) + 180) % 180;
+      const phi = wrapPositive(radToDeg(Math.atan2(r.pFinal[1], r.pFinal[0])), 180);
       const b = Math.min(179, Math.floor(phi));
       hist[b]! += w;
       hist2[b]! += w * w;
@@ -80,8 +80,7 @@ export function runEnsemble(input: EnsembleInput): EnsembleResult {
   }
   // simple-man direction of the field maximum at t = 0, folded like the histogram
   const a0 = vectorPotentialEllipticalAu(0, field, [0, 0]);
-  let phiSm = (Math.atan2(-a0[1]!, -a0[0]!) * 180) / Math.PI;
-  phiSm = ((phiSm % 180) + 180) % 180;
+  const phiSm = wrapPositive(radToDeg(Math.atan2(-a0[1]!, -a0[0]!)), 180);
   // centre the fit window on the histogram's maximum, ±90° around it (the folded lobe), unwrapped
   let iMax = 0;
   for (let i = 1; i < 180; i++) if (hist[i]! > hist[iMax]!) iMax = i;
@@ -119,8 +118,7 @@ export function runEnsemble(input: EnsembleInput): EnsembleResult {
     [peak, iMax + 0.5, 30, 0],
   );
   const centre = fit.theta[1]!;
-  let off = centre - phiSm;
-  off = ((((off + 90) % 180) + 180) % 180) - 90;
+  const off = wrapDeg(centre - phiSm, 180);
   const cov = fit.covariance;
   return {
     offsetDeg: field.helicity * off,

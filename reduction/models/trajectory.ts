@@ -12,6 +12,7 @@
  *   field's rotation.
  * - Keldysh–Rutherford estimate (§10.6, Bray, Eckart & Kheifets, PRL 121, 123201 (2018)): tan(Θ/2) = Zω²/(Ip F).
  */
+import { radToDeg, wrapDeg } from '../angles';
 import { type EllipticalFieldParams, electricFieldEllipticalAu, vectorPotentialEllipticalAu } from '../fields';
 import { type BoundState, type ExitModel, tunnelExitRadius } from './tunnelling';
 
@@ -138,13 +139,6 @@ export function integrateDopri5(
   return { y, steps };
 }
 
-/** Signed angle wrap into (−180°, 180°]. */
-function wrapDeg(a: number): number {
-  let x = ((a + 180) % 360) - 180;
-  if (x <= -180) x += 360;
-  return x;
-}
-
 /**
  * One trajectory from birth at t₀ to t → ∞ (SCIENCE.md §10.3–§10.4), with the offset against the simple-man
  * direction of its own birth time.
@@ -181,8 +175,8 @@ export function runTrajectory(input: TrajectoryInput): TrajectoryResult {
   const { y, steps } = integrateDopri5(rhs, input.t0, y0, tEnd, input.tolerance ?? 1e-11);
   const pFinal = keplerAsymptote([y[0]!, y[1]!, y[2]!], [y[3]!, y[4]!, y[5]!], z);
   if (pFinal === null) return { pFinal, pSimpleMan, offsetDeg: null, pPlaneAu: null, steps };
-  const phi = (Math.atan2(pFinal[1], pFinal[0]) * 180) / Math.PI;
-  const phiSm = (Math.atan2(pSimpleMan[1], pSimpleMan[0]) * 180) / Math.PI;
+  const phi = radToDeg(Math.atan2(pFinal[1], pFinal[0]));
+  const phiSm = radToDeg(Math.atan2(pSimpleMan[1], pSimpleMan[0]));
   return {
     pFinal,
     pSimpleMan,
@@ -201,6 +195,6 @@ export function keldyshRutherfordDeg(
   fieldAu: number,
   state: BoundState,
 ): { full: number; half: number } {
-  const half = (Math.atan((state.z * omegaAu * omegaAu) / (state.ipAu * fieldAu)) * 180) / Math.PI;
+  const half = radToDeg(Math.atan((state.z * omegaAu * omegaAu) / (state.ipAu * fieldAu)));
   return { full: 2 * half, half };
 }

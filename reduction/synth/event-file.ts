@@ -14,6 +14,7 @@ import {
   auToNs,
   bohrToMm,
   flightTimeAu,
+  fromImageAxes,
   impactPoint,
   type LaserAxis,
   type SpectrometerSi,
@@ -62,27 +63,6 @@ export const DEFAULT_EVENT_FILE_OPTIONS: EventFileOptions = {
 };
 
 // FUNCTIONS //
-
-/**
- * Detector-frame momentum (p_x, p_y, p_s) of an electron with image-plane momentum (u, v) and `along` the laser:
- * the inverse of toImageAxes in kinematics.ts.
- */
-export function fromImageAxes(u: number, v: number, along: number, axis: LaserAxis): [number, number, number] {
-  switch (axis) {
-    case '+y':
-      return [v, along, u];
-    case '-y':
-      return [u, -along, v];
-    case '+x':
-      return [along, u, v];
-    case '-x':
-      return [-along, v, u];
-    case '+s':
-      return [u, v, along];
-    case '-s':
-      return [v, u, -along];
-  }
-}
 
 /**
  * Writes the event file and returns its truth (the plan's steps, the number of events of each step).

@@ -7,9 +7,9 @@
  */
 import path from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
-import { toImageAxes } from '@/reduction/events/kinematics';
+import { fromImageAxes, toImageAxes } from '@/reduction/events/kinematics';
 import type { H5Runtime } from '@/reduction/hdf5/runtime';
-import { type EventFileTruth, fromImageAxes, writeSynthEventScan } from '@/reduction/synth/event-file';
+import { type EventFileTruth, writeSynthEventScan } from '@/reduction/synth/event-file';
 import { planScan } from '@/reduction/synth/model';
 import { generatedDir, python, runtime } from '../scanfile/helpers';
 

@@ -47,7 +47,7 @@ describe('SCIENCE.md §7.7 worked example (E_s = 2000 V/m, L = 0.100 m, electron
     [0.5, 8.655588e8, 20.936867],
     [0, 9.857668e8, 23.844559],
     [-0.5, 1.122669e9, 27.156069],
-  ])('p_s = %f a.u. flies %f a.u. = %f ns, and the time gives p_s back to 1e-10', (ps, tAu, tNs) => {
+  ])('p_s = %s a.u. flies %s a.u. = %s ns, and the time gives p_s back to 1e-10', (ps, tAu, tNs) => {
     const t = flightTimeAu(ps, sp);
     expect(t / tAu).toBeCloseTo(1, 6);
     expect(auToNs(t)).toBeCloseTo(tNs, 5);

@@ -84,7 +84,7 @@ describe('single-trajectory reference (SCIENCE.md §10.5)', () => {
     ['He', 4e14, 800, 1.0, 4.526, 4.762],
     ['Ar', 1e14, 800, 0.87, 11.589, 12.682],
     ['H', 2e14, 770, 0.85, 14.73, 18.891],
-  ] as const)('%s, %e W/cm², %d nm, ε = %f: θ_off %f° (Ip/F exit), %f° (parabolic)', (t, i, wl, eps, tri, par) => {
+  ] as const)('%s, %s W/cm², %s nm, ε = %s: θ_off %s° (Ip/F exit), %s° (parabolic)', (t, i, wl, eps, tri, par) => {
     const c = heliumCase(i, wl, eps, t);
     expect(runTrajectory({ field: c.field, state: c.state, t0: 0, exit: 'triangular' }).offsetDeg!).toBeCloseTo(tri, 2);
     expect(runTrajectory({ field: c.field, state: c.state, t0: 0, exit: 'parabolic' }).offsetDeg!).toBeCloseTo(par, 2);
@@ -98,7 +98,7 @@ describe('Keldysh–Rutherford estimate (SCIENCE.md §10.6 columns of the §10.5
     ['He', 4e14, 1300, 0.87, 0.967],
     ['Ar', 1e14, 800, 0.87, 7.918],
     ['H', 2e14, 770, 0.85, 6.942],
-  ] as const)('%s, %e W/cm², %d nm, ε = %f: Θ/2 = %f°', (t, i, wl, eps, half) => {
+  ] as const)('%s, %s W/cm², %s nm, ε = %s: Θ/2 = %s°', (t, i, wl, eps, half) => {
     const c = heliumCase(i, wl, eps, t);
     const kr = keldyshRutherfordDeg(c.w, c.fMajorAu, c.state);
     expect(kr.half).toBeCloseTo(half, 3);

@@ -22,6 +22,7 @@ const H: BoundState = { ipAu: 0.5, z: 1, l: 0, m: 0 }; // infinite-mass hydrogen
 const He = boundStateOf('He', IONIZATION_ENERGIES_EV.He!.ev)!;
 const Ar = boundStateOf('Ar', IONIZATION_ENERGIES_EV.Ar!.ev)!;
 
+const STATES: Record<string, BoundState> = { H, He, Ar };
 const rel = (a: number, b: number) => Math.abs(a / b - 1);
 
 describe('Γ (Lanczos)', () => {
@@ -38,15 +39,16 @@ describe('ADK rate (SCIENCE.md §10.1 check values)', () => {
     expect(effectiveQuantumNumbers(Ar).nStar).toBeCloseTo(0.929154, 6);
   });
   it.each([
-    ['H', H, 0.05, 1.295677e-4],
-    ['H', H, 0.1, 5.090535e-2],
-    ['He', He, 0.05, 3.069696e-13],
-    ['He', He, 0.08, 4.600122e-8],
-    ['He', He, 0.1, 2.365442e-6],
-    ['Ar', Ar, 0.05, 1.238405e-5],
-    ['Ar', Ar, 0.08, 4.213915e-3],
-    ['Ar', Ar, 0.1, 2.778737e-2],
-  ])('%s at F = %f a.u.: w = %e a.u.', (_name, s, f, w) => {
+    ['H', 0.05, 1.295677e-4],
+    ['H', 0.1, 5.090535e-2],
+    ['He', 0.05, 3.069696e-13],
+    ['He', 0.08, 4.600122e-8],
+    ['He', 0.1, 2.365442e-6],
+    ['Ar', 0.05, 1.238405e-5],
+    ['Ar', 0.08, 4.213915e-3],
+    ['Ar', 0.1, 2.778737e-2],
+  ])('%s at F = %s a.u.: w = %s a.u.', (name, f, w) => {
+    const s = STATES[name]!;
     expect(rel(adkRate(f, s), w)).toBeLessThan(2e-6); // the table's 7 significant digits
   });
   it('hydrogen is the exact (4/F) exp(−2/3F)', () => {
@@ -77,13 +79,14 @@ describe('tunnel exits (SCIENCE.md §10.2 table, m = 0)', () => {
     expect(parabolicBeta2(Ar)).toBeCloseTo(0.46188, 5);
   });
   it.each([
-    ['He', He, 0.05, 18.0714, 16.8871, 17.6928],
-    ['He', He, 0.08, 11.2946, 10.051, 10.9057],
-    ['He', He, 0.1, 9.0357, 7.7445, 8.6395],
-    ['Ar', Ar, 0.05, 11.5831, 9.4715, 10.6978],
-    ['Ar', Ar, 0.08, 7.2394, 4.3958, 6.2806],
-    ['Ar', Ar, 0.1, 5.7916, null, 4.7678],
-  ])('%s at F = %f: Ip/F %f, field direction %s, parabolic %f', (_n, s, f, tri, dir, par) => {
+    ['He', 0.05, 18.0714, 16.8871, 17.6928],
+    ['He', 0.08, 11.2946, 10.051, 10.9057],
+    ['He', 0.1, 9.0357, 7.7445, 8.6395],
+    ['Ar', 0.05, 11.5831, 9.4715, 10.6978],
+    ['Ar', 0.08, 7.2394, 4.3958, 6.2806],
+    ['Ar', 0.1, 5.7916, null, 4.7678],
+  ])('%s at F = %s: Ip/F %s, field direction %s, parabolic %s', (name, f, tri, dir, par) => {
+    const s = STATES[name]!;
     expect(tunnelExitRadius(f, s, 'triangular')).toBeCloseTo(tri, 4);
     const d = tunnelExitRadius(f, s, 'field_direction');
     if (dir === null)
