@@ -5,8 +5,13 @@ Model (the generator's angular shape, reduction/synth): lambda(theta) = B + sum_
 on 360 bins, each lobe holding N counts, B = bg * N * n_lobes / 360, kappa = 1/width^2. The Poisson Fisher
 information I = sum_i grad(lambda_i) grad(lambda_i)^T / lambda_i [H. Cramer 1946; C. R. Rao 1945] with every
 amplitude, width and centre free (and B free when there is a background) gives var(mu_1) >= (I^-1)_mu1mu1. The ratio
-to sigma_phi/sqrt(N) does not depend on N. Prints one line per case.
+to sigma_phi/sqrt(N) does not depend on N. Prints one line per case; with a JSON file of cases
+[{"mus_deg": [...], "width_deg": w, "bg": f}, ...] as its argument, prints the JSON list of the ratios instead
+(the precision bench reads that).
 """
+
+import json
+import sys
 
 import numpy as np
 
@@ -43,7 +48,12 @@ def bound_ratio(mus_deg, width_deg, bg):
     return np.rad2deg(np.sqrt(var)) / (width_deg / np.sqrt(n))
 
 
-for mus in ([-84.0, 96.0], [-84.0, 36.0, 156.0]):
-    for w in (10, 25, 35):
-        for bg in (0.0, 0.25):
-            print(f"{len(mus)} lobes, width {w} deg, background {bg}: CRB / (sigma/sqrt(N)) = {bound_ratio(mus, w, bg):.3f}")
+if len(sys.argv) > 1:
+    cases = json.load(open(sys.argv[1]))
+    json.dump([bound_ratio(c["mus_deg"], c["width_deg"], c["bg"]) for c in cases], sys.stdout)
+else:
+    for mus in ([-84.0, 96.0], [-84.0, 36.0, 156.0]):
+        for w in (10, 25, 35):
+            for bg in (0.0, 0.25):
+                r = bound_ratio(mus, w, bg)
+                print(f"{len(mus)} lobes, width {w} deg, background {bg}: CRB / (sigma/sqrt(N)) = {r:.3f}")
