@@ -7,7 +7,8 @@
  * Poisson ML fit) reads the same files. Columns per case (pooled over lobes):
  *   scatter  rms of (angle − truth) over realisations (deg)
  *   /ref     scatter over the reference's scatter (goal ≤ 1.15)
- *   /floor   scatter over σ_φ/√N (SCIENCE.md §9.2; no-background rows only; goal ≤ 1.3)
+ *   /floor   scatter over σ_φ/√N (SCIENCE.md §9.2; no-background rows only; goal ≤ 1.3), ± the standard error of a
+ *            pooled standard deviation, 1/√(2(R − 1)L) relative (±7 % for 50 realisations of two lobes)
  *   bound/floor  the Cramér–Rao bound of the case over σ_φ/√N (precision_crb.py); /bound the scatter over the bound.
  *            Where the bound itself exceeds 1.3 σ_φ/√N (three 35° lobes overlap: 2.5) the floor goal cannot be met
  *            by any unbiased estimator, and that row's goal is /bound ≤ 1.15 instead
@@ -199,12 +200,14 @@ for (const [mi, m] of measured.entries()) {
   const biasS = Math.abs(s.bias) / s.scatter;
   // standard error of that ratio: 1/√(realisations · lobes)
   const biasSe = 1 / Math.sqrt(R * m.c.nLobes);
+  // relative standard error of a pooled standard deviation from R·L − L degrees of freedom: 1/√(2(R − 1)L)
+  const sdSe = 1 / Math.sqrt(2 * (R - 1) * m.c.nLobes);
   const errS = mean(m.errs.flat().filter(Number.isFinite)) / s.scatter;
   const fitS = mean(m.fitErrs.flat().filter(Number.isFinite)) / s.scatter;
   const ok = ratioRef <= 1.15 && floorOk && biasS < 0.2 && errS >= 0.8 && errS <= 1.25;
   if (ok) met++;
   rows.push(
-    `| ${m.c.nLobes} | ${m.c.widthDeg}° | ${m.c.perLobe.toExponential(0)} | ${m.c.bg === 0 ? 'none' : '¼'} | ${s.scatter.toFixed(3)} | ${ratioRef.toFixed(2)} | ${ratioFloor === null ? '—' : ratioFloor.toFixed(2)} | ${crb.toFixed(2)} | ${ratioBound.toFixed(2)} | ${biasS.toFixed(2)} ± ${biasSe.toFixed(2)} | ${errS.toFixed(2)} | ${fitS.toFixed(2)} | ${ok ? 'met' : '**not met**'} |`,
+    `| ${m.c.nLobes} | ${m.c.widthDeg}° | ${m.c.perLobe.toExponential(0)} | ${m.c.bg === 0 ? 'none' : '¼'} | ${s.scatter.toFixed(3)} | ${ratioRef.toFixed(2)} | ${ratioFloor === null ? '—' : `${ratioFloor.toFixed(2)} ± ${(ratioFloor * sdSe).toFixed(2)}`} | ${crb.toFixed(2)} | ${ratioBound.toFixed(2)} ± ${(ratioBound * sdSe).toFixed(2)} | ${biasS.toFixed(2)} ± ${biasSe.toFixed(2)} | ${errS.toFixed(2)} | ${fitS.toFixed(2)} | ${ok ? 'met' : '**not met**'} |`,
   );
 }
 const warned = new Map<string, number>();
