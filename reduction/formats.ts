@@ -94,6 +94,27 @@ export const detectorCalibrationSchema = z
     center_err_px: finite()
       .refine((v) => v >= 0, 'must be ≥ 0')
       .optional(),
+    /**
+     * Event files (FORMATS §1.1): spectrometer values that override the file's `instrument/spectrometer`, with the
+     * same names and units (m, V/m, T, ns, mm). Image files ignore them.
+     */
+    spectrometer: z
+      .object({
+        acceleration_length: finite()
+          .refine((v) => v > 0, 'must be > 0 m')
+          .optional(),
+        drift_length: finite()
+          .refine((v) => v >= 0, 'must be ≥ 0 m')
+          .optional(),
+        electric_field: finite()
+          .refine((v) => v > 0, 'must be > 0 V/m (accelerating electrons toward the detector)')
+          .optional(),
+        magnetic_field: finite().optional(),
+        t0: finite().optional(),
+        detector_center: z.tuple([finite(), finite()]).optional(),
+      })
+      .strict()
+      .optional(),
     /** Optional extension: a free-text note carried with the version. */
     note: z.string().max(2000).optional(),
   })
@@ -179,6 +200,35 @@ function withFollowData(raw: unknown): unknown {
   };
 }
 
+/** Laser directions in the detector frame (FORMATS §1.1). */
+export const LASER_AXES = ['+y', '-y', '+x', '-x', '+s', '-s'] as const;
+
+export const DEFAULT_EVENT_SETTINGS = {
+  laser_axis: '+y' as (typeof LASER_AXES)[number],
+  gate_au: { axis: 'laser' as const, range: [-0.1, 0.1] as [number, number] } as {
+    axis: 'laser';
+    range: [number, number];
+  } | null,
+  chunk_events: 1_000_000,
+};
+
+/** `events` of the analysis settings (FORMATS §3); `gate_au: null` gates nothing. */
+export const eventSettingsSchema = z
+  .object({
+    laser_axis: z.enum(LASER_AXES).default('+y'),
+    gate_au: z
+      .object({
+        axis: z.literal('laser').default('laser'),
+        range: z.tuple([finite(), finite()]).refine(([a, b]) => b > a, 'needs low < high'),
+      })
+      .strict()
+      .nullable()
+      .default({ axis: 'laser', range: [-0.1, 0.1] }),
+    chunk_events: z.number().int().min(1000).max(50_000_000).default(1_000_000),
+  })
+  .strict();
+export type EventSettings = z.output<typeof eventSettingsSchema>;
+
 const analysisSettingsObject = z
   .object({
     grid: z
@@ -223,6 +273,8 @@ const analysisSettingsObject = z
       .default(DEFAULT_SETTINGS.phase),
     /** Optional extension: settings that follow the data (see `followDataSchema`). */
     follow_data: followDataSchema.optional(),
+    /** Event files (FORMATS §3): laser axis, gate along it, events read per chunk. */
+    events: eventSettingsSchema.optional(),
     /** Optional extension: a free-text note carried with the version. */
     note: z.string().max(2000).optional(),
   })
