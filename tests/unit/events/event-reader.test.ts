@@ -8,7 +8,7 @@
 import { statSync } from 'node:fs';
 import path from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
-import { EVENT_LIMITS, hasEventList, openEventFile } from '@/reduction/hdf5/event-reader';
+import { EVENT_LIMITS, hasEventList, openEventFile, type SpectrometerOverride } from '@/reduction/hdf5/event-reader';
 import type { H5Runtime } from '@/reduction/hdf5/runtime';
 import { writeSynthEventScan } from '@/reduction/synth/event-file';
 import { planScan } from '@/reduction/synth/model';
@@ -99,7 +99,7 @@ beforeAll(async () => {
   goodRef = r.good;
 });
 
-function problemsOf(name: string, spectrometer?: Parameters<typeof openEventFile>[2]['spectrometer']) {
+function problemsOf(name: string, spectrometer?: SpectrometerOverride) {
   const r = openEventFile(rt, cases[name]!, { spectrometer });
   if (r.ok) {
     r.scan.close();
