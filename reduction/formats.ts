@@ -437,6 +437,40 @@ export interface LobelineResult {
   steps: StepResult[];
   phase: PhaseResult | null;
   warnings: string[];
+  /** Optional (version 1 extension): how an event file's events were turned into the images analysed. */
+  events?: EventResultInfo;
+}
+
+/** What became of the events of one step (counts of events). */
+export interface EventStepTally {
+  index: number;
+  events: number;
+  kept: number;
+  near_node: number;
+  gated: number;
+  outside_grid: number;
+  invalid: number;
+}
+
+/** Optional result block of an event file (FORMATS §4 extension). */
+export interface EventResultInfo {
+  n_events: number;
+  chunk_events: number;
+  laser_axis: string;
+  gate_au: [number, number] | null;
+  /** The spectrometer values used (file's units) and where each came from. */
+  spectrometer: {
+    acceleration_length_m: number;
+    drift_length_m: number;
+    electric_field_v_per_m: number;
+    magnetic_field_t: number;
+    t0_ns: number;
+    detector_center_mm: [number, number];
+  };
+  spectrometer_source: Record<string, 'file' | 'calibration' | 'default'>;
+  /** Cyclotron period (ns), null without a magnetic field; events within 2 % of it from a node are dropped. */
+  cyclotron_period_ns: number | null;
+  steps: EventStepTally[];
 }
 
 /** Version string written into every result (kept in step with package.json). */
