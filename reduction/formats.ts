@@ -295,10 +295,22 @@ export interface BackgroundInfo {
   shots: number[];
 }
 
-/** Event lists of delay-line detectors (optional; histogrammed in a later release). */
+/** Event lists of delay-line detectors (FORMATS §1.1; reduction/hdf5/event-reader.ts). */
 export interface EventListInfo {
   count: number;
   paths: string[];
+  /** Optional: events of each step. */
+  stepEvents?: number[];
+  /** Optional: spectrometer values used (file's units; the calibration's over the file's) and their sources. */
+  spectrometer?: {
+    acceleration_length_m: number;
+    drift_length_m: number;
+    electric_field_v_per_m: number;
+    magnetic_field_t: number;
+    t0_ns: number;
+    detector_center_mm: readonly [number, number];
+  };
+  spectrometerSource?: Record<string, 'file' | 'calibration' | 'default'>;
 }
 
 /** Everything the reduction needs to know about a scan file, read from its metadata only. */

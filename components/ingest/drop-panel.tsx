@@ -123,17 +123,52 @@ function ItemRow({
                 {s.stepUnits && s.stepUnits !== '1' ? ` (${displayUnits(s.stepUnits)})` : ''}
               </dd>
             </div>
-            <div>
-              <dt className="text-micro text-ink-500">Image</dt>
-              <dd>
-                {s.nX} × {s.nY} px, {s.countsDtype}
-              </dd>
-            </div>
-            <div>
-              <dt className="text-micro text-ink-500">First frame</dt>
-              <dd>{pc?.preview ? `${formatNumber(pc.preview.totalCounts, 3)} counts` : '—'}</dd>
-            </div>
+            {s.events ? (
+              <>
+                <div>
+                  <dt className="text-micro text-ink-500">Events</dt>
+                  <dd data-testid="precheck-events">
+                    {formatNumber(s.events.count, 4)} ({s.countsDtype})
+                  </dd>
+                </div>
+                <div>
+                  <dt className="text-micro text-ink-500">First events on the grid</dt>
+                  <dd>
+                    {pc?.preview
+                      ? `${formatNumber(pc.preview.totalCounts, 3)} of ${formatNumber(s.events.previewEvents, 3)}`
+                      : '—'}
+                  </dd>
+                </div>
+              </>
+            ) : (
+              <>
+                <div>
+                  <dt className="text-micro text-ink-500">Image</dt>
+                  <dd>
+                    {s.nX} × {s.nY} px, {s.countsDtype}
+                  </dd>
+                </div>
+                <div>
+                  <dt className="text-micro text-ink-500">First frame</dt>
+                  <dd>{pc?.preview ? `${formatNumber(pc.preview.totalCounts, 3)} counts` : '—'}</dd>
+                </div>
+              </>
+            )}
           </dl>
+        ) : null}
+        {s?.events ? (
+          <p className="text-small text-ink-700" data-testid="precheck-spectrometer">
+            <span className="text-micro text-ink-500">Spectrometer (from the file; a calibration may override): </span>L{' '}
+            {s.events.spectrometer.acceleration_length_m} m · D {s.events.spectrometer.drift_length_m} m · E{' '}
+            {s.events.spectrometer.electric_field_v_per_m} V/m · B {s.events.spectrometer.magnetic_field_t} T · t₀{' '}
+            {s.events.spectrometer.t0_ns} ns · centre ({s.events.spectrometer.detector_center_mm[0]},{' '}
+            {s.events.spectrometer.detector_center_mm[1]}) mm · events per step{' '}
+            {s.events.perStep
+              .slice(0, 6)
+              .map((n) => formatNumber(n, 3))
+              .join(', ')}
+            {s.events.perStep.length > 6 ? ', …' : ''}
+          </p>
         ) : null}
         {hasProblems && !item.outcome ? (
           <div

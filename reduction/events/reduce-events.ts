@@ -133,6 +133,7 @@ export function createEventReducer(options: EventReducerOptions): EventReducer {
     settings,
     sha256: options.sha256 ?? null,
     onStepArrays: options.onStepArrays,
+    virtualFrame: true,
   });
   const sp = spectrometerAu(options.spectrometer);
   const conv: EventConversion = {

@@ -22,7 +22,17 @@ import {
   type StepQuantity,
 } from '../formats';
 import { problem, ScanFileRefusedError, type ScanProblem, ScanReadError } from './problems';
-import { type Checker, dtypeName, readBytes, safeClose, validateEventEntry } from './reader';
+import {
+  type Checker,
+  dtypeName,
+  type OpenScanOptions,
+  openScanBytes,
+  openScanFile,
+  readBytes,
+  type ScanFile,
+  safeClose,
+  validateEventEntry,
+} from './reader';
 import type { H5Runtime } from './runtime';
 import { summarizeHdf5Error } from './runtime';
 import { checkHdf5Signature } from './signature';
@@ -257,7 +267,13 @@ export function openEventFile(
     xAxis: null,
     yAxis: null,
     background: null,
-    events: { count: part.events.nEvents, paths: [`${EVENTS}/x`, `${EVENTS}/y`, `${EVENTS}/tof`] },
+    events: {
+      count: part.events.nEvents,
+      paths: [`${EVENTS}/x`, `${EVENTS}/y`, `${EVENTS}/tof`],
+      stepEvents: part.events.stepEvents,
+      spectrometer: part.events.spectrometer,
+      spectrometerSource: part.events.spectrometerSource,
+    },
   };
   return {
     ok: true,
@@ -662,4 +678,58 @@ function readSpectrometer(
     file,
     source,
   };
+}
+
+// EITHER KIND //
+
+export type OpenAnyResult =
+  | { ok: true; kind: 'image'; scan: ScanFile; warnings: string[] }
+  | { ok: true; kind: 'events'; scan: EventScanFile; warnings: string[] }
+  | { ok: false; kind: 'image' | 'events'; problems: ScanProblem[]; warnings: string[] };
+
+/**
+ * Opens an image scan or an event file: a file with `/entry/events` is an event file (FORMATS §1.1; its `data/`, if
+ * any, is not reduced), every other file an image scan (§1).
+ */
+export function openScanOrEvents(
+  rt: H5Runtime,
+  path: string,
+  options: OpenEventOptions & OpenScanOptions = {},
+): OpenAnyResult {
+  if (hasEventList(rt, path)) {
+    const r = openEventFile(rt, path, options);
+    return r.ok ? { ...r, kind: 'events' } : { ...r, kind: 'events' };
+  }
+  const r = openScanFile(rt, path, options);
+  return r.ok
+    ? { ok: true, kind: 'image', scan: r.scan, warnings: r.warnings }
+    : { ok: false, kind: 'image', problems: r.problems, warnings: r.warnings };
+}
+
+/** Like `openScanOrEvents` from bytes (scratch file removed on close, or at once when refused). */
+export function openScanOrEventsBytes(
+  rt: H5Runtime,
+  bytes: Uint8Array,
+  scratchPath: string,
+  options: OpenEventOptions & OpenScanOptions = {},
+): OpenAnyResult {
+  const FS = rt.Module.FS;
+  FS.writeFile(scratchPath, bytes);
+  const remove = () => {
+    try {
+      FS.unlink(scratchPath);
+    } catch {
+      // already gone
+    }
+  };
+  if (hasEventList(rt, scratchPath)) {
+    const r = openEventFile(rt, scratchPath, options, remove);
+    if (!r.ok) remove();
+    return r.ok ? { ...r, kind: 'events' } : { ...r, kind: 'events' };
+  }
+  remove();
+  const r = openScanBytes(rt, bytes, scratchPath, options);
+  return r.ok
+    ? { ok: true, kind: 'image', scan: r.scan, warnings: r.warnings }
+    : { ok: false, kind: 'image', problems: r.problems, warnings: r.warnings };
 }
