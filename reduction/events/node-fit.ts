@@ -8,16 +8,18 @@
  * the momentum distribution, and near a node it is a parabola in t. Method (ours):
  *
  * 1. stream the events into time bins: count and Σ R² per bin (bounded memory, any chunking);
- * 2. node candidates: the lowest bin of each run of the 3-bin running mean of ⟨R²⟩ below a fraction of its median
- *    (runs closer than 0.3 of the largest gap merged: noise can cross the threshold twice at one node);
- * 3. each node refined by a count-weighted least-squares parabola through ⟨R²⟩ within ±8 % of a period;
- * 4. t_n = t₀ + n T over the node numbers by weighted least squares (each node's σ from its parabola fit) → T,
+ * 2. node candidates: bins where the 3-bin running mean of ⟨R²⟩ is the lowest within ±5 % of the window and below
+ *    `depth` times the highest there (candidates closer than 0.3 of the largest gap merged, the deeper kept);
+ * 3. each node refined by a count-weighted least-squares cubic through ⟨R²⟩ within ±8 % of a period (its local
+ *    minimum; see refineVertex for why not a parabola);
+ * 4. t_n = t₀ + n T over the node numbers by weighted least squares (each node’s σ from its cubic fit) → T,
  *    its standard error (scaled up when the scatter exceeds the σ's), |B| = (2π/T) in a.u. of B (the sign needs the
  *    rotation sense, not the spacing);
  * 5. t₀ = c − n₁ T with the node number n₁ of the first node fixed by a rough t₀ (e.g. the file's), which must lie
  *    within T/2 of the truth.
  */
 import { AU_MAGNETIC_T } from '../constants';
+import { invertSmall } from '../lm';
 import { auToNs, nsToAu } from './kinematics';
 
 // TYPES //
@@ -44,7 +46,7 @@ export interface NodeFitOptions {
   t0GuessNs: number;
   /** Bins with fewer events are ignored (default 20). */
   minCounts?: number;
-  /** A candidate's smoothed ⟨R²⟩ must be below this fraction of the median (default 0.2). */
+  /** A candidate's smoothed ⟨R²⟩ must be below this fraction of the highest within ±5 % of the window (default 0.2). */
   depth?: number;
 }
 
@@ -55,7 +57,7 @@ export type NodeFit =
       nodesNs: number[];
       nodeNumbers: number[];
       periodNs: number;
-      /** Standard error of the period (node σ's from their parabola fits, scaled up by the scatter). */
+      /** Standard error of the period (node σ’s from their cubic fits, scaled up by the scatter). */
       periodErrNs: number | null;
       /** |B| in tesla (the sign is not given by the spacing). */
       magneticFieldT: number;
@@ -131,21 +133,24 @@ export function fitNodeSpacing(acc: NodeAccumulator, options: NodeFitOptions): N
   }
   const finite = Array.from(smooth).filter(Number.isFinite);
   if (finite.length < 10) return { ok: false, reason: 'too few time bins with events' };
-  const sorted = [...finite].sort((a, b) => a - b);
-  const median = sorted[Math.floor(sorted.length / 2)] as number;
-  const threshold = depth * median;
-  // candidates: the lowest bin of each run of bins below the threshold
+  // candidates: bins that are the minimum of the smoothed curve within ±w and below `depth` times its maximum there
+  // (a local test: the amplitude ⟨p⊥²⟩ may change along t, so a global threshold would miss nodes)
+  const w = Math.max(5, Math.round(0.05 * n));
   const cands: number[] = [];
-  let k = 0;
-  while (k < n) {
-    if (Number.isFinite(smooth[k] as number) && (smooth[k] as number) < threshold) {
-      let best = k;
-      while (k < n && Number.isFinite(smooth[k] as number) && (smooth[k] as number) < threshold) {
-        if ((smooth[k] as number) < (smooth[best] as number)) best = k;
-        k++;
-      }
-      cands.push(best);
-    } else k++;
+  for (let k = 0; k < n; k++) {
+    const v = smooth[k] as number;
+    if (!Number.isFinite(v)) continue;
+    let lo = Number.POSITIVE_INFINITY;
+    let hi = Number.NEGATIVE_INFINITY;
+    let usable = 0;
+    for (let i = Math.max(0, k - w); i <= Math.min(n - 1, k + w); i++) {
+      const u = smooth[i] as number;
+      if (!Number.isFinite(u)) continue;
+      usable++;
+      if (u < lo) lo = u;
+      if (u > hi) hi = u;
+    }
+    if (usable >= w && v === lo && v < depth * hi) cands.push(k);
   }
   // a node whose dip the noise crossed twice gives two candidates close together: keep the deeper one
   if (cands.length >= 2) {
@@ -168,7 +173,7 @@ export function fitNodeSpacing(acc: NodeAccumulator, options: NodeFitOptions): N
   const gaps = cands.slice(1).map((c, i) => ((c - (cands[i] as number)) as number) * bin);
   const gapSorted = [...gaps].sort((a, b) => a - b);
   const period0 = gapSorted[Math.floor(gapSorted.length / 2)] as number;
-  // refine each node: weighted parabola through ⟨R²⟩ within ±8 % of a period
+  // refine each node: weighted cubic through ⟨R²⟩ within ±8 % of a period
   const half = Math.max(2, Math.round((0.08 * period0) / bin));
   const nodes: number[] = [];
   const nodeErrs: number[] = [];
@@ -213,8 +218,11 @@ export function fitNodeSpacing(acc: NodeAccumulator, options: NodeFitOptions): N
 }
 
 /**
- * Count-weighted least-squares parabola through ⟨R²⟩ around bin c. Returns the vertex time and its standard error
- * (delta method on the parameter covariance, scaled by the weighted residual variance), or null.
+ * Count-weighted least-squares cubic a + bu + qu² + gu³ through ⟨R²⟩ around bin c (u = t − t_c); the node is the
+ * cubic's local minimum. A cubic, not a parabola: ⟨R²⟩ = A(t) sin²(π(t − t_n)/T) with an amplitude A that changes
+ * along t (⟨p⊥²⟩ depends on p_s, hence on t) is (A_n + A′δ)(πδ/T)² near the node, whose minimum stays at δ = 0 in a
+ * cubic fit but moves in a parabola fit. Returns the vertex time and its standard error (delta method on the
+ * parameter covariance, scaled by the weighted residual variance), or null.
  */
 function refineVertex(
   t: Float64Array,
@@ -224,81 +232,69 @@ function refineVertex(
   half: number,
   minCounts: number,
 ): { t: number; err: number } | null {
-  // normal equations of y = a + b u + q u², u = t − t_c (centred for conditioning)
+  // a node whose window the time window cuts would be pulled toward the inside: refused
+  if (c - half < 0 || c + half > t.length - 1) return null;
+  const K = 4;
   const tc = t[c] as number;
-  const s = new Float64Array(5);
-  const r = new Float64Array(3);
-  const lo = Math.max(0, c - half);
-  const hi = Math.min(t.length - 1, c + half);
+  const M = new Float64Array(K * K);
+  const r = new Float64Array(K);
   let used = 0;
-  for (let k = lo; k <= hi; k++) {
+  let below = 0;
+  let above = 0;
+  const basis = new Float64Array(K);
+  for (let k = c - half; k <= c + half; k++) {
     const wk = w[k] as number;
     const yk = y[k] as number;
     if (wk < minCounts || !Number.isFinite(yk)) continue;
     const u = (t[k] as number) - tc;
-    let p = wk;
-    for (let e = 0; e < 5; e++) {
-      s[e] = (s[e] as number) + p;
-      if (e < 3) r[e] = (r[e] as number) + p * yk;
-      p *= u;
+    if (u < 0) below++;
+    if (u > 0) above++;
+    basis[0] = 1;
+    for (let e = 1; e < K; e++) basis[e] = (basis[e - 1] as number) * u;
+    for (let i = 0; i < K; i++) {
+      r[i] = (r[i] as number) + wk * (basis[i] as number) * yk;
+      for (let j = 0; j < K; j++)
+        M[i * K + j] = (M[i * K + j] as number) + wk * (basis[i] as number) * (basis[j] as number);
     }
     used++;
   }
-  if (used < 5) return null;
-  const m = [
-    [s[0]!, s[1]!, s[2]!],
-    [s[1]!, s[2]!, s[3]!],
-    [s[2]!, s[3]!, s[4]!],
-  ];
-  const sol = solve3(m, [r[0]!, r[1]!, r[2]!]);
-  if (sol === null) return null;
-  const [a, b, q] = sol as [number, number, number];
-  if (!(q > 0)) return null;
-  const vertex = -b / (2 * q);
-  if (Math.abs(vertex) > (half + 0.5) * ((t[1] as number) - (t[0] as number))) return null;
-  // covariance = σ² M⁻¹ with σ² the weighted residual variance
+  if (used < 7 || below < 3 || above < 3) return null;
+  const inv = invertSmall(K, M);
+  if (inv === null) return null;
+  const p = new Float64Array(K);
+  for (let i = 0; i < K; i++)
+    for (let j = 0; j < K; j++) p[i] = (p[i] as number) + (inv[i * K + j] as number) * (r[j] as number);
+  const [a, b, q, g] = p as unknown as [number, number, number, number];
+  // local minimum: b + 2q v + 3g v² = 0 with 2q + 6g v > 0, the root nearest the centre
+  let v: number;
+  if (Math.abs(g) < 1e-300) {
+    v = -b / (2 * q);
+  } else {
+    const disc = q * q - 3 * g * b;
+    if (disc < 0) return null;
+    const roots = [(-q + Math.sqrt(disc)) / (3 * g), (-q - Math.sqrt(disc)) / (3 * g)];
+    const minima = roots.filter((x) => 2 * q + 6 * g * x > 0);
+    if (minima.length === 0) return null;
+    v = minima.reduce((best, x) => (Math.abs(x) < Math.abs(best) ? x : best));
+  }
+  const step = (t[1] as number) - (t[0] as number);
+  if (!Number.isFinite(v) || Math.abs(v) > (half + 0.5) * step) return null;
   let chi2 = 0;
-  for (let k = lo; k <= hi; k++) {
+  for (let k = c - half; k <= c + half; k++) {
     const wk = w[k] as number;
     const yk = y[k] as number;
     if (wk < minCounts || !Number.isFinite(yk)) continue;
     const u = (t[k] as number) - tc;
-    chi2 += wk * (yk - a - b * u - q * u * u) ** 2;
+    chi2 += wk * (yk - a - b * u - q * u * u - g * u * u * u) ** 2;
   }
-  const sigma2 = chi2 / (used - 3);
-  const inv = invert3(m);
-  if (inv === null) return null;
-  const gb = -1 / (2 * q);
-  const gq = b / (2 * q * q);
-  const varV = sigma2 * (gb * gb * inv[1]![1]! + 2 * gb * gq * inv[1]![2]! + gq * gq * inv[2]![2]!);
-  return { t: tc + vertex, err: Math.sqrt(Math.max(varV, 0)) };
-}
-
-function invert3(a: number[][]): number[][] | null {
-  const cols = [0, 1, 2].map((i) =>
-    solve3(
-      a,
-      [0, 1, 2].map((k) => (k === i ? 1 : 0)),
-    ),
-  );
-  if (cols.some((c) => c === null)) return null;
-  return [0, 1, 2].map((r) => [0, 1, 2].map((c) => (cols[c] as number[])[r] as number));
-}
-
-function solve3(a: number[][], b: number[]): number[] | null {
-  const m = a.map((row, i) => [...row, b[i] as number]);
-  for (let col = 0; col < 3; col++) {
-    let piv = col;
-    for (let i = col + 1; i < 3; i++) if (Math.abs(m[i]![col]!) > Math.abs(m[piv]![col]!)) piv = i;
-    if (Math.abs(m[piv]![col]!) < 1e-300) return null;
-    [m[col], m[piv]] = [m[piv]!, m[col]!];
-    for (let i = 0; i < 3; i++) {
-      if (i === col) continue;
-      const f = m[i]![col]! / m[col]![col]!;
-      for (let k = col; k < 4; k++) m[i]![k] = m[i]![k]! - f * m[col]![k]!;
-    }
-  }
-  return [m[0]![3]! / m[0]![0]!, m[1]![3]! / m[1]![1]!, m[2]![3]! / m[2]![2]!];
+  const sigma2 = chi2 / (used - K);
+  // dv/dθ = −(∂F/∂θ)/(∂F/∂v), F = b + 2q v + 3g v²
+  const dFdv = 2 * q + 6 * g * v;
+  const grad = [0, -1 / dFdv, (-2 * v) / dFdv, (-3 * v * v) / dFdv];
+  let varV = 0;
+  for (let i = 0; i < K; i++)
+    for (let j = 0; j < K; j++) varV += (grad[i] as number) * (grad[j] as number) * (inv[i * K + j] as number);
+  return { t: tc + v, err: Math.sqrt(Math.max(sigma2 * varV, 0)) };
 }
 
 /**

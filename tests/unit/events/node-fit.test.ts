@@ -5,8 +5,8 @@
  * through a weak-field spectrometer (0.3 m, 200 V/m, flight times ≈ 60–260 ns, so several nodes lie in the window)
  * by kinematics.ts, whose forward/inverse formulas are checked against the §7.7 worked example in kinematics.test.ts;
  * 0.1 ns timing and 0.1 mm position jitter stand in for the detector's resolution (our choice). Measured over 40
- * seeds of the second test's file (not run here): all 40 fitted, rms error of T 0.009 ns, rms pull of T 1.21 and of
- * t₀ 1.26 — the stated errors are about 20 % too small.
+ * seeds of the second test's file (not run here): all 40 fitted, rms error of T 0.015 ns, rms pull of T 1.03 and of
+ * t₀ 1.06, mean pulls +0.12 and −0.14 — the stated errors describe the scatter.
  */
 import { describe, expect, it } from 'vitest';
 import { auToNs, bohrToMm, flightTimeAu, impactPoint, nsToAu, spectrometerAu } from '@/reduction/events/kinematics';
