@@ -65,7 +65,9 @@ describe('node-spacing fit (SCIENCE §7.7)', () => {
     expect(Math.abs(fit.magneticFieldT - 1.0e-3)).toBeLessThan(3 * fit.magneticFieldErrT!);
     expect(Math.abs(fit.t0Ns - T0_NS), `t0 = ${fit.t0Ns} ± ${fit.t0ErrNs}`).toBeLessThan(3 * fit.t0ErrNs!);
     // every node of the window is one period apart from the next: t_n = t₀ + n T
-    fit.nodesNs.forEach((t, i) => expect(Math.abs(t - (T0_NS + fit.nodeNumbers[i]! * T))).toBeLessThan(0.3));
+    fit.nodesNs.forEach((t, i) => {
+      expect(Math.abs(t - (T0_NS + fit.nodeNumbers[i]! * T))).toBeLessThan(0.3);
+    });
   });
 
   it('a stronger field: 1.5e-3 T gives a period 1.5 times shorter', () => {
