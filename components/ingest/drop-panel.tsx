@@ -11,6 +11,13 @@ import { formatBytes, formatDuration, formatRate, KIND_WORDS } from './format';
 import { FramePreview } from './frame-preview';
 import type { IngestQueue, QueueItem } from './use-ingest-queue';
 
+/** A count of events written out in full, with thin spaces between thousands (e.g. 120 431). */
+function countText(n: number): string {
+  return Math.round(n)
+    .toString()
+    .replace(/\B(?=(\d{3})+(?!\d))/g, '\u2009');
+}
+
 function Bar({ value, tone = 'lobe', label }: { value: number; tone?: 'lobe' | 'flare' | 'fault'; label: string }) {
   const pct = Math.max(0, Math.min(100, value * 100));
   const colour = tone === 'lobe' ? 'bg-lobe-500' : tone === 'flare' ? 'bg-flare-500' : 'bg-fault-500';
@@ -128,15 +135,13 @@ function ItemRow({
                 <div>
                   <dt className="text-micro text-ink-500">Events</dt>
                   <dd data-testid="precheck-events">
-                    {formatNumber(s.events.count, 4)} ({s.countsDtype})
+                    {countText(s.events.count)} ({s.countsDtype})
                   </dd>
                 </div>
                 <div>
                   <dt className="text-micro text-ink-500">First events on the grid</dt>
                   <dd>
-                    {pc?.preview
-                      ? `${formatNumber(pc.preview.totalCounts, 3)} of ${formatNumber(s.events.previewEvents, 3)}`
-                      : '—'}
+                    {pc?.preview ? `${countText(pc.preview.totalCounts)} of ${countText(s.events.previewEvents)}` : '—'}
                   </dd>
                 </div>
               </>
@@ -165,7 +170,7 @@ function ItemRow({
             {s.events.spectrometer.detector_center_mm[1]}) mm · events per step{' '}
             {s.events.perStep
               .slice(0, 6)
-              .map((n) => formatNumber(n, 3))
+              .map((n) => countText(n))
               .join(', ')}
             {s.events.perStep.length > 6 ? ', …' : ''}
           </p>
