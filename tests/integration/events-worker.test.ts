@@ -194,6 +194,7 @@ describe('an event file of about 10⁶ events', () => {
       expect(meta?.events?.stepEvents).toEqual(truth.events_per_step);
       const scan = await models.Scan.findByPk(done.json.scanId);
       expect(scan?.n_steps).toBe(3);
+      expect(scan?.n_x).toBeNull(); // no detector image
       expect(scan?.experiment_kind).toBe('angular_streaking');
 
       // the accepted scan was queued; the worker reduces it
