@@ -78,6 +78,12 @@ export interface EventReducer {
   eventSettings: EventSettings;
   /** Counts a chunk of step `index` into that step's histogram (steps may be filled in any order). */
   addChunk(index: number, chunk: EventArrays): EventTally;
+  /**
+   * Adds a partial histogram of step `index` made elsewhere (e.g. by another process from a range of the step's
+   * events with `histogramChunk`), with its tally. Sums of integer counts in float64 are exact, so any split and any
+   * order of merging give the one-pass histogram.
+   */
+  addHistogram(index: number, hist: Float64Array, tally: EventTally): void;
   /** Hands step `index`'s histogram to the image reducer and frees it. */
   finishStep(index: number): StepResult;
   /** Histogram of a step not yet finished (read-only view; for tests and merging). */
@@ -90,6 +96,38 @@ export interface EventReducer {
 /** Event settings of an analysis settings object, with the defaults of FORMATS §3. */
 export function eventSettingsOf(settings: AnalysisSettings): EventSettings {
   return settings.events ?? { ...DEFAULT_EVENT_SETTINGS };
+}
+
+/** The conversion of a spectrometer and event settings (kinematics.ts). */
+export function eventConversion(spectrometer: SpectrometerSi, ev: EventSettings): EventConversion {
+  return {
+    spectrometer: spectrometerAu(spectrometer),
+    laserAxis: ev.laser_axis,
+    gateAu: ev.gate_au === null ? null : ev.gate_au.range,
+  };
+}
+
+/**
+ * The histogram of one chunk on its own (the work of one chunk of a split file), on the grid of `settings`.
+ *
+ * @returns the chunk's counts per cell and what became of its events
+ */
+export function histogramChunk(
+  chunk: EventArrays,
+  spectrometer: SpectrometerSi,
+  settings: AnalysisSettings,
+): { hist: Float64Array; tally: EventTally } {
+  const grid = cartesianGrid(settings);
+  const hist = new Float64Array(grid.n * grid.n);
+  const tally = histogramEvents(
+    chunk.x,
+    chunk.y,
+    chunk.tof,
+    eventConversion(spectrometer, eventSettingsOf(settings)),
+    grid,
+    hist,
+  );
+  return { hist, tally };
 }
 
 /**
@@ -135,12 +173,8 @@ export function createEventReducer(options: EventReducerOptions): EventReducer {
     onStepArrays: options.onStepArrays,
     virtualFrame: true,
   });
-  const sp = spectrometerAu(options.spectrometer);
-  const conv: EventConversion = {
-    spectrometer: sp,
-    laserAxis: ev.laser_axis,
-    gateAu: ev.gate_au === null ? null : ev.gate_au.range,
-  };
+  const conv = eventConversion(options.spectrometer, ev);
+  const sp = conv.spectrometer;
   const hists = new Map<number, Float64Array>();
   const tallies = new Map<number, EventTally>();
   const finished = new Set<number>();
@@ -170,6 +204,14 @@ export function createEventReducer(options: EventReducerOptions): EventReducer {
     const t = histogramEvents(chunk.x, chunk.y, chunk.tof, conv, grid, h);
     addTally(tallies.get(index)!, t);
     return t;
+  }
+
+  function addHistogram(index: number, part: Float64Array, t: EventTally): void {
+    const h = histogram(index);
+    if (part.length !== h.length)
+      throw new RangeError(`a partial histogram must have ${h.length} cells, got ${part.length}`);
+    for (let i = 0; i < h.length; i++) h[i] = (h[i] as number) + (part[i] as number);
+    addTally(tallies.get(index)!, t);
   }
 
   function finishStep(index: number): StepResult {
@@ -245,6 +287,7 @@ export function createEventReducer(options: EventReducerOptions): EventReducer {
     grid,
     eventSettings: ev,
     addChunk,
+    addHistogram,
     finishStep,
     histogram: (index: number) => histogram(index),
     finish,

@@ -8,7 +8,7 @@
  */
 import path from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
-import { createEventReducer } from '@/reduction/events/reduce-events';
+import { createEventReducer, histogramChunk } from '@/reduction/events/reduce-events';
 import { analysisSettingsSchema, detectorCalibrationSchema } from '@/reduction/formats';
 import { openEventFileOrThrow } from '@/reduction/hdf5/event-reader';
 import type { H5Runtime } from '@/reduction/hdf5/runtime';
@@ -123,5 +123,31 @@ print(json.dumps({"near": [int(near[idx[k]:idx[k + 1]].sum()) for k in range(len
     expect(small.result.steps).toEqual(one.result.steps);
     expect(small.result.events!.steps).toEqual(one.result.events!.steps);
     expect(one.hists[0]!.reduce((a, b) => a + b, 0)).toBe(one.result.events!.steps[0]!.kept);
+  });
+
+  it('partial histograms of a split step, made apart and merged in any order, give the one-pass result exactly', () => {
+    const one = reduceWith(10_000_000);
+    const scan = openEventFileOrThrow(rt, file);
+    try {
+      const r = createEventReducer({ meta: scan.meta, spectrometer: scan.events.spectrometer, calibration, settings });
+      for (let k = 0; k < scan.meta.shape.nStep; k++) {
+        // uneven ranges, as chunk jobs of another worker would take them, merged last first
+        const start = scan.events.stepStart[k]!;
+        const n = scan.events.stepEvents[k]!;
+        const cuts = [0, Math.floor(n * 0.13), Math.floor(n * 0.5), Math.floor(n * 0.51), n];
+        const parts = cuts.slice(1).map((b, i) => {
+          const a = cuts[i]!;
+          return histogramChunk(scan.readEvents(start + a, b - a), scan.events.spectrometer, settings);
+        });
+        for (const p of parts.reverse()) r.addHistogram(k, p.hist, p.tally);
+        expect(r.histogram(k)).toEqual(one.hists[k]);
+        r.finishStep(k);
+      }
+      const merged = r.finish();
+      expect(merged.result.steps).toEqual(one.result.steps);
+      expect(merged.result.events!.steps).toEqual(one.result.events!.steps);
+    } finally {
+      scan.close();
+    }
   });
 });
