@@ -7,15 +7,21 @@
  * with the file. Side by side in the same run: the sizes 10⁶ and 10⁷ events (`--events 1e6,1e7,1e8` for more; a
  * 10⁸-event file takes 1.2 GB of disk).
  *
+ * Then the speed-up of the chunk work over 1, 2 and 4 processes (`--procs`): a 10⁷-event file split into equal
+ * ranges, each process reading its range in chunks of 10⁶ and histogramming it (`histogramChunk`, what one chunk job
+ * of a split file does), the parent merging the partial histograms; wall time from the first spawn to the merged
+ * histogram, checked cell for cell against the one-process histogram. Processes, not queue workers: the BullMQ
+ * chunk jobs are not built yet. On a shared machine the figure depends on what else runs.
+ *
  * Files: uniform momenta in ±1.2 a.u. sent forward through a 0.1 m / 2000 V/m spectrometer with a 10 G field,
  * float32, one step, written in chunks (never all in memory), into the OS temp folder and removed afterwards.
  */
-import { spawnSync } from 'node:child_process';
-import { mkdtempSync, rmSync, statSync } from 'node:fs';
+import { spawn, spawnSync } from 'node:child_process';
+import { mkdtempSync, readFileSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { auToNs, bohrToMm, flightTimeAu, impactPoint, spectrometerAu } from '@/reduction/events/kinematics';
-import { createEventReducer } from '@/reduction/events/reduce-events';
+import { createEventReducer, histogramChunk } from '@/reduction/events/reduce-events';
 import { analysisSettingsSchema, detectorCalibrationSchema } from '@/reduction/formats';
 import { openEventFile } from '@/reduction/hdf5/event-reader';
 import { createNxGroup, writeScalar, writeVector } from '@/reduction/hdf5/h5-write';
@@ -122,9 +128,79 @@ async function reduceChild(file: string): Promise<void> {
   );
 }
 
+/** Child: histogram events [start, start + count) in chunks of 10⁶, write the histogram (float64) to `out`. */
+async function rangeChild(file: string, start: number, count: number, out: string): Promise<void> {
+  const rt = await loadH5wasmNode();
+  const r = openEventFile(rt, file);
+  if (!r.ok) throw new Error(r.problems.map((p) => p.message).join('\n'));
+  const settings = analysisSettingsSchema.parse({});
+  let total: Float64Array | null = null;
+  for (let a = start; a < start + count; a += WRITE_CHUNK) {
+    const c = r.scan.readEvents(a, Math.min(WRITE_CHUNK, start + count - a));
+    const { hist } = histogramChunk(c, r.scan.events.spectrometer, settings);
+    if (total === null) total = hist;
+    else for (let i = 0; i < hist.length; i++) total[i] = (total[i] as number) + (hist[i] as number);
+  }
+  r.scan.close();
+  writeFileSync(out, Buffer.from((total ?? new Float64Array(0)).buffer));
+}
+
+function runChild(args: string[]): Promise<void> {
+  return new Promise((resolve, reject) => {
+    const c = spawn(process.execPath, ['--import', 'tsx', import.meta.filename, ...args], {
+      stdio: ['ignore', 'ignore', 'pipe'],
+    });
+    let err = '';
+    c.stderr.on('data', (d) => (err += String(d)));
+    c.on('exit', (code) => (code === 0 ? resolve() : reject(new Error(err))));
+  });
+}
+
+async function speedUp(dir: string, procsList: number[]): Promise<void> {
+  const n = 10_000_000;
+  const file = path.join(dir, 'events-split.h5');
+  await writeFile(file, n);
+  console.log(`  chunk work split over processes (${n.toExponential(0)} events, ${procsList.join(', ')} processes):`);
+  let base: number | null = null;
+  let reference: Float64Array | null = null;
+  for (const procs of procsList) {
+    const t0 = performance.now();
+    const per = Math.ceil(n / procs);
+    const outs = Array.from({ length: procs }, (_, i) => path.join(dir, `part-${procs}-${i}.f64`));
+    await Promise.all(
+      outs.map((out, i) =>
+        runChild(['--range', file, String(i * per), String(Math.max(0, Math.min(per, n - i * per))), out]),
+      ),
+    );
+    let merged: Float64Array | null = null;
+    for (const out of outs) {
+      const b = readFileSync(out);
+      const part = new Float64Array(b.buffer, b.byteOffset, b.byteLength / 8);
+      if (merged === null) merged = Float64Array.from(part);
+      else for (let i = 0; i < part.length; i++) merged[i] = (merged[i] as number) + (part[i] as number);
+      rmSync(out, { force: true });
+    }
+    const ms = performance.now() - t0;
+    base ??= ms;
+    reference ??= merged;
+    const same = merged !== null && reference !== null && merged.every((v, i) => v === reference![i]);
+    console.log(
+      `    ${procs} process(es): ${ms.toFixed(0)} ms wall, speed-up ${(base / ms).toFixed(2)} × one process; merged histogram ${same ? 'equals' : 'DIFFERS FROM'} the one-process one`,
+    );
+  }
+  rmSync(file, { force: true });
+}
+
 async function main(): Promise<void> {
   const arg = process.argv.indexOf('--reduce');
   if (arg >= 0) return reduceChild(process.argv[arg + 1] as string);
+  const ri = process.argv.indexOf('--range');
+  if (ri >= 0) {
+    const [file, start, count, out] = process.argv.slice(ri + 1, ri + 5) as [string, string, string, string];
+    return rangeChild(file, Number(start), Number(count), out);
+  }
+  const pi = process.argv.indexOf('--procs');
+  const procsList = (pi >= 0 ? (process.argv[pi + 1] as string) : '1,2,4').split(',').map(Number);
   const ei = process.argv.indexOf('--events');
   const sizes = (ei >= 0 ? (process.argv[ei + 1] as string) : '1e6,1e7').split(',').map(Number);
   const dir = mkdtempSync(path.join(tmpdir(), 'lobeline-bench-events-'));
@@ -151,6 +227,7 @@ async function main(): Promise<void> {
           `(${out.ms.toFixed(0)} ms, of which HDF5 chunk reads ${out.readMs.toFixed(0)} ms, ${out.chunks} chunks); peak RSS ${out.maxRssMiB.toFixed(0)} MiB`,
       );
     }
+    await speedUp(dir, procsList);
   } finally {
     rmSync(dir, { recursive: true, force: true });
   }
