@@ -33,6 +33,18 @@ export const FIELD_LABELS: Record<string, string> = {
   'settings.phase.min_counts': 'Phase maps: minimum counts per cell',
   'settings.phase.harmonics': 'Phase maps: harmonics',
   'settings.phase.regions': 'Phase regions',
+  // event files (FORMATS §1.1, §3)
+  'calibration.spectrometer.acceleration_length': 'Acceleration length L',
+  'calibration.spectrometer.drift_length': 'Drift length D',
+  'calibration.spectrometer.electric_field': 'Spectrometer electric field',
+  'calibration.spectrometer.magnetic_field': 'Magnetic field along the axis',
+  'calibration.spectrometer.t0': 'Time offset t₀',
+  'calibration.spectrometer.detector_center': 'Detector centre x, y',
+  'settings.events.laser_axis': 'Laser direction',
+  'settings.events.chunk_events': 'Events read at a time',
+  'settings.events.gate_au': 'Gate the momentum along the laser',
+  'settings.events.gate_au.range.0': 'Gate from',
+  'settings.events.gate_au.range.1': 'Gate to',
 };
 
 /** The label of a field path (`calibration.bad_pixels.3.0` → "Bad pixels, line 4"), or null when unknown. */

@@ -94,6 +94,27 @@ export const detectorCalibrationSchema = z
     center_err_px: finite()
       .refine((v) => v >= 0, 'must be ≥ 0')
       .optional(),
+    /**
+     * Event files (FORMATS §1.1): spectrometer values that override the file's `instrument/spectrometer`, with the
+     * same names and units (m, V/m, T, ns, mm). Image files ignore them.
+     */
+    spectrometer: z
+      .object({
+        acceleration_length: finite()
+          .refine((v) => v > 0, 'must be > 0 m')
+          .optional(),
+        drift_length: finite()
+          .refine((v) => v >= 0, 'must be ≥ 0 m')
+          .optional(),
+        electric_field: finite()
+          .refine((v) => v > 0, 'must be > 0 V/m (accelerating electrons toward the detector)')
+          .optional(),
+        magnetic_field: finite().optional(),
+        t0: finite().optional(),
+        detector_center: z.tuple([finite(), finite()]).optional(),
+      })
+      .strict()
+      .optional(),
     /** Optional extension: a free-text note carried with the version. */
     note: z.string().max(2000).optional(),
   })
@@ -179,6 +200,35 @@ function withFollowData(raw: unknown): unknown {
   };
 }
 
+/** Laser directions in the detector frame (FORMATS §1.1). */
+export const LASER_AXES = ['+y', '-y', '+x', '-x', '+s', '-s'] as const;
+
+export const DEFAULT_EVENT_SETTINGS = {
+  laser_axis: '+y' as (typeof LASER_AXES)[number],
+  gate_au: { axis: 'laser' as const, range: [-0.1, 0.1] as [number, number] } as {
+    axis: 'laser';
+    range: [number, number];
+  } | null,
+  chunk_events: 1_000_000,
+};
+
+/** `events` of the analysis settings (FORMATS §3); `gate_au: null` gates nothing. */
+export const eventSettingsSchema = z
+  .object({
+    laser_axis: z.enum(LASER_AXES).default('+y'),
+    gate_au: z
+      .object({
+        axis: z.literal('laser').default('laser'),
+        range: z.tuple([finite(), finite()]).refine(([a, b]) => b > a, 'needs low < high'),
+      })
+      .strict()
+      .nullable()
+      .default({ axis: 'laser', range: [-0.1, 0.1] }),
+    chunk_events: z.number().int().min(1000).max(50_000_000).default(1_000_000),
+  })
+  .strict();
+export type EventSettings = z.output<typeof eventSettingsSchema>;
+
 const analysisSettingsObject = z
   .object({
     grid: z
@@ -223,6 +273,8 @@ const analysisSettingsObject = z
       .default(DEFAULT_SETTINGS.phase),
     /** Optional extension: settings that follow the data (see `followDataSchema`). */
     follow_data: followDataSchema.optional(),
+    /** Event files (FORMATS §3): laser axis, gate along it, events read per chunk. */
+    events: eventSettingsSchema.optional(),
     /** Optional extension: a free-text note carried with the version. */
     note: z.string().max(2000).optional(),
   })
@@ -243,10 +295,22 @@ export interface BackgroundInfo {
   shots: number[];
 }
 
-/** Event lists of delay-line detectors (optional; histogrammed in a later release). */
+/** Event lists of delay-line detectors (FORMATS §1.1; reduction/hdf5/event-reader.ts). */
 export interface EventListInfo {
   count: number;
   paths: string[];
+  /** Optional: events of each step. */
+  stepEvents?: number[];
+  /** Optional: spectrometer values used (file's units; the calibration's over the file's) and their sources. */
+  spectrometer?: {
+    acceleration_length_m: number;
+    drift_length_m: number;
+    electric_field_v_per_m: number;
+    magnetic_field_t: number;
+    t0_ns: number;
+    detector_center_mm: readonly [number, number];
+  };
+  spectrometerSource?: Record<string, 'file' | 'calibration' | 'default'>;
 }
 
 /** Everything the reduction needs to know about a scan file, read from its metadata only. */
@@ -385,6 +449,40 @@ export interface LobelineResult {
   steps: StepResult[];
   phase: PhaseResult | null;
   warnings: string[];
+  /** Optional (version 1 extension): how an event file's events were turned into the images analysed. */
+  events?: EventResultInfo;
+}
+
+/** What became of the events of one step (counts of events). */
+export interface EventStepTally {
+  index: number;
+  events: number;
+  kept: number;
+  near_node: number;
+  gated: number;
+  outside_grid: number;
+  invalid: number;
+}
+
+/** Optional result block of an event file (FORMATS §4 extension). */
+export interface EventResultInfo {
+  n_events: number;
+  chunk_events: number;
+  laser_axis: string;
+  gate_au: [number, number] | null;
+  /** The spectrometer values used (file's units) and where each came from. */
+  spectrometer: {
+    acceleration_length_m: number;
+    drift_length_m: number;
+    electric_field_v_per_m: number;
+    magnetic_field_t: number;
+    t0_ns: number;
+    detector_center_mm: [number, number];
+  };
+  spectrometer_source: Record<string, 'file' | 'calibration' | 'default'>;
+  /** Cyclotron period (ns), null without a magnetic field; events within 2 % of it from a node are dropped. */
+  cyclotron_period_ns: number | null;
+  steps: EventStepTally[];
 }
 
 /** Version string written into every result (kept in step with package.json). */

@@ -62,6 +62,11 @@ export interface ScanReducerOptions {
   onStepArrays?: (index: number, arrays: StepArrays) => void;
   /** Sub-pixels per axis for the resampling (1 … 8, default 4). */
   subsamples?: number;
+  /**
+   * Optional: the frames are histograms on the momentum grid (event files, reduction/events/reduce-events.ts), one
+   * virtual pixel per grid cell; only the wording of the pixel warnings changes.
+   */
+  virtualFrame?: boolean;
 }
 
 export interface ReducerAxes {
@@ -216,7 +221,9 @@ export function createScanReducer(options: ScanReducerOptions): ScanReducer {
   });
   if (pixelAu > polar.dpAu && kind !== 'two_color_phase') {
     warnings.global(
-      `Detector pixels (${pixelAu.toPrecision(3)} a.u.) are larger than the radial bins (${polar.dpAu.toPrecision(3)} a.u.): neighbouring bins share pixels, so the bootstrap errors come out conservative.`,
+      options.virtualFrame
+        ? `The momentum grid cells (${pixelAu.toPrecision(3)} a.u.) are larger than the radial bins (${polar.dpAu.toPrecision(3)} a.u.): neighbouring bins share cells, so the bootstrap errors come out conservative; a finer grid (more grid points) avoids it.`
+        : `Detector pixels (${pixelAu.toPrecision(3)} a.u.) are larger than the radial bins (${polar.dpAu.toPrecision(3)} a.u.): neighbouring bins share pixels, so the bootstrap errors come out conservative.`,
     );
   }
   const nLobes = lobeCount(kind, settings.lobes);

@@ -21,6 +21,8 @@ SECTIONS=(
   "N5|npx tsx scripts/bench/n5-scan-table.ts"
   # event lists: conversion + histogramming per core (reduction/events)
   "EVENTS|npx tsx scripts/bench/events.ts"
+  # event files from disk to a result: events/s and peak memory per size (reduction/hdf5/event-reader.ts)
+  "EVENTS-FILE|npx tsx scripts/bench/events-file.ts"
   # 20 signed-in HTTP clients on the running app (start the app and run N5 once first; see the script's header).
   "LOAD|npx tsx scripts/bench/load-app.ts"
   # precision of the lobe angles (several minutes; scripts/bench/precision.ts --realisations 10 for a quick look)

@@ -1,7 +1,7 @@
 /**
  * `npm run reduce -- FILE.h5 [--calibration C.json] [--settings S.json] [--json] [--out R.h5]`
  *
- * Runs Lobeline's reduction on a local scan file (FORMATS §1) frame by frame and prints the result (FORMATS §4):
+ * Runs Lobeline's reduction on a local scan file (FORMATS §1) frame by frame (an event file, §1.1, chunk by chunk) and prints the result (FORMATS §4):
  * as JSON with `--json` (nothing else on stdout), else as a table. `--out` writes the result file (FORMATS §5).
  * Exit status: 0 success; 2 a file or option it refuses (every problem on stderr, one per line); 1 internal error.
  */
@@ -9,13 +9,17 @@ import { createHash } from 'node:crypto';
 import { createReadStream, existsSync, readFileSync, renameSync, rmSync, statSync } from 'node:fs';
 import path from 'node:path';
 import { parseArgs } from 'node:util';
+import { createEventReducer, virtualCalibration } from '@/reduction/events/reduce-events';
 import {
+  type AnalysisSettings,
   type DetectorCalibration,
   type LobelineResult,
   parseCalibration,
   parseSettings,
   SOFTWARE_VERSION,
 } from '@/reduction/formats';
+import { cartesianGrid } from '@/reduction/grids';
+import { hasEventList, openEventFile } from '@/reduction/hdf5/event-reader';
 import { loadH5wasmNode } from '@/reduction/hdf5/node';
 import { ScanReadError } from '@/reduction/hdf5/problems';
 import { openScanFile, type ScanFile } from '@/reduction/hdf5/reader';
@@ -131,6 +135,70 @@ export function formatResultTable(r: LobelineResult, fileName: string): string {
 }
 
 /**
+ * Reduces an event file (FORMATS §1.1): events in chunks of `events.chunk_events`, per step histogrammed and
+ * analysed as a virtual frame. Without `--calibration` the file's spectrometer values are used as they are, and the
+ * result records the virtual-frame calibration of the grid.
+ */
+function reduceEventFile(
+  rt: Awaited<ReturnType<typeof loadH5wasmNode>>,
+  file: string,
+  calibration: DetectorCalibration | null,
+  settings: AnalysisSettings,
+  sha256: string,
+  out: string | undefined,
+): LobelineResult {
+  const opened = openEventFile(rt, file, { spectrometer: calibration?.spectrometer ?? null });
+  if (!opened.ok) throw new Refused(opened.problems.map((p) => p.message));
+  const scan = opened.scan;
+  let writer: ResultFileWriter | null = null;
+  const outPath = out === undefined ? null : path.resolve(out);
+  const partial = outPath === null ? null : `${outPath}.partial-${process.pid}`;
+  try {
+    const reducer = createEventReducer({
+      meta: scan.meta,
+      spectrometer: scan.events.spectrometer,
+      spectrometerSource: scan.events.spectrometerSource,
+      calibration: calibration ?? virtualCalibration(cartesianGrid(settings)),
+      settings,
+      sha256,
+      onStepArrays: (k, arrays) => writer?.writeStep(k, arrays),
+    });
+    if (partial !== null) {
+      writer = ResultFileWriter.create(rt, partial, {
+        nStep: scan.meta.shape.nStep,
+        step: scan.meta.step,
+        pxAu: reducer.axes.pxAu,
+        pyAu: reducer.axes.pyAu,
+        thetaDeg: reducer.axes.thetaDeg,
+        pAu: reducer.axes.pAu,
+      });
+    }
+    for (let k = 0; k < scan.meta.shape.nStep; k++) {
+      for (const c of scan.stepChunks(k, reducer.eventSettings.chunk_events)) reducer.addChunk(k, c);
+      reducer.finishStep(k);
+    }
+    const { result, phaseMaps } = reducer.finish();
+    result.warnings.unshift(...opened.warnings);
+    if (writer !== null && partial !== null && outPath !== null) {
+      if (phaseMaps !== null) writer.writePhase(phaseMaps);
+      writer.writeSummary(result);
+      writer.close();
+      writer = null;
+      renameSync(partial, outPath);
+    }
+    return result;
+  } finally {
+    try {
+      writer?.close();
+    } catch {
+      // removed below
+    }
+    if (partial !== null && existsSync(partial)) rmSync(partial, { force: true });
+    scan.close();
+  }
+}
+
+/**
  * Reduces a scan file.
  *
  * @param argv - command-line arguments after the script name
@@ -194,6 +262,12 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
 
     const sha256 = await sha256File(file);
     const rt = await loadH5wasmNode();
+    if (hasEventList(rt, file)) {
+      const result = reduceEventFile(rt, file, calibration, settings, sha256, values.out);
+      if (values.json) io.stdout(`${JSON.stringify(result, null, 2)}\n`);
+      else io.stdout(formatResultTable(result, path.basename(file)));
+      return 0;
+    }
     const opened = openScanFile(rt, file);
     if (!opened.ok) throw new Refused(opened.problems.map((p) => p.message));
     scan = opened.scan;

@@ -214,6 +214,7 @@ if [ -f scripts/demo-scans.ts ] && [ -s "$SEED_OUT" ] && [ -n "$WORKER_PID" ] &&
   if ! "$BIN/tsx" scripts/demo-scans.ts 2>&1 | tee "$DEMO_OUT"; then
     echo "WARNING: the demo scans could not all be added (see above); Lobeline runs anyway." >&2
   fi
+  "$BIN/tsx" scripts/demo-events.ts 2>&1 | tee -a "$DEMO_OUT" || echo "WARNING: the demo event campaign could not be added." >&2
 fi
 
 echo

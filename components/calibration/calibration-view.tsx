@@ -11,16 +11,30 @@ import { Badge, Button, EmptyState, ErrorState, LoadingBlock, PageHeader, Panel 
 import { apiFetch } from '@/lib/api/client';
 import type { ApprovalPreviewDto, VersionDto, VersionKind } from '@/lib/db/queries/calibrations';
 import { formatDateTime } from '@/lib/format';
-import { parseCalibration, parseSettings } from '@/reduction/formats';
+import { type DetectorCalibration, parseCalibration, parseSettings } from '@/reduction/formats';
 import { VersionEditor } from './version-editor';
 import { fitWindowWords, peakModelWords } from './version-forms';
+
+/** The spectrometer values a calibration gives for event files (FORMATS §1.1), or nothing. */
+function spectrometerWords(sp: DetectorCalibration['spectrometer']): string {
+  if (!sp) return '';
+  const parts = [
+    sp.acceleration_length !== undefined ? `L ${sp.acceleration_length} m` : null,
+    sp.drift_length !== undefined ? `D ${sp.drift_length} m` : null,
+    sp.electric_field !== undefined ? `E ${sp.electric_field} V/m` : null,
+    sp.magnetic_field !== undefined ? `B ${sp.magnetic_field} T` : null,
+    sp.t0 !== undefined ? `t₀ ${sp.t0} ns` : null,
+    sp.detector_center ? `centre (${sp.detector_center[0]}, ${sp.detector_center[1]}) mm` : null,
+  ].filter((x) => x !== null);
+  return parts.length ? ` · event files: ${parts.join(', ')}` : '';
+}
 
 function summary(kind: VersionKind, body: unknown): string {
   if (kind === 'calibration') {
     const r = parseCalibration(body);
     if (!r.ok) return 'not a valid calibration';
     const c = r.value;
-    return `centre (${formatNumber(c.center_px[0], 5)}, ${formatNumber(c.center_px[1], 5)}) px · ${formatNumber(c.momentum_per_pixel_au, 4)} a.u./px · rotation ${formatNumber(c.rotation_deg, 4)}°${c.mirror ? ' · mirrored' : ''}${c.bad_pixels.length ? ` · ${c.bad_pixels.length} bad pixels` : ''}`;
+    return `centre (${formatNumber(c.center_px[0], 5)}, ${formatNumber(c.center_px[1], 5)}) px · ${formatNumber(c.momentum_per_pixel_au, 4)} a.u./px · rotation ${formatNumber(c.rotation_deg, 4)}°${c.mirror ? ' · mirrored' : ''}${c.bad_pixels.length ? ` · ${c.bad_pixels.length} bad pixels` : ''}${spectrometerWords(c.spectrometer)}`;
   }
   // Stored bodies may be partial (FORMATS §3: completed from the defaults), so show the completed values.
   const r = parseSettings(body);

@@ -143,6 +143,30 @@ export function VersionEditor({
               onChange={set('bad_pixels')}
             />
           </Row>
+          <p className="text-micro font-semibold text-ink-700 sm:col-span-2">
+            Spectrometer, for event files only — a blank field keeps the value stored in each file
+          </p>
+          <Row label="Acceleration length L" hint="m">
+            {text('sp_acceleration_length')}
+          </Row>
+          <Row label="Drift length D" hint="m (0 without a drift)">
+            {text('sp_drift_length')}
+          </Row>
+          <Row label="Spectrometer electric field" hint="V/m">
+            {text('sp_electric_field')}
+          </Row>
+          <Row label="Magnetic field along the axis" hint="T">
+            {text('sp_magnetic_field')}
+          </Row>
+          <Row label="Time offset t₀" hint="ns">
+            {text('sp_t0')}
+          </Row>
+          <Row label="Detector centre x, y" hint="mm (p⊥ = 0 impact point)">
+            <span className="flex gap-2">
+              {text('sp_center_x', { 'aria-label': 'Detector centre x (mm)' })}
+              {text('sp_center_y', { 'aria-label': 'Detector centre y (mm)' })}
+            </span>
+          </Row>
           {baseBody && 'flat_field' in baseBody ? (
             <p className="text-micro text-ink-500 sm:col-span-2">
               The flat-field gain map of v{base?.version} is kept unchanged.
@@ -205,6 +229,30 @@ export function VersionEditor({
           <Row label="Bootstrap seed">{text('bootstrap_seed', { inputMode: 'numeric' })}</Row>
           <Row label="Phase maps: minimum counts per cell">{text('phase_min_counts')}</Row>
           <Row label="Phase maps: harmonics">{text('phase_harmonics', { inputMode: 'numeric' })}</Row>
+          <p className="text-micro font-semibold text-ink-700 sm:col-span-2">Event files only</p>
+          <Row label="Laser direction" hint="in the detector frame (x, y, s)">
+            <select className={inputClass(false)} value={String(f.ev_laser_axis)} onChange={set('ev_laser_axis')}>
+              {['+y', '-y', '+x', '-x', '+s', '-s'].map((a) => (
+                <option key={a} value={a}>
+                  {a}
+                </option>
+              ))}
+            </select>
+          </Row>
+          <Row label="Events read at a time">{text('ev_chunk', { inputMode: 'numeric' })}</Row>
+          <label className="flex items-center gap-2 text-small text-ink-800 sm:col-span-2">
+            <input type="checkbox" checked={!!f.ev_gate} onChange={set('ev_gate')} /> Gate the momentum along the laser
+          </label>
+          {f.ev_gate ? (
+            <>
+              <Row label="Gate from" hint="a.u.">
+                {text('ev_gate_lo')}
+              </Row>
+              <Row label="Gate to" hint="a.u.">
+                {text('ev_gate_hi')}
+              </Row>
+            </>
+          ) : null}
         </div>
       )}
       <Row label="Note" hint="why this version (kept with it)">

@@ -1,8 +1,20 @@
 // Form state ⇄ calibration / settings objects (FORMATS §2, §3). Fields the forms do not show (flat field, phase
-// regions) are carried over unchanged from the version the edit starts from.
-import { type AnalysisSettings, DEFAULT_SETTINGS, parseSettings } from '@/reduction/formats';
+// regions) are carried over unchanged from the version the edit starts from. Event files (FORMATS §1.1): the
+// calibration's spectrometer values (a blank field keeps the file's value) and the settings' `events` object.
+import { type AnalysisSettings, DEFAULT_EVENT_SETTINGS, DEFAULT_SETTINGS, parseSettings } from '@/reduction/formats';
 
 export type FormState = Record<string, string | boolean>;
+
+/** Scalar spectrometer values of a calibration (names and units of FORMATS §1.1). */
+export const SPECTROMETER_FIELDS = [
+  'acceleration_length',
+  'drift_length',
+  'electric_field',
+  'magnetic_field',
+  't0',
+] as const;
+
+const blank = (v: string | boolean | undefined) => typeof v !== 'string' || v.trim() === '';
 
 const num = (v: string | boolean | undefined) => (typeof v === 'string' && v.trim() !== '' ? Number(v) : Number.NaN);
 
@@ -15,9 +27,16 @@ export function calibrationToForm(body: Record<string, unknown> | null): FormSta
     detector_ellipticity?: { ratio: number; axis_deg: number };
     bad_pixels?: [number, number][];
     background?: { subtract: boolean; scale_by: string };
+    spectrometer?: Partial<Record<(typeof SPECTROMETER_FIELDS)[number], number>> & {
+      detector_center?: [number, number];
+    };
     note?: string;
   };
+  const sp = b.spectrometer ?? {};
   return {
+    ...Object.fromEntries(SPECTROMETER_FIELDS.map((k) => [`sp_${k}`, sp[k] === undefined ? '' : String(sp[k])])),
+    sp_center_x: sp.detector_center ? String(sp.detector_center[0]) : '',
+    sp_center_y: sp.detector_center ? String(sp.detector_center[1]) : '',
     center_x: String(b.center_px?.[0] ?? ''),
     center_y: String(b.center_px?.[1] ?? ''),
     momentum_per_pixel_au: String(b.momentum_per_pixel_au ?? ''),
@@ -48,6 +67,11 @@ export function formToCalibration(f: FormState, base: Record<string, unknown> | 
     background: { subtract: !!f.background_subtract, scale_by: f.background_scale_by },
   };
   if (base && 'flat_field' in base) out.flat_field = base.flat_field;
+  // spectrometer values for event files: only the fields filled in override the file's
+  const sp: Record<string, unknown> = {};
+  for (const k of SPECTROMETER_FIELDS) if (!blank(f[`sp_${k}`])) sp[k] = num(f[`sp_${k}`]);
+  if (!blank(f.sp_center_x) || !blank(f.sp_center_y)) sp.detector_center = [num(f.sp_center_x), num(f.sp_center_y)];
+  if (Object.keys(sp).length > 0) out.spectrometer = sp;
   return out;
 }
 
@@ -96,6 +120,18 @@ export function settingsToForm(body: Record<string, unknown> | null): FormState 
     bootstrap_seed: String(b.bootstrap.seed),
     phase_min_counts: String(b.phase.min_counts),
     phase_harmonics: String(b.phase.harmonics),
+    ...eventsToForm((parsed?.ok ? parsed.value.events : undefined) ?? null),
+  };
+}
+
+function eventsToForm(ev: AnalysisSettings['events'] | null): FormState {
+  const e = ev ?? DEFAULT_EVENT_SETTINGS;
+  return {
+    ev_laser_axis: e.laser_axis,
+    ev_gate: e.gate_au !== null,
+    ev_gate_lo: String(e.gate_au?.range[0] ?? DEFAULT_EVENT_SETTINGS.gate_au?.range[0] ?? ''),
+    ev_gate_hi: String(e.gate_au?.range[1] ?? DEFAULT_EVENT_SETTINGS.gate_au?.range[1] ?? ''),
+    ev_chunk: String(e.chunk_events),
   };
 }
 
@@ -129,5 +165,16 @@ export function formToSettings(f: FormState, base: Record<string, unknown> | nul
     peak_model: f.peak_model === 'follow',
   };
   if (follow || followData.fit_window || followData.peak_model) out.follow_data = followData;
+  // event settings: written when the version had them or the form differs from their defaults
+  const events = {
+    laser_axis: f.ev_laser_axis,
+    gate_au: f.ev_gate ? { axis: 'laser', range: [num(f.ev_gate_lo), num(f.ev_gate_hi)] } : null,
+    chunk_events: num(f.ev_chunk),
+  };
+  const d = eventsToForm(null);
+  const changed = (['ev_laser_axis', 'ev_gate', 'ev_gate_lo', 'ev_gate_hi', 'ev_chunk'] as const).some(
+    (k) => f[k] !== undefined && String(f[k]) !== String(d[k]),
+  );
+  if ((base && 'events' in base) || changed) out.events = events;
   return out;
 }

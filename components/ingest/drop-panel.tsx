@@ -11,6 +11,13 @@ import { formatBytes, formatDuration, formatRate, KIND_WORDS } from './format';
 import { FramePreview } from './frame-preview';
 import type { IngestQueue, QueueItem } from './use-ingest-queue';
 
+/** A count of events written out in full, with thin spaces between thousands (e.g. 120 431). */
+function countText(n: number): string {
+  return Math.round(n)
+    .toString()
+    .replace(/\B(?=(\d{3})+(?!\d))/g, '\u2009');
+}
+
 function Bar({ value, tone = 'lobe', label }: { value: number; tone?: 'lobe' | 'flare' | 'fault'; label: string }) {
   const pct = Math.max(0, Math.min(100, value * 100));
   const colour = tone === 'lobe' ? 'bg-lobe-500' : tone === 'flare' ? 'bg-flare-500' : 'bg-fault-500';
@@ -123,17 +130,50 @@ function ItemRow({
                 {s.stepUnits && s.stepUnits !== '1' ? ` (${displayUnits(s.stepUnits)})` : ''}
               </dd>
             </div>
-            <div>
-              <dt className="text-micro text-ink-500">Image</dt>
-              <dd>
-                {s.nX} × {s.nY} px, {s.countsDtype}
-              </dd>
-            </div>
-            <div>
-              <dt className="text-micro text-ink-500">First frame</dt>
-              <dd>{pc?.preview ? `${formatNumber(pc.preview.totalCounts, 3)} counts` : '—'}</dd>
-            </div>
+            {s.events ? (
+              <>
+                <div>
+                  <dt className="text-micro text-ink-500">Events</dt>
+                  <dd data-testid="precheck-events">
+                    {countText(s.events.count)} ({s.countsDtype})
+                  </dd>
+                </div>
+                <div>
+                  <dt className="text-micro text-ink-500">First events on the grid</dt>
+                  <dd>
+                    {pc?.preview ? `${countText(pc.preview.totalCounts)} of ${countText(s.events.previewEvents)}` : '—'}
+                  </dd>
+                </div>
+              </>
+            ) : (
+              <>
+                <div>
+                  <dt className="text-micro text-ink-500">Image</dt>
+                  <dd>
+                    {s.nX} × {s.nY} px, {s.countsDtype}
+                  </dd>
+                </div>
+                <div>
+                  <dt className="text-micro text-ink-500">First frame</dt>
+                  <dd>{pc?.preview ? `${formatNumber(pc.preview.totalCounts, 3)} counts` : '—'}</dd>
+                </div>
+              </>
+            )}
           </dl>
+        ) : null}
+        {s?.events ? (
+          <p className="text-small text-ink-700" data-testid="precheck-spectrometer">
+            <span className="text-micro text-ink-500">Spectrometer (from the file; a calibration may override): </span>L{' '}
+            {s.events.spectrometer.acceleration_length_m} m · D {s.events.spectrometer.drift_length_m} m · E{' '}
+            {s.events.spectrometer.electric_field_v_per_m} V/m · B {s.events.spectrometer.magnetic_field_t} T · t₀{' '}
+            {s.events.spectrometer.t0_ns} ns · centre ({s.events.spectrometer.detector_center_mm[0]},{' '}
+            {s.events.spectrometer.detector_center_mm[1]}) mm · events per step{' '}
+            {s.events.perStep
+              .slice(0, 6)
+              .map((n) => countText(n))
+              .join(', ')}
+            {s.events.perStep.length > 6 ? ', …' : ''}
+          </p>
         ) : null}
         {hasProblems && !item.outcome ? (
           <div

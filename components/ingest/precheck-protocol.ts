@@ -13,10 +13,29 @@ export interface PrecheckSummary {
   nX: number | null;
   startTime: string | null;
   countsDtype: string | null;
+  /** Event files (FORMATS §1.1): the event count, events per step and the file's spectrometer values. */
+  events?: PrecheckEvents | null;
+}
+
+export interface PrecheckEvents {
+  count: number;
+  /** Events of each step (first 4096 steps). */
+  perStep: number[];
+  spectrometer: {
+    acceleration_length_m: number;
+    drift_length_m: number;
+    electric_field_v_per_m: number;
+    magnetic_field_t: number;
+    t0_ns: number;
+    detector_center_mm: [number, number];
+  };
+  /** Events the preview histogram was made of (the first ones of step 0). */
+  previewEvents: number;
 }
 
 export interface PrecheckPreview {
-  /** Downsampled first frame (row-major, `width` × `height`), y upward when drawn. */
+  /** Downsampled first frame (row-major, `width` × `height`), y upward when drawn; for an event file the first
+   * events of step 0 histogrammed on the default momentum grid. */
   pixels: Float32Array;
   width: number;
   height: number;

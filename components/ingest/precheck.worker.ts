@@ -6,7 +6,10 @@
 // the first frame) even for a file of many GB; if the mount fails the bytes are copied into the in-memory FS.
 import * as h5wasm from 'h5wasm';
 import { createChunkHasher } from '@/lib/ingest/file-hash';
-import { openScanBytes, openScanFile } from '@/reduction/hdf5/reader';
+import { histogramEvents, spectrometerAu } from '@/reduction/events/kinematics';
+import { DEFAULT_EVENT_SETTINGS, parseSettings } from '@/reduction/formats';
+import { cartesianGrid } from '@/reduction/grids';
+import { type EventScanFile, openScanOrEvents, openScanOrEventsBytes } from '@/reduction/hdf5/event-reader';
 import { type H5Runtime, runtimeFrom } from '@/reduction/hdf5/runtime';
 import { saturationWarning } from '@/reduction/saturation';
 import type { PrecheckPreview, PrecheckResult, WorkerReply, WorkerRequest } from './precheck-protocol';
@@ -16,6 +19,8 @@ let runtime: Promise<H5Runtime> | null = null;
 const rt = () => (runtime ??= runtimeFrom(h5wasm));
 
 const PREVIEW_MAX = 160;
+/** Events of step 0 histogrammed for the preview of an event file (the reader reads them as one chunk). */
+const PREVIEW_EVENTS = 200_000;
 const HASH_CHUNK = 8 * 1024 * 1024;
 
 function preview(frame: Float64Array, nY: number, nX: number): PrecheckPreview {
@@ -50,16 +55,16 @@ async function precheck(id: number, file: File): Promise<PrecheckResult> {
   const FS = r.Module.FS as FsWithWorkerfs;
   const dir = `/drop-${id}`;
   let access: PrecheckResult['access'] = 'lazy';
-  let opened: ReturnType<typeof openScanFile>;
+  let opened: ReturnType<typeof openScanOrEvents>;
   let mounted = false;
   try {
     FS.mkdir(dir);
     FS.mount(FS.filesystems.WORKERFS, { files: [file] }, dir);
     mounted = true;
-    opened = openScanFile(r, `${dir}/${file.name}`);
+    opened = openScanOrEvents(r, `${dir}/${file.name}`);
   } catch {
     access = 'whole';
-    opened = openScanBytes(r, new Uint8Array(await file.arrayBuffer()), `/scratch-${id}.h5`);
+    opened = openScanOrEventsBytes(r, new Uint8Array(await file.arrayBuffer()), `/scratch-${id}.h5`);
   }
   try {
     if (!opened.ok) {
@@ -73,6 +78,7 @@ async function precheck(id: number, file: File): Promise<PrecheckResult> {
         ms: performance.now() - t0,
       };
     }
+    if (opened.kind === 'events') return eventPrecheck(opened.scan, opened.warnings, access, t0);
     const scan = opened.scan;
     const m = scan.meta;
     const problems: string[] = [];
@@ -120,6 +126,79 @@ async function precheck(id: number, file: File): Promise<PrecheckResult> {
       }
     }
   }
+}
+
+/** Summary and preview of an event file: counts, steps, spectrometer, and the first events on the default grid. */
+function eventPrecheck(
+  scan: EventScanFile,
+  readerWarnings: string[],
+  access: PrecheckResult['access'],
+  t0: number,
+): PrecheckResult {
+  const m = scan.meta;
+  const ev = scan.events;
+  const problems: string[] = [];
+  const warnings = [...readerWarnings];
+  let pv: PrecheckPreview | null = null;
+  const previewEvents = Math.min(PREVIEW_EVENTS, ev.stepEvents[0] ?? 0);
+  try {
+    const settings = parseSettings({});
+    if (!settings.ok) throw new Error(settings.problems.join('; '));
+    const grid = cartesianGrid(settings.value);
+    const hist = new Float64Array(grid.n * grid.n);
+    const chunk = scan.readEvents(ev.stepStart[0] ?? 0, previewEvents);
+    const tally = histogramEvents(
+      chunk.x,
+      chunk.y,
+      chunk.tof,
+      {
+        spectrometer: spectrometerAu(ev.spectrometer),
+        laserAxis: DEFAULT_EVENT_SETTINGS.laser_axis,
+        gateAu: DEFAULT_EVENT_SETTINGS.gate_au?.range ?? null,
+      },
+      grid,
+      hist,
+    );
+    pv = preview(hist, grid.n, grid.n);
+    if (tally.invalid > previewEvents / 10) {
+      warnings.push(
+        `First events: ${tally.invalid} of ${previewEvents} have no valid momentum with the file's spectrometer values (flight time not after t₀?); a calibration can override them.`,
+      );
+    }
+  } catch (err) {
+    problems.push((err as { problem?: { message: string } }).problem?.message ?? String(err));
+  } finally {
+    scan.close();
+  }
+  const sp = ev.spectrometer;
+  return {
+    ok: problems.length === 0,
+    problems,
+    warnings,
+    summary: {
+      experimentKind: m.experimentKind,
+      target: m.target,
+      wavelengthNm: m.wavelengthNm,
+      ellipticity: m.ellipticity,
+      stepQuantity: m.step.quantity,
+      stepUnits: m.step.units,
+      stepValues: m.step.values.slice(0, 4096),
+      nSteps: m.shape.nStep,
+      nY: null,
+      nX: null,
+      startTime: m.startTime,
+      countsDtype: ev.dtypes.x,
+      events: {
+        count: ev.nEvents,
+        perStep: ev.stepEvents.slice(0, 4096),
+        spectrometer: { ...sp, detector_center_mm: [sp.detector_center_mm[0], sp.detector_center_mm[1]] },
+        previewEvents,
+      },
+    },
+    preview: pv,
+    access,
+    ms: performance.now() - t0,
+  };
 }
 
 async function hash(id: number, file: File): Promise<string> {

@@ -297,7 +297,7 @@ export function StoredFiles({
               </div>
               <p className="mt-0.5 text-small text-ink-600">
                 {f.summary.experimentKind
-                  ? `${KIND_WORDS[f.summary.experimentKind] ?? f.summary.experimentKind} · ${f.summary.target} · ${f.summary.wavelengthNm} nm · ${f.summary.nSteps} steps · ${f.summary.nX}×${f.summary.nY} px`
+                  ? `${KIND_WORDS[f.summary.experimentKind] ?? f.summary.experimentKind} · ${f.summary.target} · ${f.summary.wavelengthNm} nm · ${f.summary.nSteps} steps${f.summary.nX && f.summary.nY ? ` · ${f.summary.nX}×${f.summary.nY} px` : ' · event list'}`
                   : 'metadata not catalogued (see the reasons below)'}
                 {f.uploadedBy ? ` · sent by ${f.uploadedBy}` : ''}
               </p>

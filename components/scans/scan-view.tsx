@@ -28,6 +28,12 @@ const DOWNLOAD_PROBLEMS = {
   unavailable: 'The storage service did not answer, so the result file could not be downloaded. Try again in a minute.',
 } as const;
 
+/** “1 234 567 events” for an event file (FORMATS §1.1; metadata of reduction/hdf5/event-reader.ts), else null. */
+function eventCountWords(metadata: unknown): string | null {
+  const count = (metadata as { events?: { count?: unknown } } | null)?.events?.count;
+  return typeof count === 'number' ? `${count.toString().replace(/\B(?=(\d{3})+(?!\d))/g, '\u2009')} events` : null;
+}
+
 export function ScanView({
   scanId,
   downloadProblem = null,
@@ -93,6 +99,7 @@ export function ScanView({
             ? `${scan.nSteps} step${scan.nSteps === 1 ? '' : 's'} of ${stepAxisLabel(scan.stepQuantity, null).toLowerCase()}`
             : null,
           scan.nX && scan.nY ? `${scan.nX} × ${scan.nY} px` : null,
+          eventCountWords(scan.metadata),
         ]
           .filter(Boolean)
           .join(' · ')}

@@ -12,9 +12,9 @@ import { Transform } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
 import { getObjectRange, getObjectStream, headObject } from '@/lib/storage/s3';
 import type { ScanMetadata } from '@/reduction/formats';
+import { type EventScanFile, openScanOrEvents } from '@/reduction/hdf5/event-reader';
 import { loadH5wasmNode } from '@/reduction/hdf5/node';
 import { ScanReadError } from '@/reduction/hdf5/problems';
-import { openScanFile } from '@/reduction/hdf5/reader';
 import { applyMetadataOverride } from './override';
 import type { MetadataOverride } from './schemas';
 
@@ -152,9 +152,13 @@ export async function validateScanPath(filePath: string, override?: MetadataOver
     cleanup = applied.cleanup;
   }
   try {
-    const opened = openScanFile(rt, target);
+    const opened = openScanOrEvents(rt, target);
     if (!opened.ok) {
       return { ok: false, problems: opened.problems.map((p) => p.message), warnings: opened.warnings, metadata: null };
+    }
+    if (opened.kind === 'events') {
+      const problems = checkEveryEvent(opened.scan);
+      return { ok: problems.length === 0, problems, warnings: opened.warnings, metadata: opened.scan.meta };
     }
     const scan = opened.scan;
     const problems: string[] = [];
@@ -179,6 +183,47 @@ export async function validateScanPath(filePath: string, override?: MetadataOver
   } finally {
     await cleanup?.();
   }
+}
+
+/** Events read per chunk by the upload check (bounded memory: 3 × 8 bytes × this). */
+const CHECK_CHUNK_EVENTS = 1_000_000;
+
+/**
+ * Reads every event of an event file in chunks (FORMATS §1.1: never all at once) and checks that it decodes and
+ * that x, y and tof are finite numbers, as every frame of an image file is checked. Closes the file.
+ */
+function checkEveryEvent(scan: EventScanFile): string[] {
+  const problems: string[] = [];
+  try {
+    const n = scan.events.nEvents;
+    for (let a = 0; a < n && problems.length < 10; a += CHECK_CHUNK_EVENTS) {
+      let chunk: ReturnType<EventScanFile['readEvents']>;
+      try {
+        chunk = scan.readEvents(a, Math.min(CHECK_CHUNK_EVENTS, n - a));
+      } catch (err) {
+        if (err instanceof ScanReadError) {
+          problems.push(err.problem.message);
+          continue;
+        }
+        throw err;
+      }
+      for (const [name, arr] of [
+        ['x', chunk.x],
+        ['y', chunk.y],
+        ['tof', chunk.tof],
+      ] as const) {
+        for (let i = 0; i < arr.length; i++) {
+          if (!Number.isFinite(arr[i] as number)) {
+            problems.push(`/entry/events/${name}: event ${a + i} is ${arr[i]}; every value must be a finite number`);
+            break;
+          }
+        }
+      }
+    }
+  } finally {
+    scan.close();
+  }
+  return problems;
 }
 
 /** A fresh scratch directory under the OS temp folder (removed by the returned function). */

@@ -92,3 +92,33 @@ export function preflight(
   }
   return { calibration: cal, settings: set };
 }
+
+/**
+ * The checks of `preflight` that apply to an event file: both versions parse, and the radial window lies on the
+ * grid. The calibration's detector geometry (centre, bad pixels, flat field) does not apply to events; its
+ * `spectrometer` values were already applied by the reader.
+ *
+ * @throws ReductionRefusedError listing every problem
+ */
+export function preflightEvents(
+  calibrationBody: unknown,
+  settingsBody: unknown,
+  labels: { calibration: string; settings: string },
+): { calibration: DetectorCalibration; settings: AnalysisSettings } {
+  const c = parseCalibration(calibrationBody);
+  const s = parseSettings(settingsBody);
+  const problems: string[] = [];
+  if (!c.ok) problems.push(...c.problems.map((p) => `${labels.calibration}: ${p}`));
+  if (!s.ok) problems.push(...s.problems.map((p) => `${labels.settings}: ${p}`));
+  if (!c.ok || !s.ok) {
+    throw new ReductionRefusedError('The stored calibration or settings version is not valid:', problems);
+  }
+  const set = s.value;
+  if (Array.isArray(set.radial_window_au) && set.radial_window_au[1] > set.grid.p_max_au) {
+    throw new ReductionRefusedError(
+      `The reduction cannot start: the radial window of ${labels.settings} ends at ${fmt(set.radial_window_au[1])} a.u., ` +
+        `beyond the momentum grid (p_max ${fmt(set.grid.p_max_au)} a.u.); raise “Momentum grid half-width” in the analysis settings or lower “Radial window to”.`,
+    );
+  }
+  return { calibration: c.value, settings: set };
+}

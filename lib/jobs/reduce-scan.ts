@@ -28,13 +28,13 @@ import {
   ScanResultStep,
   Team,
 } from '@/models';
-import { type LobelineResult, SOFTWARE_VERSION } from '@/reduction/formats';
-import { loadH5wasmNode, openScanPath } from '@/reduction/hdf5/node';
+import { type LobelineResult, parseCalibration, SOFTWARE_VERSION } from '@/reduction/formats';
+import { loadH5wasmNode, openScanOrEventsPath } from '@/reduction/hdf5/node';
 import { ScanFileRefusedError } from '@/reduction/hdf5/problems';
-import { runReduction } from './engine';
+import { runEventReduction, runReduction } from './engine';
 import { describeAttempt, explainFailure, ReductionRefusedError } from './failure';
 import { notifyReductionFailure } from './notify';
-import { preflight } from './preflight';
+import { preflight, preflightEvents } from './preflight';
 
 const jlog = log.child({ surface: 'reduction' });
 
@@ -202,27 +202,44 @@ export async function processReduction(data: ReductionJobData, ctx: JobContext):
       overrides = overrideProvenance(parsed.data);
     }
 
-    // 2. Open and check everything before the first frame.
-    const opened = await openScanPath(scanPath);
+    // 2. Open and check everything before the first frame (or event). An event file takes the calibration's
+    // spectrometer values over its own.
+    const calParsed = parseCalibration(cal.body);
+    const opened = await openScanOrEventsPath(scanPath, {
+      spectrometer: calParsed.ok ? (calParsed.value.spectrometer ?? null) : null,
+    });
     if (!opened.ok) throw new ScanFileRefusedError(opened.problems);
     scanFile = opened.scan;
-    const { calibration, settings } = preflight(opened.scan.meta, cal.body, set.body, {
-      calibration: `calibration v${cal.version}`,
-      settings: `settings v${set.version}`,
-    });
-
-    // 3. Frame by frame through the reducer into the result file.
+    const labels = { calibration: `calibration v${cal.version}`, settings: `settings v${set.version}` };
     const outPath = path.join(workDir, 'result.h5');
-    const { result } = await runReduction({
-      scan: opened.scan,
-      calibration,
-      settings,
-      sha256: file.sha256,
-      overrides,
-      outPath,
-      readerWarnings: opened.warnings,
-      onStep: (done, total) => progress(0.05 + 0.85 * (done / total)),
-    });
+    let result: LobelineResult;
+    if (opened.kind === 'events') {
+      // 3. Events chunk by chunk, histogrammed per step, through the reducer into the result file.
+      const { calibration, settings } = preflightEvents(cal.body, set.body, labels);
+      ({ result } = await runEventReduction({
+        scan: opened.scan,
+        calibration,
+        settings,
+        sha256: file.sha256,
+        overrides,
+        outPath,
+        readerWarnings: opened.warnings,
+        onEvents: (done, total) => progress(0.05 + 0.85 * (done / Math.max(1, total))),
+      }));
+    } else {
+      const { calibration, settings } = preflight(opened.scan.meta, cal.body, set.body, labels);
+      // 3. Frame by frame through the reducer into the result file.
+      ({ result } = await runReduction({
+        scan: opened.scan,
+        calibration,
+        settings,
+        sha256: file.sha256,
+        overrides,
+        outPath,
+        readerWarnings: opened.warnings,
+        onStep: (done, total) => progress(0.05 + 0.85 * (done / total)),
+      }));
+    }
     scanFile.close();
     scanFile = null;
 

@@ -6,6 +6,7 @@ import { randomBytes } from 'node:crypto';
 import { createRequire } from 'node:module';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
+import { type OpenAnyResult, type OpenEventOptions, openScanOrEvents } from './event-reader';
 import { type OpenScanOptions, type OpenScanResult, openScanBytes, openScanFile } from './reader';
 import { type H5Runtime, runtimeFrom } from './runtime';
 
@@ -60,4 +61,13 @@ export async function openScanBuffer(bytes: Uint8Array, options: OpenScanOptions
   const rt = await loadH5wasmNode();
   const scratch = path.join(tmpdir(), `lobeline-scan-${process.pid}-${randomBytes(6).toString('hex')}.h5`);
   return openScanBytes(rt, bytes, scratch, options);
+}
+
+/** Opens an image scan or an event file by path (Node). */
+export async function openScanOrEventsPath(
+  filePath: string,
+  options: OpenScanOptions & OpenEventOptions = {},
+): Promise<OpenAnyResult> {
+  const rt = await loadH5wasmNode();
+  return openScanOrEvents(rt, path.resolve(filePath), options);
 }

@@ -110,7 +110,8 @@ function elements(shape: number[]): number {
 
 // VALIDATION CONTEXT //
 
-class Checker {
+/** Collects the problems and warnings of one file's validation (also used by the event-list reader). */
+export class Checker {
   readonly problems: ScanProblem[] = [];
   readonly warnings: string[] = [];
   /** Paths the reader uses; everything else is listed as extra. */
@@ -632,7 +633,10 @@ export function openScanFileOrThrow(rt: H5Runtime, path: string, options: OpenSc
   return r.scan;
 }
 
-function readBytes(rt: H5Runtime, path: string): { size: number; read: (pos: number, len: number) => Uint8Array } {
+export function readBytes(
+  rt: H5Runtime,
+  path: string,
+): { size: number; read: (pos: number, len: number) => Uint8Array } {
   const FS = rt.Module.FS;
   const size = FS.stat(path).size;
   return {
@@ -699,7 +703,7 @@ function openInternal(
   return { ok: true, scan: new ScanFile({ meta, file, counts, background, onClose }), warnings: checker.warnings };
 }
 
-function safeClose(file: { close(): unknown }): void {
+export function safeClose(file: { close(): unknown }): void {
   try {
     file.close();
   } catch {
@@ -709,13 +713,31 @@ function safeClose(file: { close(): unknown }): void {
 
 // VALIDATE //
 
+/**
+ * Validates the entry's metadata (identification, sample, source, detector) of an event file (FORMATS §1.1) with the
+ * same rules as an image file; `data/` and `background/` are not read. `checkEvents` checks the event groups with
+ * the same checker before the extra content is listed. The metadata returned has placeholders for the shape, the
+ * steps and the shots, which the event reader fills in.
+ */
+export function validateEventEntry(
+  rt: H5Runtime,
+  file: InstanceType<H5Runtime['File']>,
+  accepted: ReadonlySet<number>,
+  checkEvents: (c: Checker) => void,
+): { checker: Checker; meta: ScanMetadata | null } {
+  const r = validate(rt, file, accepted, 512 * 1024 * 1024, checkEvents);
+  return { checker: r.checker, meta: r.meta };
+}
+
 function validate(
   rt: H5Runtime,
   file: InstanceType<H5Runtime['File']>,
   accepted: ReadonlySet<number>,
   maxFrameBytes: number,
+  checkEvents: ((c: Checker) => void) | null = null,
 ): { checker: Checker; meta: ScanMetadata | null; counts: Dataset | null; background: Dataset | null } {
   const c = new Checker(rt, file);
+  const eventsMode = checkEvents !== null;
 
   // entry and identification
   const entry = c.group(ENTRY, 'NXentry', 'required: the NXentry group that holds the scan');
@@ -879,7 +901,7 @@ function validate(
     : null;
 
   // data
-  const dataGroup = c.group(DATA, 'NXdata', 'required: the NXdata group holding counts');
+  const dataGroup = eventsMode ? null : c.group(DATA, 'NXdata', 'required: the NXdata group holding counts');
   let counts: Dataset | null = null;
   let shape: { nStep: number; nY: number; nX: number } | null = null;
   let is3d = false;
@@ -999,7 +1021,7 @@ function validate(
   // background
   let background: Dataset | null = null;
   let backgroundInfo: ScanMetadata['background'] = null;
-  const bgEntity = c.get(BACKGROUND);
+  const bgEntity = eventsMode ? null : c.get(BACKGROUND);
   const nFramesWanted = shape;
   const bgRead =
     bgEntity === null || nFramesWanted === null
@@ -1043,6 +1065,14 @@ function validate(
     backgroundInfo = bgRead.info;
   }
 
+  if (checkEvents !== null) {
+    checkEvents(c);
+    // placeholders the event reader replaces: one virtual pixel, the steps of the event list
+    shape = { nStep: 1, nY: 1, nX: 1 };
+    stepInfo = { quantity: 'index', units: '1', values: [0] };
+    shots = [1];
+    dtype = 'float64';
+  }
   const extraPaths = listExtraPaths(rt, file, c.used, false);
   if (
     c.problems.length > 0 ||

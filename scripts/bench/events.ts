@@ -4,8 +4,8 @@
  * (uniform momenta in ±1.2 a.u. sent forward through a 0.1 m / 2000 V/m spectrometer, with and without a 0.2 m
  * drift and a 15 G magnetic field) converted and counted in chunks of 10⁶ into a 401 × 401 grid; median of 3 runs.
  * Side by side in the same run: a plain pass that only reads the three arrays and sums them, the memory-read floor.
- * Not yet measured here: reading the events from HDF5 in chunks, the peak memory of a 10⁸-event file and the
- * speed-up with several worker processes (the reader and the chunk jobs are not built yet).
+ * Reading the events from HDF5 in chunks and the peak memory per file size are measured in events-file.ts; not
+ * measured yet: the speed-up with several worker processes (the chunk jobs are not built yet).
  */
 import {
   auToNs,

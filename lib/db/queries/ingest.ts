@@ -424,8 +424,9 @@ export function scanColumnsFrom(meta: ScanMetadata | null) {
     helicity: meta?.helicity ?? null,
     step_quantity: meta?.step.quantity ?? null,
     n_steps: meta?.shape.nStep ?? null,
-    n_y: meta?.shape.nY ?? null,
-    n_x: meta?.shape.nX ?? null,
+    // an event file (FORMATS §1.1) has no detector image: no pixel size
+    n_y: meta?.events ? null : (meta?.shape.nY ?? null),
+    n_x: meta?.events ? null : (meta?.shape.nX ?? null),
     started_at: meta && !Number.isNaN(Date.parse(meta.startTime)) ? new Date(meta.startTime) : null,
   };
 }
