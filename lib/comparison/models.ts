@@ -11,30 +11,14 @@ import { ionizationEnergyEv, omegaAu } from '@/reduction/constants';
 import { ellipticalFieldAmplitudes, simpleManMomentumAu } from '@/reduction/fields';
 import { keldyshRutherfordDeg, runTrajectory } from '@/reduction/models/trajectory';
 import { type BoundState, boundStateOf } from '@/reduction/models/tunnelling';
-import type { ModelCurve, ModelName } from './spec';
+import { MODEL_TEXT, type ModelCurve, type ModelName } from './spec';
+
+export { MODEL_TEXT };
 
 // VARIABLES //
 
 /** Pulse of the trajectory model: 8 optical cycles, cos² envelope (as in SCIENCE.md §10.5). */
 export const TRAJECTORY_PULSE_CYCLES = 8;
-
-export const MODEL_TEXT: Record<ModelName, { label: string; assumptions: string }> = {
-  simple_man: {
-    label: 'simple-man (no Coulomb force)',
-    assumptions:
-      'Drift momentum −A(t₀) at the field maximum and no force from the ion: offset 0° at every intensity, |p| = εF/ω (SCIENCE.md §4.2).',
-  },
-  trajectory: {
-    label: 'Coulomb-corrected trajectory',
-    assumptions:
-      'One classical trajectory born at the field maximum at the exit Ip/F with zero velocity, laser plus −1/r force in an 8-cycle cos² pulse, Kepler asymptote; no rate averaging, non-adiabatic or many-electron effects (SCIENCE.md §10.3–10.5).',
-  },
-  keldysh_rutherford: {
-    label: 'Keldysh–Rutherford estimate',
-    assumptions:
-      'Rutherford deflection with impact parameter Ip/F and speed F/ω, tan(Θ/2) = Zω²/(Ip F), drawn as Θ; an order-of-magnitude check only (SCIENCE.md §10.6).',
-  },
-};
 
 const cache = new Map<string, ModelCurve>();
 const CACHE_LIMIT = 400;

@@ -23,6 +23,25 @@ export type SeriesBy = (typeof SERIES_BY)[number];
 export const MODEL_NAMES = ['simple_man', 'trajectory', 'keldysh_rutherford'] as const;
 export type ModelName = (typeof MODEL_NAMES)[number];
 
+/** Name and one-line assumptions of each model overlay (lib/comparison/models.ts computes them). */
+export const MODEL_TEXT: Record<ModelName, { label: string; assumptions: string }> = {
+  simple_man: {
+    label: 'simple-man (no Coulomb force)',
+    assumptions:
+      'Drift momentum −A(t₀) at the field maximum and no force from the ion: offset 0° at every intensity, |p| = εF/ω (SCIENCE.md §4.2).',
+  },
+  trajectory: {
+    label: 'Coulomb-corrected trajectory',
+    assumptions:
+      'One classical trajectory born at the field maximum at the exit Ip/F with zero velocity, laser plus −1/r force in an 8-cycle cos² pulse, Kepler asymptote; no rate averaging, non-adiabatic or many-electron effects (SCIENCE.md §10.3–10.5).',
+  },
+  keldysh_rutherford: {
+    label: 'Keldysh–Rutherford estimate',
+    assumptions:
+      'Rutherford deflection with impact parameter Ip/F and speed F/ω, tan(Θ/2) = Zω²/(Ip F), drawn as Θ; an order-of-magnitude check only (SCIENCE.md §10.6).',
+  },
+};
+
 // HELPERS //
 
 const id = z.number().int('must be a whole number').positive('must be a positive number');
