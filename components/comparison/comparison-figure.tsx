@@ -1,8 +1,8 @@
 'use client';
 // The comparison figure (issue 13): one SVG that carries everything a manuscript needs — framed plot area with ticks
 // inside, measured series (colour and marker shape from the colour-blind-safe set of series-styles.ts) with 1σ
-// statistical bars and, where reported, a pale systematic box behind them, the model lines in grey with their own
-// dash patterns, both axis titles (the intensity convention written on the intensity axis) and the key inside the
+// statistical bars and, where reported, a pale systematic box behind them, the model lines with their own dash
+// patterns (in the colour of the series whose conditions they were computed for, grey when shared), both axis titles (the intensity convention written on the intensity axis) and the key inside the
 // drawing, so that the exported file is complete on its own.
 import { useId, useRef } from 'react';
 import {
@@ -24,6 +24,8 @@ export interface ModelLine {
   id: string;
   model: ModelName;
   label: string;
+  /** Colour of the series the parameters belong to (grey when they belong to several or none). */
+  color?: string;
   points: { x: number; y: number }[];
 }
 
@@ -77,7 +79,7 @@ export function ComparisonFigure({
   const yd = (yLog ? positiveExtent(ys) : null) ?? extent(ys, errs);
   const keyEntries = [
     ...series.map((s, i) => ({ kind: 'series' as const, id: s.key, label: s.label, i })),
-    ...models.map((m) => ({ kind: 'model' as const, id: m.id, label: m.label, model: m.model })),
+    ...models.map((m) => ({ kind: 'model' as const, id: m.id, label: m.label, model: m.model, color: m.color })),
   ];
   const perRow = W < 520 ? 1 : 2;
   const keyRows = Math.ceil(keyEntries.length / perRow);
@@ -153,7 +155,8 @@ export function ComparisonFigure({
                 data-model={m.model}
                 data-label={m.label}
                 fill="none"
-                stroke={st.color}
+                stroke={m.color ?? st.color}
+                strokeOpacity={0.85}
                 strokeWidth={st.width}
                 strokeDasharray={st.dash}
                 points={line.map((p) => `${x(p.x).toFixed(1)},${yAt(p.y).toFixed(1)}`).join(' ')}
@@ -191,6 +194,7 @@ export function ComparisonFigure({
                       <path
                         d={markerPath(style.shape, cx, cy, 3.5)}
                         fill={p.point.flagged ? '#ffffff' : style.color}
+                        fillOpacity={p.point.flagged ? 1 : 0.6}
                         stroke={style.color}
                         strokeWidth={1.3}
                       >
@@ -228,7 +232,7 @@ export function ComparisonFigure({
                   x2={kx + 16}
                   y1={ky + 6}
                   y2={ky + 6}
-                  stroke={st.color}
+                  stroke={e.color ?? st.color}
                   strokeWidth={st.width}
                   strokeDasharray={st.dash}
                 />

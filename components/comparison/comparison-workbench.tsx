@@ -6,7 +6,8 @@ import { useQueries, useQuery, useQueryClient } from '@tanstack/react-query';
 import { useRouter } from 'next/navigation';
 import { useMemo, useRef, useState } from 'react';
 import { downloadBlob, svgToStandalone } from '@/components/campaign/trend-export';
-import { Badge, Button, EmptyState, ErrorState, LoadingBlock, PageHeader, Panel } from '@/components/ui';
+import { seriesStyle } from '@/components/plots/series-styles';
+import { Badge, Button, ConfirmDialog, EmptyState, ErrorState, LoadingBlock, PageHeader, Panel } from '@/components/ui';
 import { compactInputClass, inputClass } from '@/components/ui/input-class';
 import { ApiError, apiFetch } from '@/lib/api/client';
 import {
@@ -64,9 +65,9 @@ export interface SavedView {
 }
 
 const MODEL_WORDS: Record<ModelName, { label: string; line: string }> = {
-  simple_man: { label: 'simple-man (zero offset)', line: 'dotted grey' },
-  trajectory: { label: 'Coulomb-corrected single trajectory', line: 'solid dark grey' },
-  keldysh_rutherford: { label: 'Keldysh–Rutherford estimate', line: 'dashed grey' },
+  simple_man: { label: 'simple-man (zero offset)', line: 'dotted line' },
+  trajectory: { label: 'Coulomb-corrected single trajectory', line: 'solid line' },
+  keldysh_rutherford: { label: 'Keldysh–Rutherford estimate', line: 'dashed line' },
 };
 
 const EMPTY_SPEC: ComparisonSpec = comparisonSpecSchema.parse({ selection: {} });
@@ -97,6 +98,7 @@ export function ComparisonWorkbench({
   const [saveTeam, setSaveTeam] = useState<number | null>(saveTeams[0]?.teamId ?? null);
   const [saveProblem, setSaveProblem] = useState<string | null>(null);
   const [saving, setSaving] = useState(false);
+  const [confirmRemove, setConfirmRemove] = useState(false);
   const router = useRouter();
   const qc = useQueryClient();
   const figureBox = useRef<HTMLDivElement>(null);
@@ -165,8 +167,13 @@ export function ComparisonWorkbench({
         .filter((p): p is { x: number; y: number } => p.y !== null && Number.isFinite(p.y));
       if (pts.length < 2 && c.model !== 'simple_man') continue;
       if (spec.axes.y === 'radius' && c.model === 'keldysh_rutherford') continue;
+      // the colour of the one series these conditions belong to; grey when several series share them
+      const owners = built.series
+        .map((s, i) => (s.points.some((pp) => modelParamsOf(pp.point)?.key === r.params.key) ? i : -1))
+        .filter((i) => i >= 0);
       modelLines.push({
         id: `${c.model}:${r.params.key}`,
+        color: owners.length === 1 ? seriesStyle(owners[0]!).color : undefined,
         model: c.model,
         label: `${MODEL_WORDS[c.model].label} · ${r.params.target} ${r.params.wavelengthNm} nm ε ${r.params.ellipticity}`,
         points: pts,
@@ -262,12 +269,23 @@ export function ComparisonWorkbench({
         }
         actions={
           saved?.canDelete ? (
-            <Button size="sm" variant="ghost" onClick={() => void remove()}>
+            <Button size="sm" variant="ghost" onClick={() => setConfirmRemove(true)}>
               Remove this saved comparison
             </Button>
           ) : null
         }
       />
+      {confirmRemove && saved ? (
+        <ConfirmDialog
+          title="Remove this saved comparison?"
+          confirmLabel="Remove it"
+          tone="danger"
+          onConfirm={() => void remove()}
+          onCancel={() => setConfirmRemove(false)}
+        >
+          Its address stops working for every member of {saved.teamName}. The results it draws stay as they are.
+        </ConfirmDialog>
+      ) : null}
       {saved?.note ? <p className="-mt-4 max-w-3xl text-small text-ink-600">{saved.note}</p> : null}
       {hiddenCount ? (
         <div
