@@ -1,7 +1,7 @@
 'use client';
 // The comparison figure (issue 13): one SVG that carries everything a manuscript needs — framed plot area with ticks
 // inside, measured series (colour and marker shape from the colour-blind-safe set of series-styles.ts) with 1σ
-// statistical bars and, where reported, a pale systematic box behind them, the model lines with their own dash
+// statistical bars (horizontal ones too where x has an error) and, where reported, a pale systematic box behind them, the model lines with their own dash
 // patterns (in the colour of the series whose conditions they were computed for, grey when shared), both axis titles (the intensity convention written on the intensity axis) and the key inside the
 // drawing, so that the exported file is complete on its own.
 import { useId, useRef } from 'react';
@@ -91,6 +91,7 @@ export function ComparisonFigure({
   const xt = xLog ? logTicks(xd[0], xd[1]) : niceTicks(xd[0], xd[1], W < 460 ? 4 : 6);
   const yt = yLog ? logTicks(yd[0], yd[1]) : niceTicks(yd[0], yd[1], 5);
   const yAt = (v: number) => (yLog && !(v > 0) ? bottom : Math.max(top - 4, Math.min(bottom + 4, y(v))));
+  const xAt = (v: number) => (xLog && !(v > 0) ? M.l : Math.max(M.l - 4, Math.min(W - M.r + 4, x(v))));
   const keyTop = bottom + M.b + 4;
   const colW = (W - M.l) / perRow;
   return (
@@ -183,6 +184,13 @@ export function ComparisonFigure({
                           fillOpacity={0.16}
                           data-role="systematic"
                         />
+                      ) : null}
+                      {errorBars && p.xErr != null && p.xErr > 0 ? (
+                        <g stroke={style.color} strokeWidth={1.1} data-role="x-error">
+                          <line x1={xAt(p.x - p.xErr)} x2={xAt(p.x + p.xErr)} y1={cy} y2={cy} />
+                          <line x1={xAt(p.x - p.xErr)} x2={xAt(p.x - p.xErr)} y1={cy - 2.5} y2={cy + 2.5} />
+                          <line x1={xAt(p.x + p.xErr)} x2={xAt(p.x + p.xErr)} y1={cy - 2.5} y2={cy + 2.5} />
+                        </g>
                       ) : null}
                       {errorBars && p.err != null && p.err > 0 ? (
                         <g stroke={style.color} strokeWidth={1.1} data-role="error">

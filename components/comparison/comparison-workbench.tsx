@@ -5,7 +5,7 @@
 import { useQueries, useQuery, useQueryClient } from '@tanstack/react-query';
 import { useRouter } from 'next/navigation';
 import { useMemo, useRef, useState } from 'react';
-import { downloadBlob, svgToStandalone } from '@/components/campaign/trend-export';
+import { downloadBlob, svgToPngBlob, svgToStandalone } from '@/components/campaign/trend-export';
 import { seriesStyle } from '@/components/plots/series-styles';
 import { Badge, Button, ConfirmDialog, EmptyState, ErrorState, LoadingBlock, PageHeader, Panel } from '@/components/ui';
 import { compactInputClass, inputClass } from '@/components/ui/input-class';
@@ -25,6 +25,7 @@ import {
   type YQuantity,
 } from '@/lib/comparison/spec';
 import { CONVENTION_NAMES, CONVENTION_WORDS } from '@/reduction/intensity-conventions';
+import { ChipFilter } from './chip-filter';
 import { ComparisonFigure, type ModelLine } from './comparison-figure';
 import { comparisonCsv, comparisonJson } from './export';
 import { ResidualTable } from './residual-table';
@@ -99,6 +100,7 @@ export function ComparisonWorkbench({
   const [saveProblem, setSaveProblem] = useState<string | null>(null);
   const [saving, setSaving] = useState(false);
   const [confirmRemove, setConfirmRemove] = useState(false);
+  const [exportProblem, setExportProblem] = useState<string | null>(null);
   const router = useRouter();
   const qc = useQueryClient();
   const figureBox = useRef<HTMLDivElement>(null);
@@ -108,6 +110,7 @@ export function ComparisonWorkbench({
     queryFn: () => apiFetch<{ campaigns: Source[] }>('/api/comparisons/sources'),
   });
   const query = pointsQueryOf(spec);
+  delete query.calibrations; // applied in buildSeries, so that the other versions stay on offer
   const chosen = spec.selection.campaignIds.length + spec.selection.scanIds.length;
   const qs = new URLSearchParams(query).toString();
   const pointsQ = useQuery({
@@ -213,6 +216,23 @@ export function ComparisonWorkbench({
     (c) => spec.selection.campaignIds.includes(c.id) || c.scans.some((s) => spec.selection.scanIds.includes(s.id)),
   );
   const targetsOffered = [...new Set(selectedSources.map((c) => c.target))].sort();
+  const wavelengthsOffered = [...new Set(selectedSources.map((c) => c.wavelengthNm))].sort((a, b) => a - b);
+  const ellipticitiesOffered = [
+    ...new Set(
+      selectedSources
+        .flatMap((c) => c.scans)
+        .map((s) => s.ellipticity)
+        .filter((e): e is number => e !== null)
+        .map((e) => Number(e.toFixed(3))),
+    ),
+  ].sort((a, b) => a - b);
+  // versions seen in the answer, plus the ones already chosen (a chosen filter hides the others from the answer)
+  const calibrationsSeen = new Map<number, string>();
+  for (const p of answer?.points ?? []) {
+    calibrationsSeen.set(p.provenance.calibrationId, `${p.campaignName} v${p.provenance.calibrationVersion ?? '?'}`);
+  }
+  for (const id of spec.filters.calibrationIds) if (!calibrationsSeen.has(id)) calibrationsSeen.set(id, `#${id}`);
+  const calibrationsOffered = [...calibrationsSeen.entries()].map(([value, label]) => ({ value, label }));
   const xLabel = xAxisLabel(spec.axes.x, answer?.points ?? [], convention);
   const yLabel = yAxisLabel(spec.axes.y, convention);
   const figureTitle = title.trim() || saved?.title || '';
@@ -486,30 +506,34 @@ export function ComparisonWorkbench({
                 <option value="exclude">left out</option>
               </select>
             </label>
-            {targetsOffered.length > 1 ? (
-              <span className="inline-flex flex-wrap items-center gap-1.5">
-                Targets
-                {targetsOffered.map((t) => {
-                  const on = spec.filters.targets.length === 0 || spec.filters.targets.includes(t);
-                  return (
-                    <label key={t} className="inline-flex items-center gap-1">
-                      <input
-                        type="checkbox"
-                        checked={on}
-                        onChange={() => {
-                          const current = spec.filters.targets.length ? spec.filters.targets : targetsOffered;
-                          const next = on ? current.filter((x) => x !== t) : [...current, t];
-                          update({
-                            filters: { ...spec.filters, targets: next.length === targetsOffered.length ? [] : next },
-                          });
-                        }}
-                      />
-                      {t}
-                    </label>
-                  );
-                })}
-              </span>
-            ) : null}
+            <ChipFilter
+              label="Targets"
+              testId="filter-targets"
+              offered={targetsOffered.map((t) => ({ value: t, label: t }))}
+              selected={spec.filters.targets}
+              onChange={(targets) => update({ filters: { ...spec.filters, targets } })}
+            />
+            <ChipFilter
+              label="Wavelengths"
+              testId="filter-wavelengths"
+              offered={wavelengthsOffered.map((v) => ({ value: v, label: `${v} nm` }))}
+              selected={spec.filters.wavelengthsNm}
+              onChange={(wavelengthsNm) => update({ filters: { ...spec.filters, wavelengthsNm } })}
+            />
+            <ChipFilter
+              label="Ellipticities"
+              testId="filter-ellipticities"
+              offered={ellipticitiesOffered.map((v) => ({ value: v, label: `ε ${v}` }))}
+              selected={spec.filters.ellipticities}
+              onChange={(ellipticities) => update({ filters: { ...spec.filters, ellipticities } })}
+            />
+            <ChipFilter
+              label="Calibration versions"
+              testId="filter-calibrations"
+              offered={calibrationsOffered}
+              selected={spec.filters.calibrationIds}
+              onChange={(calibrationIds) => update({ filters: { ...spec.filters, calibrationIds } })}
+            />
           </div>
           <fieldset className="space-y-1.5" data-testid="model-choices">
             <legend className="mb-1 font-medium text-ink-800">Models beside the data (computed on the server)</legend>
@@ -588,6 +612,21 @@ export function ComparisonWorkbench({
               >
                 Figure (SVG)
               </Button>
+              <Button
+                size="sm"
+                variant="secondary"
+                onClick={() => {
+                  const svg = figureBox.current?.querySelector('svg') as SVGSVGElement | null;
+                  if (!svg) return;
+                  // 3 × the drawing's width: about 2300 px, 300 dpi over a 19 cm wide figure
+                  svgToPngBlob(svg, 3).then(
+                    (blob) => downloadBlob(blob, `${fileStem}.png`),
+                    () => setExportProblem('The PNG could not be made in this browser; the SVG has the same figure.'),
+                  );
+                }}
+              >
+                Figure (PNG)
+              </Button>
             </span>
           ) : null
         }
@@ -629,6 +668,11 @@ export function ComparisonWorkbench({
                 title={figureTitle || undefined}
               />
             </div>
+            {exportProblem ? (
+              <p className="text-micro text-fault-700" role="status">
+                {exportProblem}
+              </p>
+            ) : null}
             <ul className="space-y-0.5 text-micro text-ink-600" data-testid="figure-notes">
               <li>
                 {built.series.reduce((n, s) => n + s.points.length, 0)} points in {built.series.length} series; one

@@ -63,6 +63,10 @@ export function xOf(p: ComparisonPoint, x: XQuantity): number | null {
   return x === 'radius_intensity' ? p.radiusIntensityWcm2 : p.stepValue;
 }
 
+export function xErrOf(p: ComparisonPoint, x: XQuantity): number | null {
+  return x === 'radius_intensity' ? p.radiusIntensityErrWcm2 : null;
+}
+
 export function yOf(p: ComparisonPoint, y: YQuantity): { v: number | null; err: number | null; sys: number | null } {
   switch (y) {
     case 'offset':
@@ -102,6 +106,8 @@ export function seriesOf(p: ComparisonPoint, by: SeriesBy, manyTeams: boolean): 
 
 export interface PlottedPoint {
   x: number;
+  /** σ of x where the result reports one (the in-situ intensity from the radius). */
+  xErr: number | null;
   y: number;
   err: number | null;
   sys: number | null;
@@ -115,18 +121,21 @@ export interface Series {
 }
 
 /**
- * Points into series (in order of first appearance), keeping only points with a finite x and y (and positive ones on
- * a log axis): exactly what is drawn, and so exactly what the exports write.
+ * Points into series (in order of first appearance), keeping only points of the chosen calibration versions with a
+ * finite x and y (and positive ones on a log axis): exactly what is drawn, and so exactly what the exports write.
  */
 export function buildSeries(
   points: ComparisonPoint[],
-  spec: Pick<ComparisonSpec, 'axes' | 'seriesBy'>,
+  spec: Pick<ComparisonSpec, 'axes' | 'seriesBy'> & { filters?: Pick<ComparisonSpec['filters'], 'calibrationIds'> },
 ): { series: Series[]; left: { missing: number; notPositive: number } } {
+  // the calibration filter is applied here rather than by the API, so that the versions left out stay on offer
+  const calibrations = spec.filters?.calibrationIds ?? [];
   const manyTeams = new Set(points.map((p) => p.teamId)).size > 1;
   const byKey = new Map<string, Series>();
   let missing = 0;
   let notPositive = 0;
   for (const p of points) {
+    if (calibrations.length && !calibrations.includes(p.provenance.calibrationId)) continue;
     const x = xOf(p, spec.axes.x);
     const y = yOf(p, spec.axes.y);
     if (x === null || y.v === null || !Number.isFinite(x) || !Number.isFinite(y.v)) {
@@ -139,7 +148,7 @@ export function buildSeries(
     }
     const s = seriesOf(p, spec.seriesBy, manyTeams);
     const entry = byKey.get(s.key) ?? { key: s.key, label: s.label, points: [] };
-    entry.points.push({ x, y: y.v, err: y.err, sys: y.sys, point: p });
+    entry.points.push({ x, xErr: xErrOf(p, spec.axes.x), y: y.v, err: y.err, sys: y.sys, point: p });
     byKey.set(s.key, entry);
   }
   for (const s of byKey.values()) s.points.sort((a, b) => a.x - b.x);

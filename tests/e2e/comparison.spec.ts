@@ -5,7 +5,7 @@
 //   under a fixed address;
 // - an analyst of the team opens that address: the same figure; the exported CSV holds exactly the API's numbers
 //   (RFC 4180 reading; every drawn point once, values equal to the JSON doubles) and the SVG holds every series
-//   and the model line.
+//   and the model line; the PNG is a PNG at 3 × the drawing's width.
 // What is checked is what the page gives against what the API says, not the physics (that is in the unit tests).
 import { execFileSync } from 'node:child_process';
 import { mkdtempSync, readFileSync } from 'node:fs';
@@ -219,6 +219,15 @@ test('the PI keeps a two-campaign comparison with a model; a team member opens i
   // one marker per drawn point, in the two series groups
   const markers = svgText.match(/<title>[^<]*, step \d+<\/title>/g) ?? [];
   expect(markers.length).toBe(drawn.length);
+  // the PNG: the signature of the PNG specification (ISO/IEC 15948 §5.2) and a width of 3 × the drawing (IHDR)
+  const [pngDownload] = await Promise.all([
+    an.page.waitForEvent('download'),
+    an.page.getByRole('button', { name: 'Figure (PNG)' }).click(),
+  ]);
+  const png = readFileSync((await pngDownload.path()) as string);
+  expect([...png.subarray(0, 8)]).toEqual([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]);
+  const viewBoxWidth = Number(/viewBox="0 0 ([\d.]+) /.exec(svgText)?.[1]);
+  expect(png.readUInt32BE(16)).toBe(Math.round(viewBoxWidth * 3));
   await an.page.screenshot({ path: '.data/test/comparison-analyst.png', fullPage: true });
   await an.context.close();
 });

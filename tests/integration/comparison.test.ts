@@ -141,6 +141,12 @@ describe('step points with provenance', () => {
     actAs(piBoth);
     const none = (await getPoints({ campaigns: w.a.campaignId, targets: 'Xe' })).json as PointsAnswer;
     expect(none.points).toEqual([]);
+    const ownCal = (await getPoints({ campaigns: w.a.campaignId, calibrations: w.a.calibrationId }))
+      .json as PointsAnswer;
+    expect(ownCal.points.some((p) => p.scanId === w.a.scanId)).toBe(true);
+    const otherCal = (await getPoints({ campaigns: w.a.campaignId, calibrations: w.a.draftCalibrationId }))
+      .json as PointsAnswer;
+    expect(otherCal.points).toEqual([]);
     await Scan.update({ flagged: true }, { where: { id: w.a.scanId } });
     try {
       const kept = (await getPoints({ campaigns: w.a.campaignId })).json as PointsAnswer;

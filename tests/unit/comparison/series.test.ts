@@ -172,3 +172,14 @@ describe('CSV of the plotted points', () => {
     expect(rows[0]).toContain(',101,5,1,6,1,0.1.0,cycle_averaged_total,cycle_averaged_total,1');
   });
 });
+
+describe('calibration filter', () => {
+  it('keeps only the chosen calibration versions (applied on the page, so the others stay on offer)', () => {
+    const a = point({ scanId: 1, stepIndex: 0 });
+    const b = point({ scanId: 2, stepIndex: 0, provenance: { ...a.provenance, calibrationId: 9, scanId: 2 } });
+    const s = spec({ filters: { calibrationIds: [9] } });
+    const { series } = buildSeries([a, b], s);
+    expect(series.flatMap((x) => x.points.map((p) => p.point.scanId))).toEqual([2]);
+    expect(buildSeries([a, b], spec()).series[0]!.points).toHaveLength(2);
+  });
+});
