@@ -214,6 +214,7 @@ if [ -f scripts/demo-scans.ts ] && [ -s "$SEED_OUT" ] && [ -n "$WORKER_PID" ] &&
   if ! "$BIN/tsx" scripts/demo-scans.ts 2>&1 | tee "$DEMO_OUT"; then
     echo "WARNING: the demo scans could not all be added (see above); Lobeline runs anyway." >&2
   fi
+  [ -f scripts/demo-comparison.ts ] && { "$BIN/tsx" scripts/demo-comparison.ts || echo "WARNING: no demo comparison was kept." >&2; }
 fi
 
 echo
