@@ -41,6 +41,11 @@ const M = { l: 70, r: 18, t: 16, b: 48 };
 const PLOT_H = 330;
 const KEY_ROW = 17;
 
+/** Font size (px, 12 down to 9) at which `text` fits `width` px, at about 0.56 em per character of this font. */
+function fitFont(text: string, width: number): number {
+  return Math.max(9, Math.min(12, Math.floor(width / (0.56 * Math.max(1, text.length)))));
+}
+
 export function ComparisonFigure({
   series,
   models,
@@ -136,13 +141,20 @@ export function ComparisonFigure({
         {!yLog && yd[0] < 0 && yd[1] > 0 ? (
           <line x1={M.l} x2={W - M.r} y1={y(0)} y2={y(0)} stroke="#c5ced8" strokeWidth={1} />
         ) : null}
-        <text x={(M.l + W - M.r) / 2} y={bottom + 36} textAnchor="middle" className="fill-ink-900 text-[12px]">
+        <text
+          x={(M.l + W - M.r) / 2}
+          y={bottom + 36}
+          textAnchor="middle"
+          className="fill-ink-900"
+          style={{ fontSize: `${fitFont(xLabel, W - M.l - M.r + 40)}px` }}
+        >
           {xLabel}
         </text>
         <text
           transform={`translate(16 ${(top + bottom) / 2}) rotate(-90)`}
           textAnchor="middle"
-          className="fill-ink-900 text-[12px]"
+          className="fill-ink-900"
+          style={{ fontSize: `${fitFont(yLabel, bottom - top + 30)}px` }}
         >
           {yLabel}
         </text>

@@ -477,7 +477,7 @@ export function ComparisonWorkbench({
             </label>
           </div>
           <div className="flex flex-wrap items-center gap-x-5 gap-y-2">
-            <label className="inline-flex items-center gap-1.5">
+            <label className="inline-flex max-w-full min-w-0 flex-wrap items-center gap-1.5">
               Intensities
               <select
                 className={select}
@@ -485,15 +485,15 @@ export function ComparisonWorkbench({
                 onChange={(e) => update({ convention: (e.target.value || null) as ComparisonSpec['convention'] })}
                 data-testid="convention"
               >
-                <option value="">as the files state them (one convention only)</option>
+                <option value="">as stated (one convention only)</option>
                 {CONVENTION_NAMES.map((c) => (
                   <option key={c} value={c}>
-                    converted to {CONVENTION_WORDS[c]}
+                    as {CONVENTION_WORDS[c]}
                   </option>
                 ))}
               </select>
             </label>
-            <label className="inline-flex items-center gap-1.5">
+            <label className="inline-flex max-w-full min-w-0 flex-wrap items-center gap-1.5">
               Flagged scans
               <select
                 className={select}

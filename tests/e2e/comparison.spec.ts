@@ -231,3 +231,24 @@ test('the PI keeps a two-campaign comparison with a model; a team member opens i
   await an.page.screenshot({ path: '.data/test/comparison-analyst.png', fullPage: true });
   await an.context.close();
 });
+
+test('the comparison page fits a 390 px wide screen (its figure narrows, its tables scroll in their panel)', async ({
+  browser,
+}) => {
+  const context = await browser.newContext({ viewport: { width: 390, height: 844 } });
+  const page = await context.newPage();
+  await signIn(page, DEMO.pi);
+  const ids = await campaignIds(page.request);
+  await page.goto('/comparisons');
+  for (const id of ids) await page.getByTestId(`pick-campaign-${id}`).check();
+  await page.getByTestId('model-keldysh_rutherford').check();
+  await expect(page.getByTestId('draw-sentence')).toBeVisible();
+  await page.waitForLoadState('networkidle');
+  const widths = await page.evaluate(() => ({
+    page: document.documentElement.scrollWidth,
+    view: document.documentElement.clientWidth,
+  }));
+  expect(widths.page).toBeLessThanOrEqual(widths.view);
+  await page.screenshot({ path: '.data/test/comparison-390.png', fullPage: true });
+  await context.close();
+});

@@ -21,6 +21,7 @@ const points = await import('@/app/api/comparisons/points/route');
 const saved = await import('@/app/api/comparisons/route');
 const one = await import('@/app/api/comparisons/[comparisonId]/route');
 const sources = await import('@/app/api/comparisons/sources/route');
+const models = await import('@/app/api/comparisons/models/route');
 
 let w: World;
 let piBoth: number;
@@ -294,5 +295,33 @@ describe('saved comparisons', () => {
     expect(details).toMatch(/title/);
     expect(details).toMatch(/spec\.selection\.campaignIds/);
     expect(details).toMatch(/spec\.axes\.y/);
+  });
+});
+
+describe('model overlays route', () => {
+  const call = (query: Record<string, string | number>) =>
+    callRoute(models.GET, { method: 'GET', path: '/api/comparisons/models', query });
+  it('answers every model with its assumptions; §10.5: He, 800 nm, 4×10¹⁴ W/cm², ε = 0.87 → θ_off = 5.286°', async () => {
+    actAs(w.users.analyst);
+    const r = await call({ target: 'He', wavelengthNm: 800, ellipticity: 0.87, intensities: '4e14' });
+    expect(r.status, JSON.stringify(r.json)).toBe(200);
+    const body = r.json as { curves: { model: string; assumptions: string; points: { offsetDeg: number }[] }[] };
+    expect(body.curves.map((c) => c.model)).toEqual(['simple_man', 'trajectory', 'keldysh_rutherford']);
+    expect(body.curves[1]!.points[0]!.offsetDeg).toBeCloseTo(5.286, 3);
+    for (const c of body.curves) expect(c.assumptions.length).toBeGreaterThan(40);
+  });
+  it('refuses intensities out of range and unknown models with sentences', async () => {
+    actAs(w.users.analyst);
+    const r = await call({
+      target: 'He',
+      wavelengthNm: 800,
+      ellipticity: 0.87,
+      intensities: '4e20',
+      models: 'ensemble',
+    });
+    expect(r.status).toBe(400);
+    const details = (r.json as { error: { details: string[] } }).error.details.join(' ');
+    expect(details).toMatch(/intensities/);
+    expect(details).toMatch(/models/);
   });
 });
