@@ -3,7 +3,14 @@ import 'server-only';
 // step numbers with their provenance, filters, and intensity conventions made one (SCIENCE.md §1.2, C5) — converted
 // when the caller names the convention, refused with a sentence when the selection mixes conventions and none was
 // named or when a conversion is not defined for a scan.
-import { campaignTeams, comparisonRows, type RawComparisonRow, scanTeams } from '@/lib/db/queries/comparison';
+import {
+  campaignTeams,
+  comparisonPhaseRows,
+  comparisonRows,
+  type RawComparisonRow,
+  type RawPhaseRow,
+  scanTeams,
+} from '@/lib/db/queries/comparison';
 import { AppError } from '@/lib/errors';
 import { type Actor, authorizeObject, can } from '@/lib/policy';
 import {
@@ -12,7 +19,7 @@ import {
   type IntensityConventionName,
   isConventionName,
 } from '@/reduction/intensity-conventions';
-import { type ComparisonPoint, MAX_POINTS, type PointsAnswer, type PointsQuery } from './spec';
+import { type ComparisonPoint, MAX_POINTS, type PhaseCurve, type PointsAnswer, type PointsQuery } from './spec';
 
 // ACCESS //
 
@@ -65,7 +72,9 @@ export async function authorizeSelection(actor: Actor, q: { campaigns: number[];
 const near = (a: number | null, list: number[], tol: number) =>
   a !== null && list.some((b) => Math.abs(a - b) <= tol * Math.max(1, Math.abs(b)));
 
-function passes(r: RawComparisonRow, q: PointsQuery): boolean {
+type Filterable = Pick<RawComparisonRow, 'flagged' | 'target' | 'wavelengthNm' | 'ellipticity' | 'calibrationId'>;
+
+function passes(r: Filterable, q: PointsQuery): boolean {
   if (q.flagged === 'exclude' && r.flagged) return false;
   if (q.targets.length && !q.targets.some((t) => t.toLowerCase() === (r.target ?? '').toLowerCase())) return false;
   if (q.wavelengths.length && !near(r.wavelengthNm, q.wavelengths, 0.005)) return false;
@@ -76,6 +85,11 @@ function passes(r: RawComparisonRow, q: PointsQuery): boolean {
     return false;
   if (q.calibrations.length && !q.calibrations.includes(r.calibrationId)) return false;
   return true;
+}
+
+/** Whether a step carries an intensity whose meaning depends on the convention. */
+function hasIntensity(r: RawComparisonRow): boolean {
+  return (r.stepQuantity === 'intensity' && r.value !== null) || r.intensityWcm2 !== null;
 }
 
 function scanLabel(r: RawComparisonRow): string {
@@ -106,19 +120,21 @@ export async function comparisonPoints(q: PointsQuery): Promise<PointsAnswer> {
     return true;
   });
 
-  const unknown = unique.filter((r) => !isConventionName(r.statedConvention));
+  // only steps that carry an intensity (a stated intensity step, or one from the lobe radius) depend on a convention
+  const withIntensity = unique.filter(hasIntensity);
+  const unknown = withIntensity.filter((r) => !isConventionName(r.statedConvention));
   if (unknown.length) {
     throw new AppError('conflict:comparison', {
       message: `Lobeline does not know the intensity convention “${unknown[0]!.statedConvention}” stated by ${listScans([...new Set(unknown.map(scanLabel))])}, so their intensities cannot be compared.`,
     });
   }
-  const stated = [...new Set(unique.map((r) => r.statedConvention as IntensityConventionName))];
+  const stated = [...new Set(withIntensity.map((r) => r.statedConvention as IntensityConventionName))];
   let target: IntensityConventionName;
   if (q.convention) target = q.convention;
   else if (stated.length <= 1) target = stated[0] ?? 'cycle_averaged_total';
   else {
     const parts = stated.map((c) => {
-      const labels = [...new Set(unique.filter((r) => r.statedConvention === c).map(scanLabel))];
+      const labels = [...new Set(withIntensity.filter((r) => r.statedConvention === c).map(scanLabel))];
       return `${CONVENTION_WORDS[c]} for ${listScans(labels)}`;
     });
     throw new AppError('conflict:comparison', {
@@ -131,17 +147,15 @@ export async function comparisonPoints(q: PointsQuery): Promise<PointsAnswer> {
   const refusals: string[] = [];
   const points: ComparisonPoint[] = [];
   for (const r of unique) {
-    const from = r.statedConvention as IntensityConventionName;
-    const f = conventionFactor(from, target, {
-      kind: r.experimentKind,
-      ellipticity: r.ellipticity,
-      fieldRatio: r.fieldRatio,
-    });
+    const from = (isConventionName(r.statedConvention) ? r.statedConvention : target) as IntensityConventionName;
+    const f: ReturnType<typeof conventionFactor> = hasIntensity(r)
+      ? conventionFactor(from, target, { kind: r.experimentKind, ellipticity: r.ellipticity, fieldRatio: r.fieldRatio })
+      : { ok: true, factor: 1 };
     if (!f.ok) {
       refusals.push(`${scanLabel(r)}: ${f.reason}`);
       continue;
     }
-    if (from !== target) {
+    if (hasIntensity(r) && from !== target) {
       const k = `${from}→${target}`;
       const entry = conversions.get(k) ?? { labels: new Set(), factors: new Set() };
       entry.labels.add(scanLabel(r));
@@ -185,7 +199,7 @@ export async function comparisonPoints(q: PointsQuery): Promise<PointsAnswer> {
         settingsVersion: r.settingsVersion,
         softwareVersion: r.softwareVersion,
         intensityConvention: target,
-        statedConvention: from,
+        statedConvention: r.statedConvention,
         conventionFactor: f.factor,
       },
     });
@@ -196,7 +210,11 @@ export async function comparisonPoints(q: PointsQuery): Promise<PointsAnswer> {
       message: `The intensities of ${unique.length === 1 ? 'one scan' : `${unique.length} scans`} cannot be converted to the ${CONVENTION_WORDS[target]} convention: ${listScans(unique)}. Leave those scans out or compare in their own convention.`,
     });
   }
+  const phaseRows = (await comparisonPhaseRows({ campaignIds: q.campaigns, scanIds: q.scans, limit: 500 })).filter(
+    (r) => passes(r, q),
+  );
   return {
+    phaseCurves: phaseRows.flatMap(phaseCurvesOf),
     convention: target,
     conversions: [...conversions.entries()].map(([k, v]) => {
       const [from] = k.split('→') as [IntensityConventionName];
@@ -205,4 +223,51 @@ export async function comparisonPoints(q: PointsQuery): Promise<PointsAnswer> {
     points,
     truncated,
   };
+}
+
+const finiteOrNull = (v: unknown): number | null => (typeof v === 'number' && Number.isFinite(v) ? v : null);
+
+/** The regions of one stored phase analysis as curves (values that are not finite numbers are left out). */
+function phaseCurvesOf(r: RawPhaseRow): PhaseCurve[] {
+  const phase = r.phase as { method?: unknown; regions?: unknown } | null;
+  if (!phase || !Array.isArray(phase.regions)) return [];
+  return phase.regions.flatMap((region: Record<string, unknown>) => {
+    const ph = Array.isArray(region.phase_rad) ? (region.phase_rad as unknown[]) : [];
+    const y = Array.isArray(region.yield) ? (region.yield as unknown[]) : [];
+    const pairs = ph
+      .map((p, i) => [finiteOrNull(p), finiteOrNull(y[i])] as const)
+      .filter((pair): pair is readonly [number, number] => pair[0] !== null && pair[1] !== null);
+    if (!pairs.length) return [];
+    return [
+      {
+        campaignId: r.campaignId,
+        campaignName: r.campaignName,
+        teamId: r.teamId,
+        teamName: r.teamName,
+        scanId: r.scanId,
+        scanTitle: r.scanTitle,
+        target: r.target,
+        wavelengthNm: r.wavelengthNm,
+        ellipticity: r.ellipticity,
+        flagged: r.flagged,
+        region: typeof region.name === 'string' ? region.name : 'region',
+        method: typeof phase.method === 'string' ? phase.method : null,
+        phaseRad: pairs.map((p) => p[0]),
+        yield: pairs.map((p) => p[1]),
+        a0: finiteOrNull(region.a0),
+        a1: finiteOrNull(region.a1),
+        phaseOfMaxRad: finiteOrNull(region.phase_of_max_rad),
+        contrast: finiteOrNull(region.contrast),
+        provenance: {
+          scanId: r.scanId,
+          resultId: r.resultId,
+          calibrationId: r.calibrationId,
+          calibrationVersion: r.calibrationVersion,
+          settingsId: r.settingsId,
+          settingsVersion: r.settingsVersion,
+          softwareVersion: r.softwareVersion,
+        },
+      },
+    ];
+  });
 }

@@ -214,12 +214,39 @@ export interface ComparisonPoint {
   provenance: ComparisonProvenance;
 }
 
+/** A two-colour scan's yield against the ω–2ω relative phase in one region (SCIENCE.md §6, C8/C10). */
+export interface PhaseCurve {
+  campaignId: number;
+  campaignName: string;
+  teamId: number;
+  teamName: string;
+  scanId: number;
+  scanTitle: string | null;
+  target: string | null;
+  wavelengthNm: number | null;
+  ellipticity: number | null;
+  flagged: boolean;
+  region: string;
+  method: string | null;
+  /** Relative phase φ (rad, C8) and the region's yield at each phase (counts, background subtracted). */
+  phaseRad: number[];
+  yield: number[];
+  /** Y = A₀ + A₁ cos(φ − φ₀) (C10): A₀, A₁, φ₀ (rad) and the contrast A₁/A₀. */
+  a0: number | null;
+  a1: number | null;
+  phaseOfMaxRad: number | null;
+  contrast: number | null;
+  provenance: Omit<ComparisonProvenance, 'intensityConvention' | 'statedConvention' | 'conventionFactor'>;
+}
+
 export interface PointsAnswer {
   convention: string;
   /** One sentence per conversion that was made (never silent). */
   conversions: string[];
   points: ComparisonPoint[];
   truncated: boolean;
+  /** Phase-delay curves of the two-colour scans in the selection (empty when there are none). */
+  phaseCurves: PhaseCurve[];
 }
 
 export interface ModelCurve {

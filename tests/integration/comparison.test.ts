@@ -325,3 +325,84 @@ describe('model overlays route', () => {
     expect(details).toMatch(/models/);
   });
 });
+
+describe('phase-delay curves of two-colour scans', () => {
+  it('a two-colour scan of the selection brings its yield-versus-phase curves; its steps need no convention', async () => {
+    const t = w.a;
+    actAs(piBoth);
+    const phaseScanId = await w.freshScan(t);
+    const scan = (await Scan.findByPk(phaseScanId))!;
+    await Scan.update(
+      { experiment_kind: 'two_color_phase', step_quantity: 'relative_phase', status: 'reduced', target: 'Ar' },
+      { where: { id: phaseScanId } },
+    );
+    // the file states its intensity per colour; the angular-streaking scan beside it states the total: phase steps
+    // carry no intensity, so this is no mixing (and is not refused)
+    await RawFile.update(
+      { metadata: { intensityConvention: 'per_colour' } as never },
+      { where: { id: scan.raw_file_id } },
+    );
+    const base = (await ScanResult.findByPk(t.resultId))!;
+    // a phase analysis written by hand: Y = 100 + 40 cos(φ − 0.5) at four phases (C10), contrast 0.4
+    const phi = [0, Math.PI / 2, Math.PI, (3 * Math.PI) / 2];
+    const yieldAt = phi.map((p) => 100 + 40 * Math.cos(p - 0.5));
+    const phase = {
+      method: 'fourier',
+      n_phases: 4,
+      periods: 1,
+      phase_offset_rad: 0,
+      regions: [{ name: 'all', phase_rad: phi, yield: yieldAt, a0: 100, a1: 40, phase_of_max_rad: 0.5, contrast: 0.4 }],
+    };
+    const result = await ScanResult.create({
+      scan_id: phaseScanId,
+      raw_file_id: scan.raw_file_id,
+      calibration_id: t.calibrationId,
+      settings_id: t.settingsId,
+      job_id: null,
+      result_json: { ...base.result_json, phase, steps: [] },
+      derived_bucket: null,
+      derived_key: null,
+      software_version: base.software_version,
+      offset_deg: null,
+      offset_err_deg: null,
+      warnings_count: 0,
+    } as never);
+    for (const [i, p] of phi.entries()) {
+      await ScanResultStep.create({
+        result_id: result.id,
+        step_index: i,
+        value: p,
+        total_counts: yieldAt[i],
+        offset_deg: null,
+        offset_err_deg: null,
+        transverse_shift_au: null,
+        radius_au: null,
+        radius_err_au: null,
+        intensity_wcm2: null,
+        intensity_err_wcm2: null,
+        lobes: null,
+      } as never);
+    }
+    const r = await getPoints({ campaigns: t.campaignId });
+    expect(r.status, JSON.stringify(r.json)).toBe(200);
+    const body = r.json as PointsAnswer;
+    expect(body.conversions).toEqual([]);
+    const curves = body.phaseCurves.filter((c) => c.scanId === phaseScanId);
+    expect(curves).toHaveLength(1);
+    expect(curves[0]).toMatchObject({ region: 'all', method: 'fourier', a0: 100, a1: 40, contrast: 0.4 });
+    expect(curves[0]!.phaseRad).toEqual(phi);
+    expect(curves[0]!.yield).toEqual(yieldAt);
+    expect(curves[0]!.provenance).toMatchObject({ resultId: result.id, calibrationId: t.calibrationId });
+    // the phase steps are points too (no offsets), stated convention as the file says, factor 1
+    const steps = body.points.filter((p) => p.scanId === phaseScanId);
+    expect(steps).toHaveLength(4);
+    for (const p of steps) {
+      expect(p.provenance.statedConvention).toBe('per_colour');
+      expect(p.provenance.conventionFactor).toBe(1);
+    }
+    // filters apply to the curves as to the points
+    const none = (await getPoints({ campaigns: t.campaignId, targets: 'He' })).json as PointsAnswer;
+    expect(none.phaseCurves.filter((c) => c.scanId === phaseScanId)).toEqual([]);
+    await Scan.update({ status: 'uploaded' }, { where: { id: phaseScanId } });
+  });
+});

@@ -189,6 +189,89 @@ export async function comparisonRows({
   });
 }
 
+// PHASE-DELAY CURVES //
+
+export interface RawPhaseRow {
+  campaignId: number;
+  campaignName: string;
+  teamId: number;
+  teamName: string;
+  scanId: number;
+  scanTitle: string | null;
+  experimentKind: string | null;
+  target: string | null;
+  wavelengthNm: number | null;
+  ellipticity: number | null;
+  flagged: boolean;
+  resultId: number;
+  calibrationId: number;
+  calibrationVersion: number | null;
+  settingsId: number;
+  settingsVersion: number | null;
+  softwareVersion: string;
+  /** The result's phase analysis (FORMATS §4 `phase`), as stored. */
+  phase: unknown;
+}
+
+/**
+ * The phase analysis (yield against the ω–2ω relative phase per region) of the current result of every reduced scan
+ * in the selection that has one (two-colour phase scans), at most `limit` scans.
+ */
+export async function comparisonPhaseRows({
+  campaignIds,
+  scanIds,
+  limit,
+}: {
+  campaignIds: number[];
+  scanIds: number[];
+  limit: number;
+}): Promise<RawPhaseRow[]> {
+  if (!campaignIds.length && !scanIds.length) return [];
+  return guard('comparisonPhaseRows', async () => {
+    const where: string[] = [];
+    if (campaignIds.length) where.push('s.campaign_id IN (:campaignIds)');
+    if (scanIds.length) where.push('s.id IN (:scanIds)');
+    const rows = await getDb().query<Record<string, unknown>>(
+      `SELECT c.id AS campaign_id, c.name AS campaign_name, t.id AS team_id, t.name AS team_name,
+              s.id AS scan_id, s.title, s.experiment_kind, s.target, s.wavelength_nm, s.ellipticity, s.flagged,
+              r.id AS result_id, r.calibration_id, cc.version AS calibration_version, r.settings_id,
+              cs.version AS settings_version, r.software_version,
+              JSON_EXTRACT(r.result_json, '$.phase') AS phase
+         FROM scans s
+         JOIN campaigns c ON c.id = s.campaign_id
+         JOIN teams t ON t.id = s.team_id
+         JOIN scan_results r ON r.id = ${currentResultSql('s')}
+         JOIN detector_calibrations cc ON cc.id = r.calibration_id
+         JOIN analysis_settings cs ON cs.id = r.settings_id
+        WHERE (${where.join(' OR ')}) AND s.status = 'reduced' AND ${firstOfItsFile('s')}
+          AND JSON_TYPE(JSON_EXTRACT(r.result_json, '$.phase')) = 'OBJECT'
+        ORDER BY c.id, s.id
+        LIMIT ${Math.max(1, Math.floor(limit))}`,
+      { replacements: { campaignIds, scanIds }, type: QueryTypes.SELECT },
+    );
+    return rows.map((r) => ({
+      campaignId: Number(r.campaign_id),
+      campaignName: String(r.campaign_name),
+      teamId: Number(r.team_id),
+      teamName: String(r.team_name),
+      scanId: Number(r.scan_id),
+      scanTitle: (r.title as string | null) ?? null,
+      experimentKind: (r.experiment_kind as string | null) ?? null,
+      target: (r.target as string | null) ?? null,
+      wavelengthNm: num(r.wavelength_nm),
+      ellipticity: num(r.ellipticity),
+      flagged: !!Number(r.flagged),
+      resultId: Number(r.result_id),
+      calibrationId: Number(r.calibration_id),
+      calibrationVersion: num(r.calibration_version),
+      settingsId: Number(r.settings_id),
+      settingsVersion: num(r.settings_version),
+      softwareVersion: String(r.software_version),
+      phase: jsonValue(r.phase),
+    }));
+  });
+}
+
 // SOURCES //
 
 export interface ComparisonSourceDto {
