@@ -18,7 +18,26 @@ import {
 import { markerPath, seriesStyle } from '@/components/plots/series-styles';
 import { usePlotWidth } from '@/components/plots/use-plot-width';
 import type { ModelName } from '@/lib/comparison/spec';
-import type { Series } from './series';
+
+/** One drawn series: markers with optional bars, optionally joined by a thin line. */
+export interface FigureSeries {
+  key: string;
+  label: string;
+  /** Join the markers (phase-delay curves); measured offsets stay unjoined. */
+  joined?: boolean;
+  points: {
+    x: number;
+    y: number;
+    xErr: number | null;
+    err: number | null;
+    sys: number | null;
+    /** Unique within the series. */
+    id: string;
+    /** Tooltip, e.g. "He 800 nm elliptical: scan 3, step 1". */
+    title: string;
+    hollow: boolean;
+  }[];
+}
 
 export interface ModelLine {
   id: string;
@@ -57,7 +76,7 @@ export function ComparisonFigure({
   systematics,
   title,
 }: {
-  series: Series[];
+  series: FigureSeries[];
   models: ModelLine[];
   xLabel: string;
   yLabel: string;
@@ -180,12 +199,24 @@ export function ComparisonFigure({
             const style = seriesStyle(i);
             return (
               <g key={s.key} data-series={s.label} data-color={style.color} data-marker={style.shape}>
+                {s.joined && s.points.length > 1 ? (
+                  <polyline
+                    fill="none"
+                    stroke={style.color}
+                    strokeWidth={1}
+                    strokeOpacity={0.7}
+                    points={s.points
+                      .filter((p) => Number.isFinite(x(p.x)) && Number.isFinite(y(p.y)))
+                      .map((p) => `${x(p.x).toFixed(1)},${y(p.y).toFixed(1)}`)
+                      .join(' ')}
+                  />
+                ) : null}
                 {s.points.map((p) => {
                   const cx = x(p.x);
                   const cy = y(p.y);
                   if (!Number.isFinite(cx) || !Number.isFinite(cy)) return null;
                   return (
-                    <g key={`${p.point.scanId}:${p.point.stepIndex}`}>
+                    <g key={p.id}>
                       {systematics && p.sys != null && p.sys > 0 ? (
                         <rect
                           x={cx - 5}
@@ -213,14 +244,12 @@ export function ComparisonFigure({
                       ) : null}
                       <path
                         d={markerPath(style.shape, cx, cy, 3.5)}
-                        fill={p.point.flagged ? '#ffffff' : style.color}
-                        fillOpacity={p.point.flagged ? 1 : 0.6}
+                        fill={p.hollow ? '#ffffff' : style.color}
+                        fillOpacity={p.hollow ? 1 : 0.6}
                         stroke={style.color}
                         strokeWidth={1.3}
                       >
-                        <title>
-                          {`${s.label}: ${p.point.scanTitle ?? `scan ${p.point.scanId}`}, step ${p.point.stepIndex}`}
-                        </title>
+                        <title>{p.title}</title>
                       </path>
                     </g>
                   );

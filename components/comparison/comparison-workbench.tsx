@@ -28,9 +28,11 @@ import { CONVENTION_NAMES, CONVENTION_WORDS } from '@/reduction/intensity-conven
 import { ChipFilter } from './chip-filter';
 import { ComparisonFigure, type ModelLine } from './comparison-figure';
 import { comparisonCsv, comparisonJson } from './export';
+import { PhasePanel } from './phase-panel';
 import { ResidualTable } from './residual-table';
 import {
   buildSeries,
+  figureSeries,
   modelParamsOf,
   modelRequests,
   residualTable,
@@ -649,15 +651,21 @@ export function ComparisonWorkbench({
             ) : null}
           </div>
         ) : !built.series.length ? (
-          <EmptyState title="No points to draw">
-            None of the chosen scans has this quantity on both axes
-            {spec.filters.targets.length ? ' with these targets' : ''}.
-          </EmptyState>
+          answer?.phaseCurves?.length ? (
+            <EmptyState title="Only phase-delay curves here">
+              The chosen scans are two-colour phase scans: their yield against the relative phase is drawn below.
+            </EmptyState>
+          ) : (
+            <EmptyState title="No points to draw">
+              None of the chosen scans has this quantity on both axes
+              {spec.filters.targets.length ? ' with these targets' : ''}.
+            </EmptyState>
+          )
         ) : (
           <div className="space-y-3">
             <div ref={figureBox}>
               <ComparisonFigure
-                series={built.series}
+                series={figureSeries(built.series)}
                 models={modelLines}
                 xLabel={xLabel}
                 yLabel={yLabel}
@@ -711,6 +719,8 @@ export function ComparisonWorkbench({
           </div>
         )}
       </Panel>
+
+      {answer?.phaseCurves?.length ? <PhasePanel curves={answer.phaseCurves} fileStem={fileStem} /> : null}
 
       {residuals.length ? (
         <Panel

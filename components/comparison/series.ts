@@ -11,6 +11,7 @@ import type {
   YQuantity,
 } from '@/lib/comparison/spec';
 import { CONVENTION_WORDS, conventionFactor, isConventionName } from '@/reduction/intensity-conventions';
+import type { FigureSeries } from './comparison-figure';
 
 // LABELS //
 
@@ -290,4 +291,22 @@ export function residualTable(
     }
   }
   return rows;
+}
+
+/** Series as the figure draws them (components/comparison/comparison-figure.tsx). */
+export function figureSeries(series: Series[]): FigureSeries[] {
+  return series.map((s) => ({
+    key: s.key,
+    label: s.label,
+    points: s.points.map((pp) => ({
+      x: pp.x,
+      y: pp.y,
+      xErr: pp.xErr,
+      err: pp.err,
+      sys: pp.sys,
+      id: `${pp.point.scanId}:${pp.point.stepIndex}`,
+      title: `${s.label}: ${pp.point.scanTitle ?? `scan ${pp.point.scanId}`}, step ${pp.point.stepIndex}`,
+      hollow: pp.point.flagged,
+    })),
+  }));
 }

@@ -39,12 +39,18 @@ async function campaignIds(request: APIRequestContext): Promise<number[]> {
   });
 }
 
-async function sendAndWait(page: Page, campaignId: number, target: string): Promise<void> {
+async function sendAndWait(
+  page: Page,
+  campaignId: number,
+  target: string,
+  kind: 'angular_streaking' | 'two_color_phase' = 'angular_streaking',
+  steps = 3,
+): Promise<void> {
   const opened = await page.request.post('/api/shifts', { data: { campaignId, title: `Comparison ${target} ${RUN}` } });
   expect(opened.ok(), await opened.text()).toBeTruthy();
   const ob = (await opened.json()) as { shift?: { id: number }; id?: number };
   const shiftId = (ob.shift?.id ?? ob.id) as number;
-  const fileName = `compare-${target}-${RUN}.h5`;
+  const fileName = `compare-${kind}-${target}-${RUN}.h5`;
   const file = path.join(dir, fileName);
   execFileSync(
     'npx',
@@ -54,11 +60,11 @@ async function sendAndWait(page: Page, campaignId: number, target: string): Prom
       '--out',
       file,
       '--kind',
-      'angular_streaking',
+      kind,
       '--target',
       target,
       '--steps',
-      '3',
+      String(steps),
       '--size',
       '512',
       '--seed',
@@ -251,4 +257,50 @@ test('the comparison page fits a 390 px wide screen (its figure narrows, its tab
   expect(widths.page).toBeLessThanOrEqual(widths.view);
   await page.screenshot({ path: '.data/test/comparison-390.png', fullPage: true });
   await context.close();
+});
+
+test('two-colour phase scans bring their phase-delay curves, with phase of maximum and contrast', async ({
+  browser,
+}) => {
+  test.setTimeout(300_000);
+  const name = 'Ar 800 + 400 nm phase scan';
+  const sender = await asUser(browser, DEMO.phaseAnalyst);
+  const list = (await (await sender.page.request.get('/api/campaigns')).json()) as {
+    campaigns: { id: number; name: string }[];
+  };
+  const cid = list.campaigns.find((c) => c.name === name)?.id;
+  expect(cid, `seeded campaign "${name}"`).toBeDefined();
+  await sendAndWait(sender.page, cid as number, 'Ar', 'two_color_phase', 12);
+  await sender.context.close();
+
+  const pi = await asUser(browser, DEMO.pi);
+  await pi.page.goto('/comparisons');
+  await pi.page.getByTestId(`pick-campaign-${cid}`).check();
+  const panel = pi.page.getByTestId('phase-panel');
+  await expect(panel).toBeVisible({ timeout: 30_000 });
+  const api = await pi.page.request.get(`/api/comparisons/points?campaigns=${cid}`);
+  const answer = (await api.json()) as {
+    phaseCurves: { scanId: number; region: string; phaseRad: number[]; contrast: number; phaseOfMaxRad: number }[];
+  };
+  const firstRegion = answer.phaseCurves[0]!.region;
+  const shown = answer.phaseCurves.filter((c) => c.region === firstRegion);
+  expect(shown.length).toBeGreaterThan(0);
+  const svg = panel.getByTestId('comparison-figure').locator('svg');
+  await expect(svg).toHaveAttribute('data-series-count', String(shown.length));
+  // one marker per phase of each curve, and the fit numbers in the table as the API gives them
+  await expect(svg.locator('path title')).toHaveCount(shown.reduce((n, c) => n + c.phaseRad.length, 0));
+  const table = panel.getByTestId('phase-table');
+  for (const c of shown) {
+    await expect(table).toContainText(c.phaseOfMaxRad.toFixed(3));
+    await expect(table).toContainText(c.contrast.toFixed(3));
+  }
+  const [download] = await Promise.all([
+    pi.page.waitForEvent('download'),
+    panel.getByRole('button', { name: 'Curves (CSV)' }).click(),
+  ]);
+  const rows = readCsv(readFileSync((await download.path()) as string, 'utf8'));
+  const h = rows.findIndex((r) => r[0] === 'curve');
+  expect(rows.length - h - 1).toBe(shown.reduce((n, c) => n + c.phaseRad.length, 0));
+  await panel.screenshot({ path: '.data/test/comparison-phase.png' });
+  await pi.context.close();
 });
