@@ -106,11 +106,10 @@ function listScans(labels: string[]): string {
  * readable ids of {@link selectionAccess}).
  */
 export async function comparisonPoints(q: PointsQuery): Promise<PointsAnswer> {
-  const rows = (await comparisonRows({ campaignIds: q.campaigns, scanIds: q.scans, limit: MAX_POINTS })).filter((r) =>
-    passes(r, q),
-  );
-  const truncated = rows.length > MAX_POINTS;
-  const kept = rows.slice(0, MAX_POINTS);
+  const raw = await comparisonRows({ campaignIds: q.campaigns, scanIds: q.scans, limit: MAX_POINTS });
+  // the query answers one row more than the limit when there are more: then the answer says it was cut
+  const truncated = raw.length > MAX_POINTS;
+  const kept = raw.slice(0, MAX_POINTS).filter((r) => passes(r, q));
   // one row per (scan, step): a scan picked both on its own and through its campaign is drawn once
   const seen = new Set<string>();
   const unique = kept.filter((r) => {
