@@ -7,7 +7,6 @@
 import { useId, useRef } from 'react';
 import {
   extent,
-  formatNumber,
   type LinearScale,
   linearScale,
   logScale,
@@ -18,6 +17,7 @@ import {
 import { markerPath, seriesStyle } from '@/components/plots/series-styles';
 import { usePlotWidth } from '@/components/plots/use-plot-width';
 import type { ModelName } from '@/lib/comparison/spec';
+import { tickFormat } from './ticks';
 
 /** One drawn series: markers with optional bars, optionally joined by a thin line. */
 export interface FigureSeries {
@@ -114,6 +114,8 @@ export function ComparisonFigure({
   const y: LinearScale = yLog && yd[0] > 0 ? logScale(yd, [bottom, top]) : linearScale(yd, [bottom, top]);
   const xt = xLog ? logTicks(xd[0], xd[1]) : niceTicks(xd[0], xd[1], W < 460 ? 4 : 6);
   const yt = yLog ? logTicks(yd[0], yd[1]) : niceTicks(yd[0], yd[1], 5);
+  const xTick = tickFormat(xt, xLog);
+  const yTick = tickFormat(yt, yLog);
   const yAt = (v: number) => (yLog && !(v > 0) ? bottom : Math.max(top - 4, Math.min(bottom + 4, y(v))));
   const xAt = (v: number) => (xLog && !(v > 0) ? M.l : Math.max(M.l - 4, Math.min(W - M.r + 4, x(v))));
   const keyTop = bottom + M.b + 4;
@@ -144,7 +146,7 @@ export function ComparisonFigure({
             <line x1={x(v)} x2={x(v)} y1={bottom} y2={bottom - 6} stroke="#4a5868" />
             <line x1={x(v)} x2={x(v)} y1={top} y2={top + 6} stroke="#4a5868" />
             <text x={x(v)} y={bottom + 15} textAnchor="middle" className="fill-ink-700 text-[11px]">
-              {formatNumber(v)}
+              {xTick(v)}
             </text>
           </g>
         ))}
@@ -153,7 +155,7 @@ export function ComparisonFigure({
             <line x1={M.l} x2={M.l + 6} y1={y(v)} y2={y(v)} stroke="#4a5868" />
             <line x1={W - M.r} x2={W - M.r - 6} y1={y(v)} y2={y(v)} stroke="#4a5868" />
             <text x={M.l - 7} y={y(v) + 4} textAnchor="end" className="fill-ink-700 text-[11px]">
-              {formatNumber(v)}
+              {yTick(v)}
             </text>
           </g>
         ))}
