@@ -230,6 +230,8 @@ test('the PI keeps a two-campaign comparison with a model; a team member opens i
     an.page.waitForEvent('download'),
     an.page.getByRole('button', { name: 'Figure (PNG)' }).click(),
   ]);
+  await pngDownload.saveAs('.data/test/comparison-figure.png'); // kept to look at
+  await svgDownload.saveAs('.data/test/comparison-figure.svg');
   const png = readFileSync((await pngDownload.path()) as string);
   expect([...png.subarray(0, 8)]).toEqual([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]);
   const viewBoxWidth = Number(/viewBox="0 0 ([\d.]+) /.exec(svgText)?.[1]);
