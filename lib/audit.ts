@@ -53,6 +53,9 @@ export const AUDIT_ACTIONS = [
   'file.deletion_requested',
   'file.deleted',
   'export.created',
+  // campaign comparison (issue 13)
+  'comparison.saved',
+  'comparison.deleted',
 ] as const;
 export type AuditAction = (typeof AUDIT_ACTIONS)[number];
 

@@ -50,6 +50,8 @@ export class SavedComparison extends Model<InferAttributes<SavedComparison>, Inf
   declare team_id: number;
   declare slug: string;
   declare title: string;
+  /** Free text beside the title (migration 2026.12.04T02.00.00). */
+  declare note: CreationOptional<string | null>;
   declare spec: Record<string, unknown>;
   declare created_by: number | null;
   declare created_at: CreationOptional<Date>;
@@ -114,6 +116,7 @@ export function initAuditModels(sequelize: Sequelize): void {
       team_id: fk(),
       slug: { type: DataTypes.STRING(32), allowNull: false, unique: true },
       title: { type: DataTypes.STRING(160), allowNull: false },
+      note: { type: DataTypes.TEXT, allowNull: true },
       spec: { type: DataTypes.JSON, allowNull: false },
       created_by: fk(true),
       ...stampColumns(),

@@ -27,6 +27,8 @@ SECTIONS=(
   "LOAD|npx tsx scripts/bench/load-app.ts"
   # precision of the lobe angles (several minutes; scripts/bench/precision.ts --realisations 10 for a quick look)
   "PRECISION|npx tsx scripts/bench/precision.ts"
+  # model overlays of the comparison page: single trajectories computed and from the cache (issue 13)
+  "MODELS|npx tsx scripts/bench/comparison-models.ts"
 )
 
 want=("$@")

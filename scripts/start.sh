@@ -215,6 +215,7 @@ if [ -f scripts/demo-scans.ts ] && [ -s "$SEED_OUT" ] && [ -n "$WORKER_PID" ] &&
     echo "WARNING: the demo scans could not all be added (see above); Lobeline runs anyway." >&2
   fi
   "$BIN/tsx" scripts/demo-events.ts 2>&1 | tee -a "$DEMO_OUT" || echo "WARNING: the demo event campaign could not be added." >&2
+  [ -f scripts/demo-comparison.ts ] && { "$BIN/tsx" scripts/demo-comparison.ts || echo "WARNING: no demo comparison was kept." >&2; }
 fi
 
 echo

@@ -92,6 +92,8 @@ const ACTION_WORDS: Record<AuditAction, string> = {
   'file.deletion_requested': 'Deletion requested',
   'file.deleted': 'File deleted',
   'export.created': 'Export created',
+  'comparison.saved': 'Comparison saved',
+  'comparison.deleted': 'Comparison deleted',
 };
 
 const TARGET_WORDS: Record<string, string> = {

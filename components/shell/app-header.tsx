@@ -16,6 +16,7 @@ export function navItemsFor(actor: Actor, currentTeamId: number | null): NavItem
   if (currentTeamId && can(actor, 'shift.open', scope)) items.push({ href: '/shifts/new', label: 'Open a shift' });
   if (currentTeamId && can(actor, 'campaign.create', scope))
     items.push({ href: '/campaigns/new', label: 'New campaign' });
+  if (can(actor, 'result.view')) items.push({ href: '/comparisons', label: 'Compare' });
   if (can(actor, 'audit.view') || can(actor, 'audit.view.all') || can(actor, 'admin.audit')) {
     items.push({ href: '/admin/audit', label: 'Audit trail' });
   }

@@ -20,6 +20,7 @@
 //
 // Expected statuses come from PRODUCT.md ("Who uses it" and the capability each route serves), written out here
 // independently of the code: a route that answers differently fails its row.
+import { randomBytes } from 'node:crypto';
 import { readdirSync, readFileSync, statSync } from 'node:fs';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
@@ -170,6 +171,21 @@ const versionRows = (kind: 'calibration' | 'settings'): Row[] => {
     },
   ];
 };
+
+/** A saved comparison of the team's campaign (issue 13), made directly in the table; returns its address id. */
+async function freshComparison(w: World, t: TeamData): Promise<string> {
+  const { SavedComparison } = await import('@/models');
+  const slug = randomBytes(6).toString('hex'); // 12 of [0-9a-f]: a valid address id
+  await SavedComparison.create({
+    team_id: t.teamId,
+    slug,
+    title: w.unique('matrix comparison'),
+    spec: { selection: { campaignIds: [t.campaignId], scanIds: [] } },
+    created_by: t.ownerId,
+  });
+  return slug;
+}
+const comparisonPath = (slug: string) => ({ path: `/api/comparisons/${slug}`, params: { comparisonId: slug } });
 
 const BOGUS_TOKEN = 'A'.repeat(43);
 
@@ -431,6 +447,60 @@ const ROWS: Row[] = [
     method: 'GET',
     request: ({ t }) => campaignPath(t, '/helicity'),
     expect: memberRead(),
+  },
+
+  // CAMPAIGN COMPARISON (C8, C9; issue 13) //
+  // Step points of chosen campaigns: results, checked per campaign (another team's campaign answers 404).
+  {
+    route: '/api/comparisons/points',
+    method: 'GET',
+    request: ({ t }) => ({ path: '/api/comparisons/points', query: { campaigns: t.campaignId } }),
+    expect: memberRead(),
+  },
+  // Model overlays and the campaigns to pick from: anyone who reads results in some team; not the steward or admin.
+  {
+    route: '/api/comparisons/models',
+    method: 'GET',
+    request: () => ({
+      path: '/api/comparisons/models',
+      query: { target: 'He', wavelengthNm: 800, ellipticity: 0.87, intensities: '2e14,4e14', models: 'simple_man' },
+    }),
+    expect: { operator: 200, analyst: 200, pi: 200, steward: 403, admin: 403, signedOut: 401 },
+  },
+  {
+    route: '/api/comparisons/sources',
+    method: 'GET',
+    request: () => ({ path: '/api/comparisons/sources' }),
+    expect: { operator: 200, analyst: 200, pi: 200, steward: 403, admin: 403, signedOut: 401 },
+  },
+  {
+    route: '/api/comparisons',
+    method: 'GET',
+    request: () => ({ path: '/api/comparisons' }),
+    expect: { operator: 200, analyst: 200, pi: 200, steward: 403, admin: 403, signedOut: 401 },
+  },
+  // Saving one for a team: the PI of that team (the team is named in the body: another team's is 403).
+  {
+    route: '/api/comparisons',
+    method: 'POST',
+    request: ({ w, t, teamId }) => ({
+      path: '/api/comparisons',
+      body: { title: w.unique('matrix comparison'), teamId, spec: { selection: { campaignIds: [t.campaignId] } } },
+    }),
+    expect: { operator: 403, analyst: 403, pi: [201, 403], steward: 403, admin: 403, signedOut: 401 },
+  },
+  // A saved comparison by its address: members of its team who read results; the PI deletes.
+  {
+    route: '/api/comparisons/[comparisonId]',
+    method: 'GET',
+    request: async ({ w, t }) => comparisonPath(await freshComparison(w, t)),
+    expect: memberRead(),
+  },
+  {
+    route: '/api/comparisons/[comparisonId]',
+    method: 'DELETE',
+    request: async ({ w, t }) => comparisonPath(await freshComparison(w, t)),
+    expect: piOnly(200),
   },
 
   // INGEST (C2) //
