@@ -53,6 +53,9 @@ export const AUDIT_ACTIONS = [
   'file.deletion_requested',
   'file.deleted',
   'export.created',
+  // campaign citation metadata and records (C10, issue 14)
+  'citation.updated',
+  'citation.record_downloaded',
 ] as const;
 export type AuditAction = (typeof AUDIT_ACTIONS)[number];
 

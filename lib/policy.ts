@@ -55,6 +55,10 @@ export const TEAM_ACTIONS = [
   'calibration.approve',
   'comparison.create',
   'export.create',
+  // campaign citation metadata and citation records (C10, issue 14): every member reads them and downloads the
+  // records, the PI edits them; the steward does both for every team (FACILITY_EQUIVALENTS below)
+  'citation.view',
+  'citation.edit',
 ] as const;
 export type TeamAction = (typeof TEAM_ACTIONS)[number];
 
@@ -71,6 +75,8 @@ export const FACILITY_ACTIONS = [
   'deletion.confirm',
   'citation.export',
   'audit.view.all',
+  // campaign citation metadata (C10, issue 14): the steward edits it for every team
+  'citation.curate',
   // admin
   'admin.users',
   'admin.teams',
@@ -96,6 +102,7 @@ const OPERATOR: readonly TeamAction[] = [
   'shift.close',
   'shift.log',
   'upload.create',
+  'citation.view',
 ];
 
 const ANALYST: readonly TeamAction[] = [
@@ -122,6 +129,8 @@ const PI: readonly TeamAction[] = [
   'calibration.approve',
   'comparison.create',
   'export.create',
+  'citation.view',
+  'citation.edit',
 ];
 
 /** What each team role may do in its own team. */
@@ -144,6 +153,7 @@ export const PERMISSIONS_BY_FACILITY_ROLE: Record<FacilityRole, ReadonlySet<Faci
     'deletion.confirm',
     'citation.export',
     'audit.view.all',
+    'citation.curate',
   ]),
   admin: new Set<FacilityAction>(['admin.users', 'admin.teams', 'admin.memberships', 'admin.audit', 'admin.mailbox']),
 };
@@ -153,6 +163,9 @@ const FACILITY_EQUIVALENTS: Partial<Record<TeamAction, FacilityAction>> = {
   'team.view': 'campaign.metadata',
   'campaign.view': 'campaign.metadata',
   'shift.view': 'campaign.metadata',
+  // campaign citation metadata (C10, issue 14)
+  'citation.view': 'citation.export',
+  'citation.edit': 'citation.curate',
 };
 
 // FUNCTIONS //

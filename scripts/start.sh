@@ -40,7 +40,7 @@ print_phases() {
 }
 
 # ---------- 1. Debian packages ----------
-DEB_PACKAGES=(mariadb-server mariadb-client redis-server chromium python3-h5py python3-numpy python3-scipy)
+DEB_PACKAGES=(mariadb-server mariadb-client redis-server chromium python3-h5py python3-numpy python3-scipy libxml2-utils)
 install_packages() {
   local missing=() p
   for p in "${DEB_PACKAGES[@]}"; do

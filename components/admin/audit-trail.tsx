@@ -92,6 +92,8 @@ const ACTION_WORDS: Record<AuditAction, string> = {
   'file.deletion_requested': 'Deletion requested',
   'file.deleted': 'File deleted',
   'export.created': 'Export created',
+  'citation.updated': 'Citation metadata changed',
+  'citation.record_downloaded': 'Citation record downloaded',
 };
 
 const TARGET_WORDS: Record<string, string> = {

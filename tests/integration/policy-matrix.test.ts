@@ -518,6 +518,34 @@ const ROWS: Row[] = [
     },
     expect: analystOnly(200),
   },
+  // C10 (issue 14): a campaign's citation metadata. Every member reads it and downloads its records (schema.org
+  // needs no mandatory DataCite property, so it answers 200 on a bare campaign); the team's PI and the data
+  // steward (every team) edit it; analysts and operators do not, the admin sees nothing of any team.
+  {
+    route: '/api/campaigns/[campaignId]/citation',
+    method: 'GET',
+    request: ({ t }) => campaignPath(t, '/citation'),
+    expect: metadataRead(),
+  },
+  {
+    route: '/api/campaigns/[campaignId]/citation',
+    method: 'PUT',
+    request: ({ t, role }) => ({
+      ...campaignPath(t, '/citation'),
+      body: {
+        description: `Matrix row by ${role}.`,
+        licence: 'CC-BY-4.0',
+        creators: [{ nameType: 'Personal', givenName: 'Ada', familyName: 'Quill', orcid: '0000-0002-1825-0097' }],
+      },
+    }),
+    expect: teamObject({ operator: 403, analyst: 403, pi: 200, steward: 200 }),
+  },
+  {
+    route: '/api/campaigns/[campaignId]/citation/record',
+    method: 'GET',
+    request: ({ t }) => ({ ...campaignPath(t, '/citation/record'), query: { format: 'schema-org' } }),
+    expect: metadataRead(),
+  },
 
   // SHIFTS (C2) //
   // The shift page, its log and its receipt (files, sizes, checksums, problems): metadata the steward may read.
