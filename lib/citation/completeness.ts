@@ -56,29 +56,42 @@ export function citationItems(c: CitationBody): CompletenessItem[] {
   ];
 }
 
+/** Keys of ScanMetadata behind the file's recommended items (the register's SQL reads them from the JSON). */
+export const FILE_OPTIONAL_KEYS = [
+  'title',
+  'ellipticity',
+  'helicity',
+  'pulseDurationFs',
+  'detectorDescription',
+  'nominalMomentumPerPixelAu',
+  'xAxis',
+  'yAxis',
+] as const;
+
+const FILE_LABELS: Record<(typeof FILE_OPTIONAL_KEYS)[number], string> = {
+  title: 'file title',
+  ellipticity: 'ellipticity',
+  helicity: 'helicity',
+  pulseDurationFs: 'pulse duration',
+  detectorDescription: 'detector description',
+  nominalMomentumPerPixelAu: 'nominal momentum scale',
+  xAxis: 'x axis',
+  yAxis: 'y axis',
+};
+
 export function fileItems(meta: ScanMetadata | null): CompletenessItem[] {
-  const has = (v: unknown) => v !== null && v !== undefined && v !== '';
-  const rec = (key: string, label: string, v: unknown): CompletenessItem => ({
-    key: `file.${key}`,
-    label,
-    level: 'recommended',
-    present: !!meta && has(v),
-  });
+  // present = stated (not null): the same rule as metadataCompleteness in lib/db/queries/ingest.ts
+  const has = (v: unknown) => v !== null && v !== undefined;
   return [
-    {
-      key: 'file.metadata',
-      label: 'readable file metadata',
-      level: 'required',
-      present: !!meta,
-    },
-    rec('title', 'file title', meta?.title),
-    rec('ellipticity', 'ellipticity', meta?.ellipticity),
-    rec('helicity', 'helicity', meta?.helicity),
-    rec('pulseDurationFs', 'pulse duration', meta?.pulseDurationFs),
-    rec('detectorDescription', 'detector description', meta?.detectorDescription),
-    rec('nominalMomentumPerPixelAu', 'nominal momentum scale', meta?.nominalMomentumPerPixelAu),
-    rec('xAxis', 'x axis', meta?.xAxis),
-    rec('yAxis', 'y axis', meta?.yAxis),
+    { key: 'file.metadata', label: 'readable file metadata', level: 'required', present: !!meta },
+    ...FILE_OPTIONAL_KEYS.map(
+      (key): CompletenessItem => ({
+        key: `file.${key}`,
+        label: FILE_LABELS[key],
+        level: 'recommended',
+        present: !!meta && has(meta[key]),
+      }),
+    ),
   ];
 }
 
@@ -91,3 +104,7 @@ export function summarize(items: CompletenessItem[]): Completeness {
     items,
   };
 }
+
+/** How many items citationItems and fileItems weigh (for the register's sort expression in SQL). */
+export const CITATION_ITEM_COUNT = 12;
+export const FILE_ITEM_COUNT = 9;

@@ -540,6 +540,13 @@ const ROWS: Row[] = [
     }),
     expect: teamObject({ operator: 403, analyst: 403, pi: 200, steward: 200 }),
   },
+  // C10 (issue 14): the data steward's register of every team's raw files (catalogue metadata, no team in the path).
+  {
+    route: '/api/stewardship/files',
+    method: 'GET',
+    request: ({ teamId }) => ({ path: '/api/stewardship/files', query: { teamId } }),
+    expect: { operator: 403, analyst: 403, pi: 403, steward: 200, admin: 403, signedOut: 401 },
+  },
   {
     route: '/api/campaigns/[campaignId]/citation/record',
     method: 'GET',
