@@ -439,6 +439,7 @@ export function CitationEditor({ campaignId }: { campaignId: number }) {
                         <Button
                           size="sm"
                           variant="ghost"
+                          className="justify-self-start"
                           onClick={() => set({ funding: f.funding.filter((_, j) => j !== i) })}
                         >
                           Remove
@@ -517,6 +518,7 @@ export function CitationEditor({ campaignId }: { campaignId: number }) {
                         <Button
                           size="sm"
                           variant="ghost"
+                          className="justify-self-start"
                           onClick={() => set({ relatedIdentifiers: f.relatedIdentifiers.filter((_, j) => j !== i) })}
                         >
                           Remove

@@ -130,12 +130,19 @@ export function FileRegister() {
         </span>
       ),
     },
-    { key: 'size', header: 'Size', sortable: true, align: 'right', render: (r) => formatBytes(r.sizeBytes) },
+    {
+      key: 'size',
+      header: 'Size',
+      sortable: true,
+      align: 'right',
+      className: 'whitespace-nowrap tabular-nums',
+      render: (r) => formatBytes(r.sizeBytes),
+    },
     {
       key: 'storage',
       header: 'Stored in',
       render: (r) => (
-        <span className="text-micro text-ink-700" title={r.storageKey}>
+        <span className="whitespace-nowrap text-micro text-ink-700" title={r.storageKey}>
           {r.bucket}
           <span className="block text-ink-500">{r.storageClass}</span>
         </span>
