@@ -59,6 +59,8 @@ export const TEAM_ACTIONS = [
   // records, the PI edits them; the steward does both for every team (FACILITY_EQUIVALENTS below)
   'citation.view',
   'citation.edit',
+  // the second step of a deletion a data steward asked for (C10, issue 14): the team's PI confirms it
+  'deletion.approve',
 ] as const;
 export type TeamAction = (typeof TEAM_ACTIONS)[number];
 
@@ -83,6 +85,8 @@ export const FACILITY_ACTIONS = [
   'admin.memberships',
   'admin.audit',
   'admin.mailbox',
+  // the second step of a deletion a data steward asked for (C10, issue 14): an administrator confirms it
+  'deletion.approve.any',
 ] as const;
 export type FacilityAction = (typeof FACILITY_ACTIONS)[number];
 
@@ -131,6 +135,7 @@ const PI: readonly TeamAction[] = [
   'export.create',
   'citation.view',
   'citation.edit',
+  'deletion.approve',
 ];
 
 /** What each team role may do in its own team. */
@@ -155,7 +160,14 @@ export const PERMISSIONS_BY_FACILITY_ROLE: Record<FacilityRole, ReadonlySet<Faci
     'audit.view.all',
     'citation.curate',
   ]),
-  admin: new Set<FacilityAction>(['admin.users', 'admin.teams', 'admin.memberships', 'admin.audit', 'admin.mailbox']),
+  admin: new Set<FacilityAction>([
+    'admin.users',
+    'admin.teams',
+    'admin.memberships',
+    'admin.audit',
+    'admin.mailbox',
+    'deletion.approve.any',
+  ]),
 };
 
 /** Team actions a facility role may perform on any team (read-only metadata views for stewards). */
