@@ -11,8 +11,9 @@ import type { CitationBody } from '@/lib/citation/schema';
 import { FUNDER_IDENTIFIER_TYPES, RELATED_IDENTIFIER_TYPES, RELATION_TYPES } from '@/lib/citation/vocabulary';
 import type { CitationDto } from '@/lib/db/queries/citations';
 import { formatDateTime } from '@/lib/format';
+import { CampaignRetentionPanel } from './campaign-retention';
 
-type CitationResponse = CitationDto & { can: { edit: boolean } };
+type CitationResponse = CitationDto & { can: { edit: boolean; retention: boolean } };
 
 // FORM STATE (strings while typing; the server turns them into the schema's values) //
 
@@ -598,6 +599,7 @@ export function CitationEditor({ campaignId }: { campaignId: number }) {
               </p>
             ) : null}
           </Panel>
+          <CampaignRetentionPanel campaignId={campaignId} value={data.campaign} editable={data.can.retention} />
           <Panel title="Records">
             {embargo ? (
               <p className="mb-3 rounded-md bg-flare-50 px-3 py-2 text-small text-flare-800 ring-1 ring-flare-200">

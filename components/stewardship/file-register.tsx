@@ -18,6 +18,7 @@ import { compactInputClass } from '@/components/ui/input-class';
 import { apiFetch } from '@/lib/api/client';
 import type { RegisterRowDto } from '@/lib/db/queries/file-register';
 import { formatBytes, formatDateTime, formatDay } from '@/lib/format';
+import { FileRowActions } from './file-actions';
 
 const PAGE_SIZE = 25;
 
@@ -45,13 +46,15 @@ function CompletenessCell({ c }: { c: RegisterRowDto['completeness'] }) {
         <span className="tabular-nums font-medium text-ink-800">{pct} %</span>
       </div>
       {missing.length ? (
-        <p className="mt-1 max-w-64 text-micro text-ink-500" title={missing.join(', ')}>
+        <p className="mt-1 max-w-56 text-micro text-ink-500" title={missing.join(', ')}>
           {c.requiredMissing.length ? (
-            <span className="text-fault-600">needs {c.requiredMissing.join(', ')}</span>
+            <span className="text-fault-600">
+              needs {c.requiredMissing.slice(0, 3).join(', ')}
+              {c.requiredMissing.length > 3 ? ` +${c.requiredMissing.length - 3}` : ''}
+            </span>
           ) : null}
           {c.requiredMissing.length && c.recommendedMissing.length ? '; ' : ''}
-          {c.recommendedMissing.length ? `could add ${c.recommendedMissing.slice(0, 3).join(', ')}` : ''}
-          {c.recommendedMissing.length > 3 ? ` and ${c.recommendedMissing.length - 3} more` : ''}
+          {c.recommendedMissing.length ? `${c.recommendedMissing.length} recommended missing` : ''}
         </p>
       ) : null}
     </div>
@@ -65,6 +68,7 @@ export function FileRegister() {
   const [campaignId, setCampaignId] = useState('');
   const [completeness, setCompleteness] = useState('');
   const [embargo, setEmbargo] = useState('');
+  const [hold, setHold] = useState('');
   const [text, setText] = useState('');
   const [q, setQ] = useState('');
   useEffect(() => {
@@ -72,7 +76,7 @@ export function FileRegister() {
     return () => clearTimeout(t);
   }, [text]);
   // biome-ignore lint/correctness/useExhaustiveDependencies: back to page 1 whenever a filter changes
-  useEffect(() => setPage(1), [teamId, campaignId, completeness, embargo, q]);
+  useEffect(() => setPage(1), [teamId, campaignId, completeness, embargo, hold, q]);
 
   const params = new URLSearchParams({
     page: String(page),
@@ -85,6 +89,7 @@ export function FileRegister() {
   if (campaignId) params.set('campaignId', campaignId);
   if (completeness) params.set('completeness', completeness);
   if (embargo) params.set('embargo', embargo);
+  if (hold) params.set('hold', hold);
   if (q) params.set('q', q);
   const query = useQuery({
     queryKey: ['stewardship', 'files', params.toString()],
@@ -104,6 +109,7 @@ export function FileRegister() {
             {r.fileName}
           </p>
           <p className="truncate text-micro text-ink-500">stored {formatDateTime(r.storedAt)}</p>
+          <FileRowActions row={r} />
         </div>
       ),
     },
@@ -158,7 +164,24 @@ export function FileRegister() {
       key: 'retention',
       header: 'Keep until',
       sortable: true,
-      render: (r) => (r.retentionUntil ? formatDay(r.retentionUntil) : <span className="text-ink-500">not set</span>),
+      render: (r) => (
+        <div className="whitespace-nowrap">
+          {r.retentionUntil ? formatDay(r.retentionUntil) : <span className="text-ink-500">not set</span>}
+          {r.retentionUntil && !r.retentionOwn ? (
+            <span className="block text-micro text-ink-500">campaign's</span>
+          ) : null}
+          {r.legalHold ? (
+            <span className="mt-1 block">
+              <Badge tone="bad">legal hold</Badge>
+            </span>
+          ) : null}
+          {r.deletion ? (
+            <span className="mt-1 block">
+              <Badge tone="warn">{r.deletion.state === 'waiting' ? 'deletion asked' : 'deletion confirmed'}</Badge>
+            </span>
+          ) : null}
+        </div>
+      ),
     },
     {
       key: 'embargo',
@@ -199,6 +222,11 @@ export function FileRegister() {
         eyebrow="Data stewardship"
         title="File register"
         description="Every raw file stored for every team: where it lives, its checksum, how completely it and its campaign are described, and how long it must be kept. Metadata only: results, images and maps stay with their teams."
+        actions={
+          <Link href="/deletions" className="text-small font-medium text-lobe-700 hover:underline">
+            Deletions waiting for a second person
+          </Link>
+        }
       />
       <Panel
         flush
@@ -266,6 +294,19 @@ export function FileRegister() {
               <option value="">Embargoed or not</option>
               <option value="embargoed">Under embargo</option>
               <option value="open">No embargo</option>
+            </select>
+            <label className="sr-only" htmlFor="reg-hold">
+              Holds and deletions
+            </label>
+            <select
+              id="reg-hold"
+              className={compactInputClass()}
+              value={hold}
+              onChange={(e) => setHold(e.target.value)}
+            >
+              <option value="">Held or not</option>
+              <option value="held">Under legal hold</option>
+              <option value="deletion">Deletion asked</option>
             </select>
             <label className="sr-only" htmlFor="reg-q">
               Search by file name or checksum

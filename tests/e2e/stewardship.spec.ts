@@ -4,9 +4,12 @@
 // fix the completeness reads 100 % and the DataCite XML downloads, well-formed by Debian's xmllint, with the DOI
 // and the ORCID URI in it. The campaign is the seeded "He 800 nm elliptical" (scripts/seed.ts).
 import { spawnSync } from 'node:child_process';
+import { randomBytes } from 'node:crypto';
 import { readFileSync } from 'node:fs';
 import { expect, test } from '@playwright/test';
-import { DEMO, signIn } from './helpers/auth';
+import { getDb } from '@/lib/db';
+import { Campaign, RawFile, Scan, Shift } from '@/models';
+import { DEMO, signIn, signOut } from './helpers/auth';
 
 const SHOTS = '.data/test/shots';
 
@@ -82,8 +85,111 @@ test('steward: file register, citation metadata to full, DataCite XML download',
   expect(xml).toContain('https://orcid.org/0000-0002-1825-0097');
   expect(xml).toContain('<resourceType resourceTypeGeneral="Dataset">');
 
+  // an embargo set here keeps the files out of the records and says when they become available
+  const retention = page.getByTestId('campaign-retention');
+  await retention.getByLabel('Embargo until').fill('2099-06-30');
+  await retention.getByRole('button', { name: 'Save retention' }).click();
+  await expect(retention.getByText('Saved.')).toBeVisible();
+  await expect(page.getByText('Under embargo until 2099-06-30')).toBeVisible();
+  await page.screenshot({ path: `${SHOTS}/citation-embargo.png`, fullPage: true });
+  const json = await page.request.get(`/api/campaigns/${he!.id}/citation/record`, {
+    params: { format: 'datacite-json' },
+  });
+  const record = (await json.json()) as { sizes: string[]; dates: { date: string; dateType: string }[] };
+  expect(record.sizes).toEqual([]);
+  expect(record.dates).toEqual([expect.objectContaining({ date: '2099-06-30', dateType: 'Available' })]);
+  await retention.getByLabel('Embargo until').fill('');
+  await retention.getByRole('button', { name: 'Save retention' }).click();
+  await expect(page.getByText('Under embargo until')).toHaveCount(0);
+
   // the change and the download are in the audit trail
   const audit = await page.request.get('/api/audit', { params: { action: 'citation.' } });
   const events = ((await audit.json()) as { events: { action: string }[] }).events.map((e) => e.action);
   expect(events).toEqual(expect.arrayContaining(['citation.updated', 'citation.record_downloaded']));
+});
+
+// Two people delete a file: the steward asks in the register, the PI of the team confirms on the deletions page
+// (issue 14: "a PI cannot delete anything alone"; the server-side rules are in tests/integration/deletion.test.ts).
+// The file is a catalogue row made here in the seeded He campaign, kept until 2020-01-01, so it may be deleted.
+test('steward asks to delete a file past its retention, the PI confirms it', async ({ page }) => {
+  getDb();
+  const campaign = await Campaign.findOne({ where: { name: 'He 800 nm elliptical' } });
+  const shift = await Shift.findOne({ where: { campaign_id: campaign!.id } });
+  const name = `old-alignment-run-${randomBytes(4).toString('hex')}.h5`;
+  const raw = await RawFile.create({
+    team_id: campaign!.team_id,
+    sha256: randomBytes(32).toString('hex'),
+    bucket: process.env.S3_BUCKET_RAW ?? 'lobeline-test-raw',
+    storage_key: `raw/e2e/${name}`,
+    size_bytes: 1234,
+    original_name: name,
+    status: 'accepted',
+    quarantine_reasons: null,
+    metadata: null,
+    metadata_completeness: null,
+    uploaded_by: null,
+    verified_at: new Date(),
+    released_by: null,
+    released_at: null,
+    replaced_by_id: null,
+    archived_at: null,
+    archive_key: null,
+    embargo_until: null,
+    retention_until: '2020-01-01',
+    last_fixity_at: null,
+    last_fixity_ok: null,
+    deleted_at: null,
+  });
+  await Scan.create({
+    team_id: campaign!.team_id,
+    campaign_id: campaign!.id,
+    shift_id: shift!.id,
+    raw_file_id: raw.id,
+    experiment_kind: 'angular_streaking',
+    title: name,
+    target: 'He',
+    wavelength_nm: 800,
+    ellipticity: null,
+    helicity: null,
+    step_quantity: null,
+    n_steps: null,
+    n_y: null,
+    n_x: null,
+    started_at: null,
+    status: 'uploaded',
+    status_message: null,
+    flag_note: null,
+    latest_result_id: null,
+    offset_deg: null,
+    offset_err_deg: null,
+    created_by: null,
+  });
+
+  await signIn(page, DEMO.steward);
+  await page.goto('/stewardship');
+  await page.getByLabel('Search by file name or checksum').fill(name);
+  const register = page.getByTestId('file-register');
+  await expect(register.getByText(name)).toBeVisible();
+  await expect(register).toContainText('1 Jan 2020');
+  await register.getByRole('button', { name: 'Ask to delete…' }).click();
+  const dialog = page.getByRole('alertdialog');
+  await expect(dialog).toContainText('cannot be undone');
+  await dialog.getByLabel('Reason (kept in the audit trail)').fill('Alignment run, superseded; past its retention.');
+  await dialog.getByRole('button', { name: 'Ask for deletion' }).click();
+  await expect(register).toContainText('deletion asked');
+  await page.screenshot({ path: `${SHOTS}/steward-deletion-asked.png`, fullPage: true });
+  await signOut(page);
+
+  await signIn(page, DEMO.pi);
+  await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Deletions' }).click();
+  const queue = page.getByTestId('deletion-queue');
+  const item = queue.getByRole('listitem').filter({ hasText: name });
+  await expect(item).toContainText('Alignment run, superseded');
+  await page.screenshot({ path: `${SHOTS}/pi-deletion-queue.png`, fullPage: true });
+  await item.getByRole('button', { name: 'Confirm deletion' }).click();
+  await expect(page.getByRole('alertdialog')).toContainText('cannot be restored');
+  await page.getByRole('alertdialog').getByRole('button', { name: 'Delete the stored file' }).click();
+  await expect(queue.getByText(name)).toHaveCount(0);
+  await raw.reload();
+  expect(raw.deleted_at).not.toBeNull();
 });

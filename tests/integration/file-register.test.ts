@@ -157,6 +157,38 @@ describe('the steward file register', () => {
     }
   });
 
+  it("shows the campaign's retention where the file has none, holds and pending deletions, and filters by them", async () => {
+    const { Campaign, DeletionRequest } = await import('@/models');
+    await Campaign.update({ retention_until: '2031-03-31', legal_hold: true }, { where: { id: w.campaignA } });
+    const bigId = extra[0]!;
+    await RawFile.update({ retention_until: '2020-01-01' }, { where: { id: bigId } });
+    const req = await DeletionRequest.create({
+      raw_file_id: bigId,
+      requested_by: w.users.steward,
+      confirmed_by: null,
+      reason: 'register test',
+      confirmed_at: null,
+      cancelled_at: null,
+    });
+    try {
+      actAs(w.users.steward);
+      const j = (await list({ campaignId: w.campaignA, pageSize: 100 })).json as Loose;
+      const big = j.rows.find((x: Loose) => x.id === bigId);
+      expect(big).toMatchObject({ retentionUntil: '2020-01-01', retentionOwn: true, legalHold: true });
+      expect(big.deletion).toEqual({ requestId: req.id, state: 'waiting' });
+      const tiny = j.rows.find((x: Loose) => x.id === extra[2]);
+      expect(tiny).toMatchObject({ retentionUntil: '2031-03-31', retentionOwn: false, deletion: null });
+      const pending = (await list({ hold: 'deletion', pageSize: 100 })).json as Loose;
+      expect(pending.rows.map((x: Loose) => x.id)).toContain(bigId);
+      expect(pending.rows.map((x: Loose) => x.id)).not.toContain(extra[2]);
+      const held = (await list({ hold: 'held', teamId: w.teamB, pageSize: 100 })).json as Loose;
+      expect(held.total).toBe(0);
+    } finally {
+      await req.update({ cancelled_at: new Date() });
+      await Campaign.update({ retention_until: null, legal_hold: false }, { where: { id: w.campaignA } });
+    }
+  });
+
   it('is the steward’s alone: team roles and the admin are refused', async () => {
     for (const who of ['operator', 'analyst', 'pi', 'admin'] as const) {
       actAs(w.users[who]);

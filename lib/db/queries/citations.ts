@@ -19,6 +19,9 @@ export interface CitationDto {
     wavelengthNm: number;
     experimentKind: string;
     embargoUntil: string | null;
+    retentionUntil: string | null;
+    legalHold: boolean;
+    legalHoldNote: string | null;
   };
   citation: CitationBody;
   completeness: Completeness;
@@ -76,6 +79,9 @@ export async function getCitation({ campaignId }: { campaignId: number }): Promi
         wavelengthNm: Number(campaign.wavelength_nm),
         experimentKind: campaign.experiment_kind,
         embargoUntil: campaign.embargo_until ?? null,
+        retentionUntil: campaign.retention_until ?? null,
+        legalHold: !!campaign.legal_hold,
+        legalHoldNote: campaign.legal_hold_note ?? null,
       },
       citation,
       completeness: summarize(citationItems(citation)),
@@ -147,7 +153,14 @@ export async function getCitationContext({
 }): Promise<CitationContext> {
   const dto = await getCitation({ campaignId });
   return {
-    campaign: { id: campaignId, ...dto.campaign },
+    campaign: {
+      id: campaignId,
+      name: dto.campaign.name,
+      target: dto.campaign.target,
+      wavelengthNm: dto.campaign.wavelengthNm,
+      experimentKind: dto.campaign.experimentKind,
+      embargoUntil: dto.campaign.embargoUntil,
+    },
     citation: dto.citation,
     files: dto.files,
     today: new Date().toISOString().slice(0, 10),

@@ -38,6 +38,8 @@ export interface RegisterFilter {
   completeness?: 'complete' | 'incomplete';
   embargo?: 'embargoed' | 'open';
   archive?: 'live' | 'archived';
+  /** Files under a legal hold, or with a deletion asked for. */
+  hold?: 'held' | 'deletion';
   sort: RegisterSort;
   dir: 'asc' | 'desc';
   page: number;
@@ -59,8 +61,14 @@ export interface RegisterRowDto {
   status: string;
   storedAt: string;
   completeness: { score: number; requiredMissing: string[]; recommendedMissing: string[] };
+  /** The file's own retention date, else its campaign's. */
   retentionUntil: string | null;
+  /** Whether retentionUntil is the file's own (true) or its campaign's. */
+  retentionOwn: boolean;
   embargoUntil: string | null;
+  legalHold: boolean;
+  /** An open deletion request (asked for, not yet carried out or withdrawn). */
+  deletion: { requestId: number; state: 'waiting' | 'confirmed' } | null;
   /** "live" until archiving exists (archived_at is set by nothing yet). */
   archiveState: 'live' | 'archived';
   lastFixityAt: string | null;
@@ -76,6 +84,8 @@ const SCORE_SQL = `((COALESCE(cc.items_present, 0) + IF(rf.metadata IS NULL, 0, 
   stated,
 ).join(' + ')})) / ${CITATION_ITEM_COUNT + FILE_ITEM_COUNT})`;
 const EMBARGO_SQL = 'COALESCE(rf.embargo_until, c.embargo_until)';
+// A file's own retention date wins over its campaign's (lib/stewardship/deletion-rules.ts effectiveRetention).
+const RETENTION_SQL = 'COALESCE(rf.retention_until, c.retention_until)';
 
 const ORDER: Record<RegisterSort, string> = {
   file: 'rf.original_name',
@@ -83,7 +93,7 @@ const ORDER: Record<RegisterSort, string> = {
   campaign: 'c.name',
   size: 'rf.size_bytes',
   completeness: SCORE_SQL,
-  retention: 'rf.retention_until',
+  retention: RETENTION_SQL,
   embargo: EMBARGO_SQL,
   fixity: 'rf.last_fixity_at',
   stored: 'rf.created_at',
@@ -106,7 +116,11 @@ interface Row {
   metadata: unknown;
   citation_body: unknown;
   retention_until: string | Date | null;
+  retention_own: number | boolean;
   embargo_until: string | Date | null;
+  legal_hold: number | boolean;
+  deletion_id: number | null;
+  deletion_confirmed: number | boolean | null;
   archived_at: Date | string | null;
   last_fixity_at: Date | string | null;
   last_fixity_ok: number | boolean | null;
@@ -136,6 +150,8 @@ export async function listRegister(f: RegisterFilter): Promise<{ rows: RegisterR
   if (f.completeness === 'incomplete') where.push(`${SCORE_SQL} < 1`);
   if (f.embargo === 'embargoed') where.push(`${EMBARGO_SQL} > UTC_DATE()`);
   if (f.embargo === 'open') where.push(`(${EMBARGO_SQL} IS NULL OR ${EMBARGO_SQL} <= UTC_DATE())`);
+  if (f.hold === 'held') where.push('(rf.legal_hold OR COALESCE(c.legal_hold, 0))');
+  if (f.hold === 'deletion') where.push('d.id IS NOT NULL');
   if (f.archive === 'archived') where.push('rf.archived_at IS NOT NULL');
   if (f.archive === 'live') where.push('rf.archived_at IS NULL');
   // A file's campaign is the campaign of its first scan (a duplicate sent to another campaign links the same file).
@@ -144,6 +160,8 @@ export async function listRegister(f: RegisterFilter): Promise<{ rows: RegisterR
       LEFT JOIN scans s ON s.id = (SELECT MIN(s2.id) FROM scans s2 WHERE s2.raw_file_id = rf.id)
       LEFT JOIN campaigns c ON c.id = s.campaign_id
       LEFT JOIN campaign_citations cc ON cc.campaign_id = c.id
+      LEFT JOIN deletion_requests d ON d.id = (SELECT MAX(d2.id) FROM deletion_requests d2
+                 WHERE d2.raw_file_id = rf.id AND d2.cancelled_at IS NULL AND d2.object_removed_at IS NULL)
      WHERE ${where.join(' AND ')}`;
   const dir = f.dir === 'asc' ? 'ASC' : 'DESC';
   try {
@@ -153,7 +171,10 @@ export async function listRegister(f: RegisterFilter): Promise<{ rows: RegisterR
       db.query<Row>(
         `SELECT rf.id, rf.original_name, rf.team_id, t.name AS team_name, c.id AS campaign_id, c.name AS campaign_name,
                 rf.sha256, rf.size_bytes, rf.bucket, rf.storage_key, rf.storage_class, rf.status, rf.created_at,
-                rf.metadata, cc.body AS citation_body, rf.retention_until, ${EMBARGO_SQL} AS embargo_until,
+                rf.metadata, cc.body AS citation_body, ${RETENTION_SQL} AS retention_until,
+                rf.retention_until IS NOT NULL AS retention_own, ${EMBARGO_SQL} AS embargo_until,
+                (rf.legal_hold OR COALESCE(c.legal_hold, 0)) AS legal_hold, d.id AS deletion_id,
+                d.confirmed_at IS NOT NULL AS deletion_confirmed,
                 rf.archived_at, rf.last_fixity_at, rf.last_fixity_ok
            ${from}
           ORDER BY ${ORDER[f.sort]} ${dir}, rf.id ${dir}
@@ -192,7 +213,12 @@ export async function listRegister(f: RegisterFilter): Promise<{ rows: RegisterR
             recommendedMissing: c.recommendedMissing,
           },
           retentionUntil: day(row.retention_until),
+          retentionOwn: !!row.retention_own,
           embargoUntil: day(row.embargo_until),
+          legalHold: !!row.legal_hold,
+          deletion: row.deletion_id
+            ? { requestId: row.deletion_id, state: row.deletion_confirmed ? 'confirmed' : 'waiting' }
+            : null,
           archiveState: row.archived_at ? 'archived' : 'live',
           lastFixityAt: row.last_fixity_at ? new Date(row.last_fixity_at).toISOString() : null,
           lastFixityOk: row.last_fixity_ok === null ? null : !!row.last_fixity_ok,

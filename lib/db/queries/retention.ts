@@ -187,6 +187,7 @@ export interface DeletionRequestDto {
   sha256: string;
   reason: string;
   requestedBy: string | null;
+  requestedById: number | null;
   requestedAt: string;
   confirmedBy: string | null;
   confirmedAt: string | null;
@@ -213,6 +214,7 @@ async function toDto(r: DeletionRequest): Promise<DeletionRequestDto> {
     sha256: file?.sha256 ?? '',
     reason: r.reason,
     requestedBy: r.requested_by ? (names.get(r.requested_by) ?? null) : null,
+    requestedById: r.requested_by,
     requestedAt: new Date(r.created_at).toISOString(),
     confirmedBy: r.confirmed_by ? (names.get(r.confirmed_by) ?? null) : null,
     confirmedAt: r.confirmed_at ? new Date(r.confirmed_at).toISOString() : null,

@@ -15,6 +15,7 @@ const query = z.object({
   completeness: z.enum(['complete', 'incomplete']).optional(),
   embargo: z.enum(['embargoed', 'open']).optional(),
   archive: z.enum(['live', 'archived']).optional(),
+  hold: z.enum(['held', 'deletion']).optional(),
   sort: z.enum(REGISTER_SORTS).default('stored'),
   dir: z.enum(['asc', 'desc']).default('desc'),
   page: z.coerce.number().int().min(1).max(100_000).default(1),

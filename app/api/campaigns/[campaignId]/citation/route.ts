@@ -9,7 +9,10 @@ import { campaignFor, campaignParams } from '../access';
 export const GET = apiRoute({ params: campaignParams }, async ({ actor, params }) => {
   const teamId = await campaignFor(actor, params.campaignId, 'citation.view');
   const dto = await getCitation({ campaignId: params.campaignId });
-  return { ...dto, can: { edit: can(actor, 'citation.edit', { teamId }) } };
+  return {
+    ...dto,
+    can: { edit: can(actor, 'citation.edit', { teamId }), retention: can(actor, 'retention.manage') },
+  };
 });
 
 export const PUT = apiRoute(
@@ -17,6 +20,6 @@ export const PUT = apiRoute(
   async ({ actor, params, body, ip }) => {
     const teamId = await campaignFor(actor, params.campaignId, 'citation.edit');
     const dto = await saveCitation({ campaignId: params.campaignId, teamId, body, actor, ip });
-    return { ...dto, can: { edit: true } };
+    return { ...dto, can: { edit: true, retention: can(actor, 'retention.manage') } };
   },
 );
