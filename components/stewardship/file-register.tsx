@@ -35,7 +35,7 @@ function CompletenessCell({ c }: { c: RegisterRowDto['completeness'] }) {
   const pct = Math.round(c.score * 100);
   const missing = [...c.requiredMissing, ...c.recommendedMissing];
   return (
-    <div className="min-w-44">
+    <div className="min-w-36">
       <div className="flex items-center gap-2">
         <div className="h-1.5 w-20 overflow-hidden rounded-full bg-ink-100" aria-hidden="true">
           <div
@@ -46,7 +46,7 @@ function CompletenessCell({ c }: { c: RegisterRowDto['completeness'] }) {
         <span className="tabular-nums font-medium text-ink-800">{pct} %</span>
       </div>
       {missing.length ? (
-        <p className="mt-1 max-w-56 text-micro text-ink-500" title={missing.join(', ')}>
+        <p className="mt-1 max-w-48 text-micro text-ink-500" title={missing.join(', ')}>
           {c.requiredMissing.length ? (
             <span className="text-fault-600">
               needs {c.requiredMissing.slice(0, 3).join(', ')}
@@ -132,7 +132,7 @@ export function FileRegister() {
       header: 'SHA-256',
       render: (r) => (
         <span className="font-mono text-micro text-ink-700" title={r.sha256}>
-          {r.sha256.slice(0, 12)}…
+          {r.sha256.slice(0, 8)}…
         </span>
       ),
     },

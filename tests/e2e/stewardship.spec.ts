@@ -169,6 +169,8 @@ test('steward asks to delete a file past its retention, the PI confirms it', asy
   await page.goto('/stewardship');
   await page.getByLabel('Search by file name or checksum').fill(name);
   const register = page.getByTestId('file-register');
+  // the server answers the search with this one file
+  await expect(page.getByRole('heading', { name: '1 file', exact: true })).toBeVisible();
   await expect(register.getByText(name)).toBeVisible();
   await expect(register).toContainText('1 Jan 2020');
   await register.getByRole('button', { name: 'Ask to delete…' }).click();
