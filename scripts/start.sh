@@ -216,6 +216,8 @@ if [ -f scripts/demo-scans.ts ] && [ -s "$SEED_OUT" ] && [ -n "$WORKER_PID" ] &&
   fi
 fi
 
+[ -f scripts/demo-citation.ts ] && [ -s "$SEED_OUT" ] && { "$BIN/tsx" scripts/demo-citation.ts || echo "WARNING: demo citation data not added." >&2; }
+
 echo
 print_phases
 echo
