@@ -110,14 +110,38 @@ test('steward: file register, citation metadata to full, DataCite XML download',
 
 // Two people delete a file: the steward asks in the register, the PI of the team confirms on the deletions page
 // (issue 14: "a PI cannot delete anything alone"; the server-side rules are in tests/integration/deletion.test.ts).
-// The file is a catalogue row made here in the seeded He campaign, kept until 2020-01-01, so it may be deleted.
+// The file is a catalogue row made here, kept until 2020-01-01, so it may be deleted.
 test('steward asks to delete a file past its retention, the PI confirms it', async ({ page }) => {
   getDb();
-  const campaign = await Campaign.findOne({ where: { name: 'He 800 nm elliptical' } });
-  const shift = await Shift.findOne({ where: { campaign_id: campaign!.id } });
-  const name = `old-alignment-run-${randomBytes(4).toString('hex')}.h5`;
+  // a campaign of its own in the angular streaking group, so the seeded campaigns other specs use stay as they were
+  const he = await Campaign.findOne({ where: { name: 'He 800 nm elliptical' } });
+  const hex = randomBytes(4).toString('hex');
+  const campaign = await Campaign.create({
+    team_id: he!.team_id,
+    name: `Retired alignment runs ${hex}`,
+    target: 'He',
+    wavelength_nm: 800,
+    experiment_kind: 'angular_streaking',
+    description: null,
+    created_by: null,
+    current_calibration_id: null,
+    current_settings_id: null,
+    embargo_until: null,
+  });
+  const shift = await Shift.create({
+    team_id: he!.team_id,
+    campaign_id: campaign.id,
+    title: 'Alignment',
+    status: 'closed',
+    opened_by: null,
+    opened_at: new Date(),
+    closed_by: null,
+    closed_at: new Date(),
+    receipt_sent_at: null,
+  });
+  const name = `old-alignment-run-${hex}.h5`;
   const raw = await RawFile.create({
-    team_id: campaign!.team_id,
+    team_id: campaign.team_id,
     sha256: randomBytes(32).toString('hex'),
     bucket: process.env.S3_BUCKET_RAW ?? 'lobeline-test-raw',
     storage_key: `raw/e2e/${name}`,
@@ -141,9 +165,9 @@ test('steward asks to delete a file past its retention, the PI confirms it', asy
     deleted_at: null,
   });
   await Scan.create({
-    team_id: campaign!.team_id,
-    campaign_id: campaign!.id,
-    shift_id: shift!.id,
+    team_id: campaign.team_id,
+    campaign_id: campaign.id,
+    shift_id: shift.id,
     raw_file_id: raw.id,
     experiment_kind: 'angular_streaking',
     title: name,
