@@ -143,6 +143,21 @@ describe('campaign citation metadata', () => {
     }
   });
 
+  it("a file under an embargo of its own is left out of the campaign's file summary", async () => {
+    actAs(w.users.steward);
+    await put(w.campaignA, FULL);
+    const before = ((await download(w.campaignA, 'datacite-json')).json as Loose).sizes as string[];
+    const { RawFile, Scan } = await import('@/models');
+    const scan = await Scan.findByPk(w.a.scanId);
+    await RawFile.update({ embargo_until: '2099-01-01' }, { where: { id: scan!.raw_file_id } });
+    try {
+      const after = ((await download(w.campaignA, 'datacite-json')).json as Loose).sizes as string[];
+      expect(Number.parseInt(before[0]!, 10) - Number.parseInt(after[0] ?? '0', 10)).toBe(1);
+    } finally {
+      await RawFile.update({ embargo_until: null }, { where: { id: scan!.raw_file_id } });
+    }
+  });
+
   it('an operator reads it but may not change it', async () => {
     actAs(w.users.operator);
     expect((await callRoute(citation.GET, { method: 'GET', ...at(w.campaignA) })).status).toBe(200);

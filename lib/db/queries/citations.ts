@@ -49,11 +49,15 @@ function readBody(raw: unknown): CitationBody {
   return r.success ? r.data : EMPTY_CITATION;
 }
 
-/** Distinct stored raw files of the campaign (not replaced, not deleted): how many and how many bytes. */
+/**
+ * Distinct stored raw files of the campaign (not replaced, not deleted, not under an embargo of their own that
+ * outlasts today): how many and how many bytes. A file embargoed apart from its campaign stays out of the records.
+ */
 async function fileSummary(campaignId: number): Promise<{ count: number; totalBytes: number }> {
   const rows = await getDb().query<{ n: number | string; bytes: number | string | null }>(
     `SELECT COUNT(*) AS n, SUM(rf.size_bytes) AS bytes FROM raw_files rf
       WHERE rf.deleted_at IS NULL AND rf.status <> 'replaced'
+        AND (rf.embargo_until IS NULL OR rf.embargo_until <= UTC_DATE())
         AND rf.id IN (SELECT s.raw_file_id FROM scans s WHERE s.campaign_id = :campaignId)`,
     { replacements: { campaignId }, type: QueryTypes.SELECT },
   );
