@@ -56,6 +56,14 @@ export const AUDIT_ACTIONS = [
   // campaign comparison (issue 13)
   'comparison.saved',
   'comparison.deleted',
+  // campaign citation metadata and records (C10, issue 14)
+  'citation.updated',
+  'citation.record_downloaded',
+  // retention, embargo, legal hold and the two-step deletion (C10, issue 14)
+  'campaign.retention_set',
+  'file.deletion_confirmed',
+  'file.deletion_cancelled',
+  'file.deletion_refused',
 ] as const;
 export type AuditAction = (typeof AUDIT_ACTIONS)[number];
 

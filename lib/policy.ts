@@ -55,6 +55,12 @@ export const TEAM_ACTIONS = [
   'calibration.approve',
   'comparison.create',
   'export.create',
+  // campaign citation metadata and citation records (C10, issue 14): every member reads them and downloads the
+  // records, the PI edits them; the steward does both for every team (FACILITY_EQUIVALENTS below)
+  'citation.view',
+  'citation.edit',
+  // the second step of a deletion a data steward asked for (C10, issue 14): the team's PI confirms it
+  'deletion.approve',
 ] as const;
 export type TeamAction = (typeof TEAM_ACTIONS)[number];
 
@@ -71,12 +77,16 @@ export const FACILITY_ACTIONS = [
   'deletion.confirm',
   'citation.export',
   'audit.view.all',
+  // campaign citation metadata (C10, issue 14): the steward edits it for every team
+  'citation.curate',
   // admin
   'admin.users',
   'admin.teams',
   'admin.memberships',
   'admin.audit',
   'admin.mailbox',
+  // the second step of a deletion a data steward asked for (C10, issue 14): an administrator confirms it
+  'deletion.approve.any',
 ] as const;
 export type FacilityAction = (typeof FACILITY_ACTIONS)[number];
 
@@ -96,6 +106,7 @@ const OPERATOR: readonly TeamAction[] = [
   'shift.close',
   'shift.log',
   'upload.create',
+  'citation.view',
 ];
 
 const ANALYST: readonly TeamAction[] = [
@@ -122,6 +133,9 @@ const PI: readonly TeamAction[] = [
   'calibration.approve',
   'comparison.create',
   'export.create',
+  'citation.view',
+  'citation.edit',
+  'deletion.approve',
 ];
 
 /** What each team role may do in its own team. */
@@ -144,8 +158,16 @@ export const PERMISSIONS_BY_FACILITY_ROLE: Record<FacilityRole, ReadonlySet<Faci
     'deletion.confirm',
     'citation.export',
     'audit.view.all',
+    'citation.curate',
   ]),
-  admin: new Set<FacilityAction>(['admin.users', 'admin.teams', 'admin.memberships', 'admin.audit', 'admin.mailbox']),
+  admin: new Set<FacilityAction>([
+    'admin.users',
+    'admin.teams',
+    'admin.memberships',
+    'admin.audit',
+    'admin.mailbox',
+    'deletion.approve.any',
+  ]),
 };
 
 /** Team actions a facility role may perform on any team (read-only metadata views for stewards). */
@@ -153,6 +175,9 @@ const FACILITY_EQUIVALENTS: Partial<Record<TeamAction, FacilityAction>> = {
   'team.view': 'campaign.metadata',
   'campaign.view': 'campaign.metadata',
   'shift.view': 'campaign.metadata',
+  // campaign citation metadata (C10, issue 14)
+  'citation.view': 'citation.export',
+  'citation.edit': 'citation.curate',
 };
 
 // FUNCTIONS //

@@ -41,6 +41,8 @@ export class DeletionRequest extends Model<InferAttributes<DeletionRequest>, Inf
   declare reason: string;
   declare confirmed_at: Date | null;
   declare cancelled_at: Date | null;
+  /** When the stored object was removed (after the confirmation). */
+  declare object_removed_at: CreationOptional<Date | null>;
   declare created_at: CreationOptional<Date>;
   declare updated_at: CreationOptional<Date>;
 }
@@ -106,6 +108,7 @@ export function initAuditModels(sequelize: Sequelize): void {
       reason: { type: DataTypes.TEXT, allowNull: false },
       confirmed_at: { type: DataTypes.DATE(3), allowNull: true },
       cancelled_at: { type: DataTypes.DATE(3), allowNull: true },
+      object_removed_at: { type: DataTypes.DATE(3), allowNull: true },
       ...stampColumns(),
     },
     { sequelize, tableName: 'deletion_requests', ...modelOptions },

@@ -24,6 +24,10 @@ export class Campaign extends Model<InferAttributes<Campaign>, InferCreationAttr
   declare current_calibration_id: number | null;
   declare current_settings_id: number | null;
   declare embargo_until: string | null;
+  /** C10 (issue 14): keep the campaign's files until this day; a legal hold blocks deletion outright. */
+  declare retention_until: CreationOptional<string | null>;
+  declare legal_hold: CreationOptional<boolean>;
+  declare legal_hold_note: CreationOptional<string | null>;
   declare created_at: CreationOptional<Date>;
   declare updated_at: CreationOptional<Date>;
 }
@@ -73,6 +77,9 @@ export function initCampaignModels(sequelize: Sequelize): void {
       current_calibration_id: fk(true),
       current_settings_id: fk(true),
       embargo_until: { type: DataTypes.DATEONLY, allowNull: true },
+      retention_until: { type: DataTypes.DATEONLY, allowNull: true },
+      legal_hold: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: false },
+      legal_hold_note: { type: DataTypes.TEXT, allowNull: true },
       ...stampColumns(),
     },
     { sequelize, tableName: 'campaigns', ...modelOptions },

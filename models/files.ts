@@ -45,6 +45,8 @@ export class RawFile extends Model<InferAttributes<RawFile>, InferCreationAttrib
   declare last_fixity_at: Date | null;
   declare last_fixity_ok: boolean | null;
   declare deleted_at: Date | null;
+  /** C10 (issue 14): blocks deletion outright. */
+  declare legal_hold: CreationOptional<boolean>;
   declare created_at: CreationOptional<Date>;
   declare updated_at: CreationOptional<Date>;
 }
@@ -131,6 +133,7 @@ export function initFileModels(sequelize: Sequelize): void {
       last_fixity_at: { type: DataTypes.DATE(3), allowNull: true },
       last_fixity_ok: { type: DataTypes.BOOLEAN, allowNull: true },
       deleted_at: { type: DataTypes.DATE(3), allowNull: true },
+      legal_hold: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: false },
       ...stampColumns(),
     },
     { sequelize, tableName: 'raw_files', ...modelOptions },

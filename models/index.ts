@@ -14,6 +14,7 @@ import {
 } from './accounts';
 import { AuditEvent, DeletionRequest, FixityCheck, initAuditModels, SavedComparison } from './audit';
 import { Campaign, initCampaignModels, Shift, ShiftLogEntry } from './campaigns';
+import { CampaignCitation, initCitationModels } from './citations';
 import { initFileModels, RawFile, Scan, Upload } from './files';
 import {
   AnalysisSettingsVersion,
@@ -28,6 +29,7 @@ import {
 export * from './accounts';
 export * from './audit';
 export * from './campaigns';
+export * from './citations';
 export * from './files';
 export * from './reduction';
 
@@ -40,6 +42,7 @@ export function initModels(sequelize: Sequelize): void {
   initFileModels(sequelize);
   initReductionModels(sequelize);
   initAuditModels(sequelize);
+  initCitationModels(sequelize);
 
   User.hasMany(Membership, { foreignKey: 'user_id', as: 'memberships' });
   Membership.belongsTo(User, { foreignKey: 'user_id', as: 'user' });
@@ -79,6 +82,8 @@ export function initModels(sequelize: Sequelize): void {
   FixityCheck.belongsTo(RawFile, { foreignKey: 'raw_file_id', as: 'rawFile' });
   DeletionRequest.belongsTo(RawFile, { foreignKey: 'raw_file_id', as: 'rawFile' });
   SavedComparison.belongsTo(Team, { foreignKey: 'team_id', as: 'team' });
+  Campaign.hasOne(CampaignCitation, { foreignKey: 'campaign_id', as: 'citation' });
+  CampaignCitation.belongsTo(Campaign, { foreignKey: 'campaign_id', as: 'campaign' });
 
   initialised = sequelize;
 }

@@ -40,7 +40,7 @@ print_phases() {
 }
 
 # ---------- 1. Debian packages ----------
-DEB_PACKAGES=(mariadb-server mariadb-client redis-server chromium python3-h5py python3-numpy python3-scipy)
+DEB_PACKAGES=(mariadb-server mariadb-client redis-server chromium python3-h5py python3-numpy python3-scipy libxml2-utils)
 install_packages() {
   local missing=() p
   for p in "${DEB_PACKAGES[@]}"; do
@@ -217,6 +217,8 @@ if [ -f scripts/demo-scans.ts ] && [ -s "$SEED_OUT" ] && [ -n "$WORKER_PID" ] &&
   "$BIN/tsx" scripts/demo-events.ts 2>&1 | tee -a "$DEMO_OUT" || echo "WARNING: the demo event campaign could not be added." >&2
   [ -f scripts/demo-comparison.ts ] && { "$BIN/tsx" scripts/demo-comparison.ts || echo "WARNING: no demo comparison was kept." >&2; }
 fi
+
+[ -f scripts/demo-citation.ts ] && [ -s "$SEED_OUT" ] && { "$BIN/tsx" scripts/demo-citation.ts || echo "WARNING: demo citation data not added." >&2; }
 
 echo
 print_phases

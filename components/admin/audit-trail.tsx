@@ -94,6 +94,12 @@ const ACTION_WORDS: Record<AuditAction, string> = {
   'export.created': 'Export created',
   'comparison.saved': 'Comparison saved',
   'comparison.deleted': 'Comparison deleted',
+  'citation.updated': 'Citation metadata changed',
+  'citation.record_downloaded': 'Citation record downloaded',
+  'campaign.retention_set': 'Campaign retention or embargo set',
+  'file.deletion_confirmed': 'Deletion confirmed',
+  'file.deletion_cancelled': 'Deletion request withdrawn',
+  'file.deletion_refused': 'Deletion refused',
 };
 
 const TARGET_WORDS: Record<string, string> = {

@@ -57,11 +57,18 @@ export function CampaignView({ campaignId }: { campaignId: number }) {
           .filter(Boolean)
           .join(' · ')}
         actions={
-          can.viewCalibration ? (
-            <LinkButton href={`/campaigns/${c.id}/calibration`} variant="secondary" size="sm">
-              Calibration &amp; settings
-            </LinkButton>
-          ) : null
+          <>
+            {can.viewCalibration ? (
+              <LinkButton href={`/campaigns/${c.id}/calibration`} variant="secondary" size="sm">
+                Calibration &amp; settings
+              </LinkButton>
+            ) : null}
+            {can.viewCitation ? (
+              <LinkButton href={`/campaigns/${c.id}/citation`} variant="secondary" size="sm">
+                Citation record
+              </LinkButton>
+            ) : null}
+          </>
         }
       />
       <div className="grid gap-6 lg:grid-cols-3">

@@ -10,6 +10,7 @@ export interface CampaignResponse {
     approveCalibration: boolean;
     startReduction: boolean;
     upload: boolean;
+    viewCitation: boolean;
   };
 }
 export interface ScanPage {

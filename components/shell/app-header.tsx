@@ -20,6 +20,10 @@ export function navItemsFor(actor: Actor, currentTeamId: number | null): NavItem
   if (can(actor, 'audit.view') || can(actor, 'audit.view.all') || can(actor, 'admin.audit')) {
     items.push({ href: '/admin/audit', label: 'Audit trail' });
   }
+  // C10: the data steward's register of every team's stored files
+  if (can(actor, 'rawfile.metadata')) items.push({ href: '/stewardship', label: 'File register' });
+  else if (can(actor, 'deletion.approve') || can(actor, 'deletion.approve.any'))
+    items.push({ href: '/deletions', label: 'Deletions' });
   if (can(actor, 'admin.users')) items.push({ href: '/admin/users', label: 'Users' });
   if (can(actor, 'admin.teams')) items.push({ href: '/admin/teams', label: 'Teams' });
   if (can(actor, 'admin.mailbox') && process.env.MAIL_CATCHER_DIR)

@@ -32,6 +32,7 @@ vi.mock('server-only', () => ({}));
 const { callRoute } = await import('./helpers/call');
 const { actAs, clearSession } = await import('./helpers/session');
 const { makeWorld } = await import('./helpers/world');
+const { freshDeletableFile, freshDeletionRequest } = await import('./helpers/stewardship');
 const { closeSequelize } = await import('@/lib/db');
 const { closeMailTransport, sendMail } = await import('@/lib/mail/transport');
 const { closeReductionQueue } = await import('@/lib/queue/reduction-queue');
@@ -587,6 +588,108 @@ const ROWS: Row[] = [
       };
     },
     expect: analystOnly(200),
+  },
+  // C10 (issue 14): a campaign's citation metadata. Every member reads it and downloads its records (schema.org
+  // needs no mandatory DataCite property, so it answers 200 on a bare campaign); the team's PI and the data
+  // steward (every team) edit it; analysts and operators do not, the admin sees nothing of any team.
+  {
+    route: '/api/campaigns/[campaignId]/citation',
+    method: 'GET',
+    request: ({ t }) => campaignPath(t, '/citation'),
+    expect: metadataRead(),
+  },
+  {
+    route: '/api/campaigns/[campaignId]/citation',
+    method: 'PUT',
+    request: ({ t, role }) => ({
+      ...campaignPath(t, '/citation'),
+      body: {
+        description: `Matrix row by ${role}.`,
+        licence: 'CC-BY-4.0',
+        creators: [{ nameType: 'Personal', givenName: 'Ada', familyName: 'Quill', orcid: '0000-0002-1825-0097' }],
+      },
+    }),
+    expect: teamObject({ operator: 403, analyst: 403, pi: 200, steward: 200 }),
+  },
+  // C10 (issue 14): the data steward's register of every team's raw files (catalogue metadata, no team in the path).
+  {
+    route: '/api/stewardship/files',
+    method: 'GET',
+    request: ({ teamId }) => ({ path: '/api/stewardship/files', query: { teamId } }),
+    expect: { operator: 403, analyst: 403, pi: 403, steward: 200, admin: 403, signedOut: 401 },
+  },
+  // C10 (issue 14): retention, embargo and legal hold are the data steward's (every team); team members see the
+  // campaign or file but may not set them (403), other teams' ids and the admin get 404.
+  {
+    route: '/api/campaigns/[campaignId]/retention',
+    method: 'PUT',
+    request: ({ t }) => ({
+      ...campaignPath(t, '/retention'),
+      body: { retentionUntil: '2036-12-31', embargoUntil: null, legalHold: false },
+    }),
+    expect: teamObject({ operator: 403, analyst: 403, pi: 403, steward: 200 }),
+  },
+  {
+    route: '/api/raw-files/[id]/retention',
+    method: 'PUT',
+    request: async ({ w, t }) => {
+      const { rawFileId } = await freshDeletableFile(w, t);
+      return {
+        path: `/api/raw-files/${rawFileId}/retention`,
+        params: { id: String(rawFileId) },
+        body: { retentionUntil: '2020-01-01', embargoUntil: null, legalHold: false },
+      };
+    },
+    expect: teamObject({ operator: 403, analyst: 403, pi: 403, steward: 200 }),
+  },
+  // Two-step deletion: the steward asks (201), a PI of the team or an administrator confirms; nobody else.
+  {
+    route: '/api/raw-files/[id]/deletion',
+    method: 'POST',
+    request: async ({ w, t }) => {
+      const { rawFileId } = await freshDeletableFile(w, t);
+      return {
+        path: `/api/raw-files/${rawFileId}/deletion`,
+        params: { id: String(rawFileId) },
+        body: { reason: 'matrix: past retention, no longer needed' },
+      };
+    },
+    expect: teamObject({ operator: 403, analyst: 403, pi: 403, steward: 201 }),
+  },
+  {
+    route: '/api/deletion-requests',
+    method: 'GET',
+    request: ({ teamId }) => ({ path: '/api/deletion-requests', query: { teamId } }),
+    expect: { operator: 403, analyst: 403, pi: [200, 403], steward: 200, admin: 200, signedOut: 401 },
+  },
+  {
+    route: '/api/deletion-requests/[requestId]/confirm',
+    method: 'POST',
+    request: async ({ w, t }) => {
+      const id = await freshDeletionRequest(w, t, w.users.steward);
+      return { path: `/api/deletion-requests/${id}/confirm`, params: { requestId: String(id) } };
+    },
+    expect: { operator: [403, 404], analyst: [403, 404], pi: [200, 404], steward: 403, admin: 200, signedOut: 401 },
+  },
+  {
+    // The steward who asked may withdraw; a PI of the team or an administrator may refuse.
+    route: '/api/deletion-requests/[requestId]/cancel',
+    method: 'POST',
+    request: async ({ w, t }) => {
+      const id = await freshDeletionRequest(w, t, w.users.steward);
+      return {
+        path: `/api/deletion-requests/${id}/cancel`,
+        params: { requestId: String(id) },
+        body: { reason: 'matrix: the data are still needed' },
+      };
+    },
+    expect: { operator: [403, 404], analyst: [403, 404], pi: [200, 404], steward: 200, admin: 200, signedOut: 401 },
+  },
+  {
+    route: '/api/campaigns/[campaignId]/citation/record',
+    method: 'GET',
+    request: ({ t }) => ({ ...campaignPath(t, '/citation/record'), query: { format: 'schema-org' } }),
+    expect: metadataRead(),
   },
 
   // SHIFTS (C2) //

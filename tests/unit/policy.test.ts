@@ -59,10 +59,22 @@ const TEAM_TABLE: Record<TeamAction, { operator: boolean; analyst: boolean; pi: 
   'calibration.approve': { operator: false, analyst: false, pi: true },
   'comparison.create': { operator: false, analyst: false, pi: true },
   'export.create': { operator: false, analyst: false, pi: true },
+  // C10 (issue 14): citation metadata is read by the team and edited by its PI (and by stewards, below)
+  'citation.view': { operator: true, analyst: true, pi: true },
+  'citation.edit': { operator: false, analyst: false, pi: true },
+  // C10 (issue 14): a deletion a steward asked for is confirmed by the team's PI (or an administrator, below)
+  'deletion.approve': { operator: false, analyst: false, pi: true },
 };
 
 /** Team actions a steward may perform on any team: reading catalogue metadata only. */
-const STEWARD_TEAM_ACTIONS: TeamAction[] = ['team.view', 'campaign.view', 'shift.view'];
+const STEWARD_TEAM_ACTIONS: TeamAction[] = [
+  'team.view',
+  'campaign.view',
+  'shift.view',
+  // C10: the steward reads and edits every campaign's citation metadata (PRODUCT.md: stewards export citations)
+  'citation.view',
+  'citation.edit',
+];
 
 const STEWARD_FACILITY: FacilityAction[] = [
   'campaign.metadata',
@@ -75,6 +87,7 @@ const STEWARD_FACILITY: FacilityAction[] = [
   'deletion.confirm',
   'citation.export',
   'audit.view.all',
+  'citation.curate',
 ];
 const ADMIN_FACILITY: FacilityAction[] = [
   'admin.users',
@@ -82,6 +95,8 @@ const ADMIN_FACILITY: FacilityAction[] = [
   'admin.memberships',
   'admin.audit',
   'admin.mailbox',
+  // C10 (issue 14): the second person of a two-step deletion may be an administrator
+  'deletion.approve.any',
 ];
 
 describe('team roles in their own team', () => {

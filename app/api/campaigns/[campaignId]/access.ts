@@ -33,6 +33,7 @@ export function campaignAbilities(actor: Actor, teamId: number) {
     approveCalibration: can(actor, 'calibration.approve', { teamId }),
     startReduction: can(actor, 'reduction.start', { teamId }),
     upload: can(actor, 'upload.create', { teamId }),
+    viewCitation: can(actor, 'citation.view', { teamId }),
   };
 }
 

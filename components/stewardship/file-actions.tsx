@@ -1,0 +1,123 @@
+'use client';
+// The steward's actions on one row of the file register (C10): the file's own retention, embargo and legal hold,
+// and asking for its deletion (step one of two; a PI of the team or an administrator confirms on the deletion page).
+import { useMutation, useQueryClient } from '@tanstack/react-query';
+import { useState } from 'react';
+import { ConfirmDialog, Field, inputClass } from '@/components/ui';
+import { apiFetch, detailsByField } from '@/lib/api/client';
+import type { RegisterRowDto } from '@/lib/db/queries/file-register';
+
+export function FileRowActions({ row }: { row: RegisterRowDto }) {
+  const qc = useQueryClient();
+  const [open, setOpen] = useState<'retention' | 'delete' | null>(null);
+  const [retention, setRetention] = useState(row.retentionOwn ? (row.retentionUntil ?? '') : '');
+  const [embargo, setEmbargo] = useState(row.embargoUntil ?? '');
+  const [hold, setHold] = useState(row.legalHold);
+  const [reason, setReason] = useState('');
+  const refresh = () => qc.invalidateQueries({ queryKey: ['stewardship'] });
+  const saveRetention = useMutation({
+    mutationFn: () =>
+      apiFetch(`/api/raw-files/${row.id}/retention`, {
+        method: 'PUT',
+        json: { retentionUntil: retention || null, embargoUntil: embargo || null, legalHold: hold },
+      }),
+    onSuccess: async () => {
+      await refresh();
+      setOpen(null);
+    },
+  });
+  const askDeletion = useMutation({
+    mutationFn: () => apiFetch(`/api/raw-files/${row.id}/deletion`, { method: 'POST', json: { reason } }),
+    onSuccess: async () => {
+      await refresh();
+      setOpen(null);
+    },
+  });
+  const retentionErrors = detailsByField(saveRetention.error);
+  const deleteErrors = detailsByField(askDeletion.error);
+  return (
+    <div className="mt-1 flex flex-wrap gap-x-3 text-micro">
+      <button type="button" className="font-medium text-lobe-700 hover:underline" onClick={() => setOpen('retention')}>
+        Retention…
+      </button>
+      {row.deletion ? null : (
+        <button type="button" className="font-medium text-fault-600 hover:underline" onClick={() => setOpen('delete')}>
+          Ask to delete…
+        </button>
+      )}
+      {open === 'retention' ? (
+        <ConfirmDialog
+          title={`Retention of ${row.fileName}`}
+          confirmLabel="Save"
+          busy={saveRetention.isPending}
+          onConfirm={() => saveRetention.mutate()}
+          onCancel={() => setOpen(null)}
+        >
+          <div className="space-y-3">
+            <p className="text-small text-ink-600">
+              Set these only where this file differs from its campaign; empty fields follow the campaign.
+            </p>
+            <Field
+              label="Keep until (YYYY-MM-DD)"
+              value={retention}
+              placeholder="2036-12-31"
+              error={retentionErrors.retentionUntil}
+              onChange={(e) => setRetention(e.target.value)}
+            />
+            <Field
+              label="Embargo until (YYYY-MM-DD)"
+              value={embargo}
+              hint="Until this day the citation records name the dataset but not its files."
+              error={retentionErrors.embargoUntil}
+              onChange={(e) => setEmbargo(e.target.value)}
+            />
+            <label className="flex items-center gap-2 text-small text-ink-800">
+              <input type="checkbox" checked={hold} onChange={(e) => setHold(e.target.checked)} />
+              Legal hold: this file may not be deleted while the hold lasts
+            </label>
+            {saveRetention.error && !Object.keys(retentionErrors).length ? (
+              <p role="alert" className="text-small text-fault-600">
+                {saveRetention.error.message}
+              </p>
+            ) : null}
+          </div>
+        </ConfirmDialog>
+      ) : null}
+      {open === 'delete' ? (
+        <ConfirmDialog
+          title={`Ask to delete ${row.fileName}?`}
+          confirmLabel="Ask for deletion"
+          tone="danger"
+          busy={askDeletion.isPending}
+          onConfirm={() => askDeletion.mutate()}
+          onCancel={() => setOpen(null)}
+        >
+          <div className="space-y-3">
+            <p className="text-small text-ink-700">
+              Nothing is deleted yet. A PI of {row.teamName} or an administrator must confirm; only then is the stored
+              file removed, and that cannot be undone. Files under a legal hold, or still inside their retention period,
+              cannot be asked for.
+            </p>
+            <Field label="Reason (kept in the audit trail)" error={deleteErrors.reason}>
+              {({ id, invalid }) => (
+                <textarea
+                  id={id}
+                  rows={3}
+                  aria-invalid={invalid || undefined}
+                  className={inputClass(invalid)}
+                  value={reason}
+                  onChange={(e) => setReason(e.target.value)}
+                />
+              )}
+            </Field>
+            {askDeletion.error && !deleteErrors.reason ? (
+              <p role="alert" className="text-small text-fault-600">
+                {askDeletion.error.message}
+              </p>
+            ) : null}
+          </div>
+        </ConfirmDialog>
+      ) : null}
+    </div>
+  );
+}
