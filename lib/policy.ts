@@ -74,7 +74,6 @@ export const FACILITY_ACTIONS = [
   'retention.manage',
   'fixity.run',
   'deletion.request',
-  'deletion.confirm',
   'citation.export',
   'audit.view.all',
   // campaign citation metadata (C10, issue 14): the steward edits it for every team
@@ -155,7 +154,6 @@ export const PERMISSIONS_BY_FACILITY_ROLE: Record<FacilityRole, ReadonlySet<Faci
     'retention.manage',
     'fixity.run',
     'deletion.request',
-    'deletion.confirm',
     'citation.export',
     'audit.view.all',
     'citation.curate',

@@ -84,7 +84,6 @@ const STEWARD_FACILITY: FacilityAction[] = [
   'retention.manage',
   'fixity.run',
   'deletion.request',
-  'deletion.confirm',
   'citation.export',
   'audit.view.all',
   'citation.curate',
