@@ -26,6 +26,7 @@ import {
   type Checker,
   dtypeName,
   type OpenScanOptions,
+  openFromScratch,
   openScanBytes,
   openScanFile,
   readBytes,
@@ -289,18 +290,7 @@ export function openEventBytes(
   scratchPath: string,
   options: OpenEventOptions = {},
 ): OpenEventResult {
-  const FS = rt.Module.FS;
-  FS.writeFile(scratchPath, bytes);
-  const remove = () => {
-    try {
-      FS.unlink(scratchPath);
-    } catch {
-      // already gone
-    }
-  };
-  const r = openEventFile(rt, scratchPath, options, remove);
-  if (!r.ok) remove();
-  return r;
+  return openFromScratch(rt, bytes, scratchPath, (remove) => openEventFile(rt, scratchPath, options, remove));
 }
 
 /** Like `openEventFile` but throws `ScanFileRefusedError` with every problem. */

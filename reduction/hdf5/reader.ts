@@ -610,6 +610,20 @@ export function openScanBytes(
   scratchPath: string,
   options: OpenScanOptions = {},
 ): OpenScanResult {
+  return openFromScratch(rt, bytes, scratchPath, (remove) => openInternal(rt, scratchPath, options, remove));
+}
+
+/**
+ * Writes `bytes` to `scratchPath` in the module's file system and opens it with `open`, which receives the function
+ * that removes the scratch file (to be called on close); a refused file is removed at once. Shared by the image and
+ * the event reader.
+ */
+export function openFromScratch<R extends { ok: boolean }>(
+  rt: H5Runtime,
+  bytes: Uint8Array,
+  scratchPath: string,
+  open: (remove: () => void) => R,
+): R {
   const FS = rt.Module.FS;
   FS.writeFile(scratchPath, bytes);
   const remove = () => {
@@ -619,7 +633,7 @@ export function openScanBytes(
       // already gone
     }
   };
-  const r = openInternal(rt, scratchPath, options, remove);
+  const r = open(remove);
   if (!r.ok) remove();
   return r;
 }
