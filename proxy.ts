@@ -13,7 +13,8 @@ import { type NextRequest, NextResponse } from 'next/server';
 import { getToken } from 'next-auth/jwt';
 import { checkRedirectTarget } from '@/lib/auth/redirect';
 
-const PUBLIC_PREFIXES = ['/sign-in', '/invite', '/reset-password'];
+// '/data': the public landing pages of campaigns (C10); whether one may be shown is lib/policy.ts's 'landing.read'.
+const PUBLIC_PREFIXES = ['/sign-in', '/invite', '/reset-password', '/data'];
 
 export function isPublicPath(pathname: string): boolean {
   return PUBLIC_PREFIXES.some((p) => pathname === p || pathname.startsWith(`${p}/`));

@@ -1,6 +1,6 @@
 // The audit trail (C13): who did what, when, to what, from where, and whether it was allowed.
 // Rows are only ever inserted. A failure to write the trail is logged, never shown to the user.
-import type { Transaction } from 'sequelize';
+import { QueryTypes, type Transaction } from 'sequelize';
 import { getDb } from '@/lib/db';
 import { log } from '@/lib/log';
 import { AuditEvent } from '@/models';
@@ -64,6 +64,9 @@ export const AUDIT_ACTIONS = [
   'file.deletion_confirmed',
   'file.deletion_cancelled',
   'file.deletion_refused',
+  // public landing pages of campaigns (C10, issue 14)
+  'campaign.landing_published',
+  'campaign.landing_withdrawn',
 ] as const;
 export type AuditAction = (typeof AUDIT_ACTIONS)[number];
 
@@ -77,12 +80,65 @@ export interface AuditEntry {
   ip?: string | null;
   outcome?: 'ok' | 'refused' | 'failed';
   details?: Record<string, unknown> | null;
+  /** The campaign the event belongs to, when the caller knows it (otherwise found from the target; see below). */
+  campaignId?: number | null;
+}
+
+const SHA256_HEX = /^[0-9a-f]{64}$/i;
+
+/** Campaign of a target that lives inside one (a scan, shift, upload or raw file), from the database. */
+const CAMPAIGN_OF_TARGET: Record<string, string> = {
+  scan: 'SELECT campaign_id AS c FROM scans WHERE id = :id',
+  shift: 'SELECT campaign_id AS c FROM shifts WHERE id = :id',
+  upload: 'SELECT s.campaign_id AS c FROM uploads u JOIN shifts s ON s.id = u.shift_id WHERE u.id = :id',
+  raw_file: 'SELECT MIN(campaign_id) AS c FROM scans WHERE raw_file_id = :id',
+};
+
+/**
+ * The campaign and object checksum an event is searched by (audit_events.campaign_id / sha256): from the entry,
+ * its details (`campaignId`, `sha256`) or its target. A failed lookup leaves them empty and never fails the change.
+ */
+async function searchKeys(
+  entry: AuditEntry,
+  transaction: Transaction | undefined,
+): Promise<{ campaignId: number | null; sha256: string | null }> {
+  const d = entry.details ?? {};
+  let campaignId =
+    entry.campaignId ??
+    (Number.isInteger(d.campaignId) ? (d.campaignId as number) : null) ??
+    (entry.targetType === 'campaign' && /^\d+$/.test(String(entry.targetId ?? '')) ? Number(entry.targetId) : null);
+  let sha256 = typeof d.sha256 === 'string' && SHA256_HEX.test(d.sha256) ? d.sha256.toLowerCase() : null;
+  const id = Number(entry.targetId);
+  if (!entry.targetType || !Number.isInteger(id)) return { campaignId, sha256 };
+  try {
+    const sql = CAMPAIGN_OF_TARGET[entry.targetType];
+    if (campaignId === null && sql) {
+      const rows = await getDb().query<{ c: number | null }>(sql, {
+        replacements: { id },
+        type: QueryTypes.SELECT,
+        transaction,
+      });
+      campaignId = rows[0]?.c ?? null;
+    }
+    if (sha256 === null && entry.targetType === 'raw_file') {
+      const rows = await getDb().query<{ h: string }>('SELECT sha256 AS h FROM raw_files WHERE id = :id', {
+        replacements: { id },
+        type: QueryTypes.SELECT,
+        transaction,
+      });
+      sha256 = rows[0]?.h ?? null;
+    }
+  } catch (err) {
+    log.warn('audit search keys not found', { err, action: entry.action });
+  }
+  return { campaignId, sha256 };
 }
 
 /** Writes one audit event. Pass `transaction` to make it part of the change it records. */
 export async function recordAudit(entry: AuditEntry, options: { transaction?: Transaction } = {}): Promise<void> {
   try {
     getDb();
+    const keys = await searchKeys(entry, options.transaction);
     await AuditEvent.create(
       {
         at: new Date(),
@@ -95,6 +151,8 @@ export async function recordAudit(entry: AuditEntry, options: { transaction?: Tr
         ip: entry.ip ?? null,
         outcome: entry.outcome ?? 'ok',
         details: entry.details ?? null,
+        campaign_id: keys.campaignId,
+        sha256: keys.sha256,
       },
       { transaction: options.transaction },
     );

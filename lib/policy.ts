@@ -61,6 +61,8 @@ export const TEAM_ACTIONS = [
   'citation.edit',
   // the second step of a deletion a data steward asked for (C10, issue 14): the team's PI confirms it
   'deletion.approve',
+  // public landing pages (C10, issue 14): the PI publishes or withdraws the campaign's page; stewards for every team
+  'landing.publish',
 ] as const;
 export type TeamAction = (typeof TEAM_ACTIONS)[number];
 
@@ -86,6 +88,8 @@ export const FACILITY_ACTIONS = [
   'admin.mailbox',
   // the second step of a deletion a data steward asked for (C10, issue 14): an administrator confirms it
   'deletion.approve.any',
+  // public landing pages (C10, issue 14): a data steward publishes or withdraws any campaign's page
+  'landing.curate',
 ] as const;
 export type FacilityAction = (typeof FACILITY_ACTIONS)[number];
 
@@ -135,6 +139,7 @@ const PI: readonly TeamAction[] = [
   'citation.view',
   'citation.edit',
   'deletion.approve',
+  'landing.publish',
 ];
 
 /** What each team role may do in its own team. */
@@ -157,6 +162,7 @@ export const PERMISSIONS_BY_FACILITY_ROLE: Record<FacilityRole, ReadonlySet<Faci
     'citation.export',
     'audit.view.all',
     'citation.curate',
+    'landing.curate',
   ]),
   admin: new Set<FacilityAction>([
     'admin.users',
@@ -176,6 +182,8 @@ const FACILITY_EQUIVALENTS: Partial<Record<TeamAction, FacilityAction>> = {
   // campaign citation metadata (C10, issue 14)
   'citation.view': 'citation.export',
   'citation.edit': 'citation.curate',
+  // public landing pages (C10, issue 14)
+  'landing.publish': 'landing.curate',
 };
 
 // FUNCTIONS //
@@ -262,6 +270,41 @@ export function authorizeObject(
   authorize(actor, action, {
     teamId: scope.teamId,
     surface: scope.surface === 'calibration' || scope.surface === 'settings' ? 'campaign' : scope.surface,
+  });
+}
+
+// PUBLIC LANDING PAGES (C10, issue 14) //
+
+/**
+ * What anyone may see without signing in, on a campaign's public landing page (/data/<public id>):
+ * `landing.read` the citation metadata, only once a PI or steward has published the page ('landing.publish');
+ * `landing.files` the file list (names, sizes, checksums), only on a published page whose campaign is not under
+ * embargo. Results, images and maps are never public. Nothing is public by default.
+ */
+export const PUBLIC_ACTIONS = ['landing.read', 'landing.files'] as const;
+export type PublicAction = (typeof PUBLIC_ACTIONS)[number];
+
+export interface PublicSubject {
+  /** Whether the landing page is published now. */
+  published: boolean;
+  /** The campaign's embargo (YYYY-MM-DD, the first day the files are open) or null. */
+  embargoUntil: string | null;
+  /** Today, YYYY-MM-DD (UTC). */
+  today: string;
+}
+
+export function canPublic(action: PublicAction, subject: PublicSubject): boolean {
+  if (!subject.published) return false;
+  if (action === 'landing.read') return true;
+  return !subject.embargoUntil || subject.embargoUntil <= subject.today;
+}
+
+/** Throws the 404 of a campaign that does not exist unless anyone may perform `action` (so nothing is revealed). */
+export function authorizePublic(action: PublicAction, subject: PublicSubject | null): asserts subject is PublicSubject {
+  if (subject && canPublic(action, subject)) return;
+  throw new AppError('not_found:campaign', {
+    message: 'There is no public page at this address.',
+    context: { action, publicRefusal: true },
   });
 }
 

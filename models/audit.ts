@@ -21,6 +21,9 @@ export class AuditEvent extends Model<InferAttributes<AuditEvent>, InferCreation
   declare ip: string | null;
   declare outcome: CreationOptional<'ok' | 'refused' | 'failed'>;
   declare details: Record<string, unknown> | null;
+  /** The campaign the event belongs to and the SHA-256 of its object, when known (for searching; lib/audit.ts). */
+  declare campaign_id: CreationOptional<number | null>;
+  declare sha256: CreationOptional<string | null>;
 }
 
 export class FixityCheck extends Model<InferAttributes<FixityCheck>, InferCreationAttributes<FixityCheck>> {
@@ -84,6 +87,8 @@ export function initAuditModels(sequelize: Sequelize): void {
       ip: { type: DataTypes.STRING(64), allowNull: true },
       outcome: { type: DataTypes.ENUM('ok', 'refused', 'failed'), allowNull: false, defaultValue: 'ok' },
       details: { type: DataTypes.JSON, allowNull: true },
+      campaign_id: fk(true),
+      sha256: { type: DataTypes.CHAR(64), allowNull: true },
     },
     { sequelize, tableName: 'audit_events', timestamps: false, underscored: true },
   );

@@ -100,6 +100,8 @@ const ACTION_WORDS: Record<AuditAction, string> = {
   'file.deletion_confirmed': 'Deletion confirmed',
   'file.deletion_cancelled': 'Deletion request withdrawn',
   'file.deletion_refused': 'Deletion refused',
+  'campaign.landing_published': 'Public page published',
+  'campaign.landing_withdrawn': 'Public page withdrawn',
 };
 
 const TARGET_WORDS: Record<string, string> = {

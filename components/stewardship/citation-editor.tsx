@@ -12,6 +12,7 @@ import { FUNDER_IDENTIFIER_TYPES, RELATED_IDENTIFIER_TYPES, RELATION_TYPES } fro
 import type { CitationDto } from '@/lib/db/queries/citations';
 import { formatDateTime } from '@/lib/format';
 import { CampaignRetentionPanel } from './campaign-retention';
+import { LandingPanel } from './landing-panel';
 
 type CitationResponse = CitationDto & { can: { edit: boolean; retention: boolean } };
 
@@ -600,6 +601,7 @@ export function CitationEditor({ campaignId }: { campaignId: number }) {
             ) : null}
           </Panel>
           <CampaignRetentionPanel campaignId={campaignId} value={data.campaign} editable={data.can.retention} />
+          <LandingPanel campaignId={campaignId} underEmbargo={!!embargo} />
           <Panel title="Records">
             {embargo ? (
               <p className="mb-3 rounded-md bg-flare-50 px-3 py-2 text-small text-flare-800 ring-1 ring-flare-200">

@@ -1,9 +1,11 @@
 // GET /api/audit: the audit trail (C13), newest first, paged on the server.
-// Administrators and data stewards read every event; a PI reads the events of the teams they lead.
+// Administrators and data stewards read every event; a PI reads the events of the teams they lead. Filters: team,
+// kind of event (lib/audit-kinds.ts) or action prefix, who (part of an e-mail), outcome, campaign, object (a SHA-256
+// or its first 6+ hex digits, or part of a raw file's name) and UTC days.
 import { z } from 'zod';
 import { apiRoute, idParam } from '@/lib/api/route';
 import { listAuditEvents } from '@/lib/db/queries/accounts';
-import { auditTeamScope } from './scope';
+import { auditSearchFields, auditTeamScope, forReader, kindActions } from './scope';
 
 export const dynamic = 'force-dynamic';
 
@@ -16,6 +18,7 @@ const query = z.object({
     .regex(/^[a-z_.]*$/, 'use the action name, e.g. "auth." or "membership.changed"')
     .optional(),
   actor: z.string().trim().max(254).optional(),
+  ...auditSearchFields,
   outcome: z.enum(['ok', 'refused', 'failed']).optional(),
   /** First and last UTC day (YYYY-MM-DD), both included. */
   from: z
@@ -32,12 +35,19 @@ const query = z.object({
 
 export const GET = apiRoute({ query }, async ({ actor, query }) => {
   const teamIds = auditTeamScope(actor, query.teamId);
-  const { from, to, ...rest } = query;
+  const { from, to, kind, ...rest } = query;
   const { events, total } = await listAuditEvents({
     ...rest,
+    actions: kindActions(kind),
     teamIds,
     from: from ? new Date(`${from}T00:00:00Z`) : undefined,
     before: to ? new Date(Date.parse(`${to}T00:00:00Z`) + 86_400_000) : undefined,
   });
-  return { events, total, page: query.page, pageSize: query.pageSize, scope: teamIds === 'all' ? 'all' : 'teams' };
+  return {
+    events: forReader(actor, events),
+    total,
+    page: query.page,
+    pageSize: query.pageSize,
+    scope: teamIds === 'all' ? 'all' : 'teams',
+  };
 });

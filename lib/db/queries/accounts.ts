@@ -1,7 +1,7 @@
 import 'server-only';
 // Accounts, teams, memberships, facility roles, sign-in attempts: the data layer of lib/auth and the admin pages.
 // Every function takes one object argument and returns plain DTOs (never model instances, never password hashes).
-import { Op, type Transaction, UniqueConstraintError } from 'sequelize';
+import { literal, Op, type Transaction, UniqueConstraintError } from 'sequelize';
 import { recordAudit } from '@/lib/audit';
 import { getDb } from '@/lib/db';
 import { AppError } from '@/lib/errors';
@@ -791,6 +791,10 @@ export interface AuditEventDto {
   ip: string | null;
   outcome: 'ok' | 'refused' | 'failed';
   details: Record<string, unknown> | null;
+  /** The campaign of the event and its name, and the SHA-256 of the object it concerns, when known. */
+  campaignId: number | null;
+  campaignName: string | null;
+  sha256: string | null;
   /**
    * The words the rest of the app uses for the ids in this event: `target` for the object (e.g. "calibration v2"),
    * and per detail key (calibrationId → "calibration v2", settingsId → "settings v1", campaignId → its name).
@@ -872,8 +876,13 @@ export async function listAuditEvents(input: {
   teamIds: number[] | 'all';
   teamId?: number;
   action?: string;
+  /** Exactly these actions (a kind of event from lib/audit-kinds.ts). */
+  actions?: readonly string[];
   actor?: string;
   outcome?: 'ok' | 'refused' | 'failed';
+  campaignId?: number;
+  /** A SHA-256 (or its first 6+ hex digits), or part of a raw file's name: the events of matching files. */
+  object?: string;
   /** Events at or after this moment. */
   from?: Date;
   /** Events before this moment. */
@@ -894,6 +903,18 @@ export async function listAuditEvents(input: {
       where.team_id = input.teamIds === 'all' || input.teamIds.includes(input.teamId) ? input.teamId : { [Op.in]: [0] };
     }
     if (input.action) where.action = { [Op.like]: `${input.action.replace(/[%_\\]/g, '\\$&')}%` };
+    if (input.actions) where[Op.and] = [{ action: { [Op.in]: [...input.actions] } }];
+    if (input.campaignId) where.campaign_id = input.campaignId;
+    if (input.object) {
+      const text = input.object.trim();
+      const conditions: unknown[] = [];
+      if (/^[0-9a-f]{6,64}$/i.test(text)) conditions.push({ sha256: { [Op.like]: `${text.toLowerCase()}%` } });
+      const like = getDb().escape(`%${text.replace(/[%_\\]/g, '\\$&')}%`);
+      conditions.push({
+        sha256: { [Op.in]: literal(`(SELECT rf.sha256 FROM raw_files rf WHERE rf.original_name LIKE ${like})`) },
+      });
+      where[Op.or] = conditions;
+    }
     if (input.actor) where.actor_email = { [Op.like]: `%${input.actor.replace(/[%_\\]/g, '\\$&')}%` };
     if (input.outcome) where.outcome = input.outcome;
     const { rows, count } = await AuditEvent.findAndCountAll({
@@ -909,6 +930,11 @@ export async function listAuditEvents(input: {
     const teams = teamIds.length ? await Team.findAll({ where: { id: { [Op.in]: teamIds } }, raw: true }) : [];
     const names = new Map(teams.map((t) => [t.id, t.name]));
     const labelsOf = await auditLabels(rows);
+    const campaignIds = [...new Set(rows.map((r) => r.campaign_id).filter((x): x is number => x != null))];
+    const campaigns = campaignIds.length
+      ? await Campaign.findAll({ where: { id: { [Op.in]: campaignIds } }, attributes: ['id', 'name'], raw: true })
+      : [];
+    const campaignNames = new Map(campaigns.map((c) => [c.id, c.name]));
     return {
       total: count,
       events: rows.map((r) => ({
@@ -924,6 +950,9 @@ export async function listAuditEvents(input: {
         ip: r.ip,
         outcome: r.outcome,
         details: r.details,
+        campaignId: r.campaign_id ?? null,
+        campaignName: r.campaign_id != null ? (campaignNames.get(r.campaign_id) ?? null) : null,
+        sha256: r.sha256 ?? null,
         labels: labelsOf(r),
       })),
     };

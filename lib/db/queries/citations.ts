@@ -8,7 +8,7 @@ import type { CitationContext } from '@/lib/citation/records';
 import { type CitationBody, citationBodySchema, EMPTY_CITATION } from '@/lib/citation/schema';
 import { getDb } from '@/lib/db';
 import { AppError } from '@/lib/errors';
-import { Campaign, CampaignCitation, Team, User } from '@/models';
+import { Campaign, CampaignCitation, CampaignLanding, Team, User } from '@/models';
 
 export interface CitationDto {
   campaignId: number;
@@ -156,6 +156,10 @@ export async function getCitationContext({
   origin: string;
 }): Promise<CitationContext> {
   const dto = await getCitation({ campaignId });
+  // A published public page is the dataset's address (schema.org url); otherwise the campaign's page in Lobeline.
+  const landing = await guard('getCitationContext', () =>
+    CampaignLanding.findOne({ where: { campaign_id: campaignId, published: true }, attributes: ['public_id'] }),
+  );
   return {
     campaign: {
       id: campaignId,
@@ -168,6 +172,6 @@ export async function getCitationContext({
     citation: dto.citation,
     files: dto.files,
     today: new Date().toISOString().slice(0, 10),
-    landingUrl: `${origin}/campaigns/${campaignId}`,
+    landingUrl: landing ? `${origin}/data/${landing.public_id}` : `${origin}/campaigns/${campaignId}`,
   };
 }

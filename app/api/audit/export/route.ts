@@ -5,7 +5,7 @@ import { z } from 'zod';
 import { apiRoute, idParam } from '@/lib/api/route';
 import { type AuditEventDto, listAuditEvents } from '@/lib/db/queries/accounts';
 import { AppError } from '@/lib/errors';
-import { auditTeamScope } from '../scope';
+import { auditSearchFields, auditTeamScope, forReader, kindActions } from '../scope';
 
 export const dynamic = 'force-dynamic';
 
@@ -29,6 +29,8 @@ const query = z
       .max(64)
       .regex(/^[a-z_.]*$/, 'Choose a kind of event from the list.')
       .optional(),
+    actor: z.string().trim().max(254).optional(),
+    ...auditSearchFields,
   })
   .refine((q) => q.from <= q.to, { message: 'The first day must not be after the last day.', path: ['to'] });
 
@@ -51,10 +53,14 @@ export const GET = apiRoute({ query }, async ({ actor, query: q }) => {
   const teamIds = auditTeamScope(actor, q.teamId);
   const from = new Date(`${q.from}T00:00:00Z`);
   const before = new Date(Date.parse(`${q.to}T00:00:00Z`) + DAY_MS);
-  const { events, total } = await listAuditEvents({
+  const { events: all, total } = await listAuditEvents({
     teamIds,
     teamId: q.teamId,
     action: q.action,
+    actions: kindActions(q.kind),
+    actor: q.actor,
+    campaignId: q.campaignId,
+    object: q.object,
     from,
     before,
     page: 1,
@@ -65,7 +71,7 @@ export const GET = apiRoute({ query }, async ({ actor, query: q }) => {
       message: `These days hold ${total} events; one file takes at most ${EXPORT_LIMIT}. Choose fewer days.`,
     });
   }
-  events.reverse(); // oldest first in a file
+  const events = forReader(actor, all).reverse(); // oldest first in a file
   const name = `lobeline-audit-${q.from}-to-${q.to}.${q.format}`;
   const headers = {
     'content-disposition': `attachment; filename="${name}"`,
@@ -77,11 +83,23 @@ export const GET = apiRoute({ query }, async ({ actor, query: q }) => {
       { headers: { ...headers, 'content-type': 'application/json; charset=utf-8' } },
     );
   }
-  const lines = ['at_utc,action,who,team,object,outcome,details'];
+  const lines = ['at_utc,action,who,team,campaign,object,sha256,outcome,details'];
   for (const e of events) {
     const object = e.labels.target ?? (e.targetType ? `${e.targetType} ${e.targetId ?? ''}`.trim() : '');
     lines.push(
-      [e.at, e.action, e.actorEmail ?? '', e.teamName ?? '', object, e.outcome, detailsText(e)].map(csvField).join(','),
+      [
+        e.at,
+        e.action,
+        e.actorEmail ?? '',
+        e.teamName ?? '',
+        e.campaignName ?? '',
+        object,
+        e.sha256 ?? '',
+        e.outcome,
+        detailsText(e),
+      ]
+        .map(csvField)
+        .join(','),
     );
   }
   return new Response(`${lines.join('\r\n')}\r\n`, {
