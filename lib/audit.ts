@@ -94,6 +94,12 @@ const CAMPAIGN_OF_TARGET: Record<string, string> = {
   raw_file: 'SELECT MIN(campaign_id) AS c FROM scans WHERE raw_file_id = :id',
 };
 
+/** SHA-256 of the raw file a target is or reads (a scan's events, e.g. its reductions, carry its file's checksum). */
+const SHA256_OF_TARGET: Record<string, string> = {
+  raw_file: 'SELECT sha256 AS h FROM raw_files WHERE id = :id',
+  scan: 'SELECT f.sha256 AS h FROM scans s JOIN raw_files f ON f.id = s.raw_file_id WHERE s.id = :id',
+};
+
 /**
  * The campaign and object checksum an event is searched by (audit_events.campaign_id / sha256): from the entry,
  * its details (`campaignId`, `sha256`) or its target. A failed lookup leaves them empty and never fails the change.
@@ -120,8 +126,9 @@ async function searchKeys(
       });
       campaignId = rows[0]?.c ?? null;
     }
-    if (sha256 === null && entry.targetType === 'raw_file') {
-      const rows = await getDb().query<{ h: string }>('SELECT sha256 AS h FROM raw_files WHERE id = :id', {
+    const shaSql = SHA256_OF_TARGET[entry.targetType];
+    if (sha256 === null && shaSql) {
+      const rows = await getDb().query<{ h: string }>(shaSql, {
         replacements: { id },
         type: QueryTypes.SELECT,
         transaction,

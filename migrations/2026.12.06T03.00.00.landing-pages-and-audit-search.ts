@@ -63,6 +63,9 @@ export async function up({ context: qi }: Ctx): Promise<void> {
               SET a.campaign_id = s.campaign_id WHERE a.campaign_id IS NULL`);
   await q(`UPDATE audit_events a JOIN raw_files f ON a.target_type = 'raw_file' AND a.target_id = CAST(f.id AS CHAR)
               SET a.sha256 = f.sha256 WHERE a.sha256 IS NULL`);
+  await q(`UPDATE audit_events a JOIN scans s ON a.target_type = 'scan' AND a.target_id = CAST(s.id AS CHAR)
+              JOIN raw_files f ON f.id = s.raw_file_id
+              SET a.sha256 = f.sha256 WHERE a.sha256 IS NULL`);
 }
 
 export async function down({ context: qi }: Ctx): Promise<void> {

@@ -188,6 +188,27 @@ async function freshComparison(w: World, t: TeamData): Promise<string> {
 }
 const comparisonPath = (slug: string) => ({ path: `/api/comparisons/${slug}`, params: { comparisonId: slug } });
 
+/**
+ * A published landing page of a campaign of the matrix world (made directly in the table; the publishing route has
+ * its own rows), for the public record rows. Its public id is derived from the campaign id, so repeats find it.
+ */
+async function publishedLanding(campaignId: number): Promise<string> {
+  const { CampaignLanding } = await import('@/models');
+  const publicId = `m${String(campaignId).padStart(11, '0')}`.slice(-12);
+  const [row] = await CampaignLanding.findOrCreate({
+    where: { campaign_id: campaignId },
+    defaults: {
+      campaign_id: campaignId,
+      public_id: publicId,
+      published: true,
+      published_at: new Date(),
+      changed_by: null,
+    },
+  });
+  if (!row.published) await row.update({ published: true });
+  return row.public_id;
+}
+
 const BOGUS_TOKEN = 'A'.repeat(43);
 
 // THE TABLE //
@@ -690,6 +711,46 @@ const ROWS: Row[] = [
     method: 'GET',
     request: ({ t }) => ({ ...campaignPath(t, '/citation/record'), query: { format: 'schema-org' } }),
     expect: metadataRead(),
+  },
+  // C10 (issue 14): the campaign's public landing page. Its state is read like the citation metadata; the team's PI
+  // and the data steward (every team) publish or withdraw it (withdrawing a never-published page answers 200 and
+  // changes nothing, so the row leaves every campaign private).
+  {
+    route: '/api/campaigns/[campaignId]/landing',
+    method: 'GET',
+    request: ({ t }) => campaignPath(t, '/landing'),
+    expect: metadataRead(),
+  },
+  {
+    route: '/api/campaigns/[campaignId]/landing',
+    method: 'PUT',
+    request: ({ t }) => ({ ...campaignPath(t, '/landing'), body: { published: false } }),
+    expect: teamObject({ operator: 403, analyst: 403, pi: 200, steward: 200 }),
+  },
+  // The record behind a published public page: anyone, signed in or not, of any team (lib/policy.ts 'landing.read').
+  {
+    route: '/api/public/landing/[publicId]/record',
+    method: 'GET',
+    request: async ({ t }) => {
+      const publicId = await publishedLanding(t.campaignId);
+      return {
+        path: `/api/public/landing/${publicId}/record`,
+        params: { publicId },
+        query: { format: 'schema-org' },
+      };
+    },
+    expect: all(200),
+  },
+  // …and an address that was never published: 404 for everyone, members of the campaign's team included.
+  {
+    route: '/api/public/landing/[publicId]/record',
+    method: 'GET',
+    request: () => ({
+      path: '/api/public/landing/zzzzzzzzzzzz/record',
+      params: { publicId: 'zzzzzzzzzzzz' },
+      query: { format: 'schema-org' },
+    }),
+    expect: all(404),
   },
 
   // SHIFTS (C2) //
