@@ -4,7 +4,7 @@
 // to a reader who may not see the team's results. Events are written through lib/audit.ts recordAudit, which
 // also files each under its campaign and object checksum (found from the target when the caller gives neither).
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
-import type { World } from './helpers/world';
+import type { TeamData, World } from './helpers/world';
 
 vi.mock('server-only', () => ({}));
 
@@ -33,7 +33,8 @@ beforeAll(async () => {
     ['A', w.teamA, w.campaignA, w.shiftA],
     ['B', w.teamB, w.campaignB, w.shiftB],
   ] as const) {
-    const scanId = await w.freshScan({ teamId, campaignId, shiftId });
+    // freshScan reads only these three fields of TeamData (tests/integration/helpers/world.ts)
+    const scanId = await w.freshScan({ teamId, campaignId, shiftId } as TeamData);
     const scan = await Scan.findByPk(scanId);
     const raw = await RawFile.findByPk(scan!.raw_file_id);
     await raw!.update({ original_name: `audit-search-${w.run}-${key}.h5` });

@@ -7,7 +7,7 @@ import { createElement } from 'react';
 import { renderToStaticMarkup } from 'react-dom/server';
 import jsonld from 'jsonld';
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
-import type { World } from './helpers/world';
+import type { TeamData, World } from './helpers/world';
 
 vi.mock('server-only', () => ({}));
 
@@ -33,7 +33,7 @@ let fileName: string;
 beforeAll(async () => {
   w = await makeWorld({ data: false });
   campaignId = w.campaignA;
-  const scanId = await w.freshScan({ teamId: w.teamA, campaignId, shiftId: w.shiftA });
+  const scanId = await w.freshScan({ teamId: w.teamA, campaignId, shiftId: w.shiftA } as TeamData);
   const scan = await Scan.findByPk(scanId);
   // A result value that must never reach the public page (the scan's fitted offset).
   await scan!.update({ offset_deg: 7.3141 });
