@@ -1,7 +1,7 @@
 'use client';
 
 import { keepPreviousData, useQuery } from '@tanstack/react-query';
-import { type ReactNode, useState } from 'react';
+import { type FormEvent, type ReactNode, useState } from 'react';
 import { Badge } from '@/components/ui/badge';
 import { DataTable } from '@/components/ui/data-table';
 import { EmptyState } from '@/components/ui/empty-state';
@@ -10,6 +10,7 @@ import { compactInputClass } from '@/components/ui/input-class';
 import { Panel } from '@/components/ui/panel';
 import { apiFetch } from '@/lib/api/client';
 import type { AuditAction } from '@/lib/audit';
+import { AUDIT_KINDS, type AuditKind } from '@/lib/audit-kinds';
 import { formatBytes, formatDateTime } from '@/lib/format';
 
 interface AuditRow {
@@ -23,13 +24,17 @@ interface AuditRow {
   ip: string | null;
   outcome: 'ok' | 'refused' | 'failed';
   details: Record<string, unknown> | null;
+  campaignId?: number | null;
+  campaignName?: string | null;
+  /** SHA-256 of the file the event concerns, when known. */
+  sha256?: string | null;
   /** The app's own words for the ids (e.g. "calibration v2"), from the server. */
   labels?: { target?: string; details: Record<string, string> };
 }
 
 const PAGE_SIZE = 50;
+/** Areas of the app, matched by the start of the action name (the `action` filter of /api/audit). */
 const ACTION_GROUPS: { value: string; label: string }[] = [
-  { value: '', label: 'Everything' },
   { value: 'auth.', label: 'Sign-in and access' },
   { value: 'invitation.', label: 'Invitations' },
   { value: 'membership.', label: 'Memberships' },
@@ -174,19 +179,30 @@ function detailValue(key: string, v: unknown): ReactNode {
   return null; // nested objects (e.g. a metadata override) are not summarised here
 }
 
+function ShortSha({ sha256 }: { sha256: string }) {
+  return (
+    <span className="font-mono text-micro text-ink-500" title={`SHA-256 ${sha256}`}>
+      {sha256.slice(0, 12)}…{sha256.slice(-4)}
+    </span>
+  );
+}
+
 function Details({
   action,
   details,
   labels = {},
+  skip = [],
 }: {
   action: string;
   details: Record<string, unknown> | null;
   labels?: Record<string, string>;
+  /** Keys already shown in another column. */
+  skip?: string[];
 }) {
   if (!details) return null;
   const reasons = Array.isArray(details.reasons) ? details.reasons.filter((x) => typeof x === 'string') : [];
   const parts = Object.entries(details)
-    .filter(([k, v]) => k !== 'reasons' && v !== null && v !== undefined)
+    .filter(([k, v]) => k !== 'reasons' && !skip.includes(k) && v !== null && v !== undefined)
     .map(([k, v]) => [k, labels[k] ? labels[k].replace(/^(calibration|settings) /, '') : detailValue(k, v)] as const)
     .filter(([, v]) => v !== null && v !== '')
     .slice(0, 5);
@@ -208,27 +224,61 @@ function Details({
   );
 }
 
-export function AuditTrail({ scopeNote }: { scopeNote: string }) {
+export interface AuditCampaignOption {
+  id: number;
+  name: string;
+  teamName: string;
+}
+
+/** The kind filter's value: "kind:<name>" (lib/audit-kinds.ts) or "area:<action prefix>". */
+function kindParams(value: string, p: URLSearchParams) {
+  if (value.startsWith('kind:')) p.set('kind', value.slice(5));
+  if (value.startsWith('area:')) p.set('action', value.slice(5));
+}
+
+export function AuditTrail({ scopeNote, campaigns }: { scopeNote: string; campaigns: AuditCampaignOption[] }) {
   const [page, setPage] = useState(1);
-  const [action, setAction] = useState('');
+  const [kind, setKind] = useState('');
   const [outcome, setOutcome] = useState('');
   const [from, setFrom] = useState('');
   const [to, setTo] = useState('');
-  const params = new URLSearchParams({ page: String(page), pageSize: String(PAGE_SIZE) });
-  if (action) params.set('action', action);
-  if (outcome) params.set('outcome', outcome);
+  const [campaignId, setCampaignId] = useState('');
+  // The two text filters apply when the search form is sent, not on every key.
+  const [whoDraft, setWhoDraft] = useState('');
+  const [objectDraft, setObjectDraft] = useState('');
+  const [who, setWho] = useState('');
+  const [object, setObject] = useState('');
+  const filters = new URLSearchParams();
+  kindParams(kind, filters);
+  if (outcome) filters.set('outcome', outcome);
+  if (campaignId) filters.set('campaignId', campaignId);
+  if (who) filters.set('actor', who);
+  if (object) filters.set('object', object);
+  const params = new URLSearchParams(filters);
+  params.set('page', String(page));
+  params.set('pageSize', String(PAGE_SIZE));
   if (from) params.set('from', from);
   if (to) params.set('to', to);
+  const onSearch = (e: FormEvent) => {
+    e.preventDefault();
+    setWho(whoDraft.trim());
+    setObject(objectDraft.trim());
+    setPage(1);
+  };
+  const filtered = !!(kind || outcome || campaignId || who || object || from || to);
   // The export takes the same kind of event and the chosen days (the last 30 days when none are chosen).
   const today = new Date().toISOString().slice(0, 10);
   const monthAgo = new Date(Date.now() - 29 * 86_400_000).toISOString().slice(0, 10);
   const exportHref = (format: 'csv' | 'json') => {
-    const p = new URLSearchParams({ format, from: from || (to && to < monthAgo ? to : monthAgo), to: to || today });
-    if (action) p.set('action', action);
+    const p = new URLSearchParams(filters);
+    p.delete('outcome'); // the export takes every outcome
+    p.set('format', format);
+    p.set('from', from || (to && to < monthAgo ? to : monthAgo));
+    p.set('to', to || today);
     return `/api/audit/export?${p}`;
   };
   const q = useQuery({
-    queryKey: ['audit', page, action, outcome, from, to],
+    queryKey: ['audit', params.toString()],
     queryFn: () => apiFetch<{ events: AuditRow[]; total: number }>(`/api/audit?${params}`),
     placeholderData: keepPreviousData,
   });
@@ -245,16 +295,45 @@ export function AuditTrail({ scopeNote }: { scopeNote: string }) {
           </label>
           <select
             id="audit-action"
-            value={action}
+            value={kind}
             onChange={(e) => {
-              setAction(e.target.value);
+              setKind(e.target.value);
               setPage(1);
             }}
             className={compactInputClass()}
           >
-            {ACTION_GROUPS.map((g) => (
-              <option key={g.value} value={g.value}>
-                {g.label}
+            <option value="">Every kind of event</option>
+            <optgroup label="Who did what">
+              {(Object.keys(AUDIT_KINDS) as AuditKind[]).map((k) => (
+                <option key={k} value={`kind:${k}`}>
+                  {AUDIT_KINDS[k].label}
+                </option>
+              ))}
+            </optgroup>
+            <optgroup label="By part of Lobeline">
+              {ACTION_GROUPS.map((g) => (
+                <option key={g.value} value={`area:${g.value}`}>
+                  {g.label}
+                </option>
+              ))}
+            </optgroup>
+          </select>
+          <label htmlFor="audit-campaign" className="sr-only">
+            Campaign
+          </label>
+          <select
+            id="audit-campaign"
+            value={campaignId}
+            onChange={(e) => {
+              setCampaignId(e.target.value);
+              setPage(1);
+            }}
+            className={compactInputClass('max-w-[16rem]')}
+          >
+            <option value="">Every campaign</option>
+            {campaigns.map((c) => (
+              <option key={c.id} value={String(c.id)}>
+                {c.teamName} · {c.name}
               </option>
             ))}
           </select>
@@ -323,6 +402,58 @@ export function AuditTrail({ scopeNote }: { scopeNote: string }) {
         </div>
       }
     >
+      <form
+        onSubmit={onSearch}
+        className="flex flex-wrap items-end gap-3 border-b border-ink-100 px-5 py-3"
+        aria-label="Search the audit trail"
+      >
+        <label className="flex flex-col gap-1 text-small text-ink-600">
+          Who (part of an e-mail address)
+          <input
+            value={whoDraft}
+            onChange={(e) => setWhoDraft(e.target.value)}
+            maxLength={254}
+            className={compactInputClass('w-56')}
+            placeholder="e.g. quill@"
+          />
+        </label>
+        <label className="flex flex-col gap-1 text-small text-ink-600">
+          File: SHA-256 (first 6 or more digits) or part of its name
+          <input
+            value={objectDraft}
+            onChange={(e) => setObjectDraft(e.target.value)}
+            maxLength={128}
+            className={compactInputClass('w-80 font-mono')}
+            placeholder="e.g. 3f9a1c or scan_0042"
+          />
+        </label>
+        <button
+          type="submit"
+          className="rounded-md bg-lobe-600 px-3 py-1.5 text-small font-medium text-white hover:bg-lobe-700"
+        >
+          Search
+        </button>
+        {filtered ? (
+          <button
+            type="button"
+            className="text-small font-medium text-lobe-700 hover:underline"
+            onClick={() => {
+              setKind('');
+              setOutcome('');
+              setCampaignId('');
+              setFrom('');
+              setTo('');
+              setWho('');
+              setObject('');
+              setWhoDraft('');
+              setObjectDraft('');
+              setPage(1);
+            }}
+          >
+            Clear all filters
+          </button>
+        ) : null}
+      </form>
       {q.isError ? (
         <div className="px-5 py-4">
           <ErrorState message={q.error.message} onRetry={() => void q.refetch()} />
@@ -338,7 +469,13 @@ export function AuditTrail({ scopeNote }: { scopeNote: string }) {
           pageSize={PAGE_SIZE}
           total={q.data?.total}
           onPageChange={setPage}
-          empty={<EmptyState title="No events match">Try another kind of event or outcome.</EmptyState>}
+          empty={
+            <EmptyState title="No events match">
+              {filtered
+                ? 'Nothing matches all of these filters. Remove one to see more.'
+                : 'Nothing has been recorded yet.'}
+            </EmptyState>
+          }
           columns={[
             {
               key: 'at',
@@ -356,19 +493,39 @@ export function AuditTrail({ scopeNote }: { scopeNote: string }) {
               ),
             },
             { key: 'actor', header: 'Who', render: (r) => r.actorEmail ?? <span className="text-ink-400">—</span> },
-            { key: 'team', header: 'Team', render: (r) => r.teamName ?? <span className="text-ink-400">—</span> },
+            {
+              key: 'team',
+              header: 'Team and campaign',
+              render: (r) =>
+                r.teamName || r.campaignName ? (
+                  <>
+                    {r.teamName ?? ''}
+                    {r.campaignName ? <span className="block text-small text-ink-600">{r.campaignName}</span> : null}
+                  </>
+                ) : (
+                  <span className="text-ink-400">—</span>
+                ),
+            },
             {
               key: 'target',
               header: 'Object',
               className: 'whitespace-nowrap',
-              render: (r) =>
-                r.labels?.target ? (
-                  r.labels.target.charAt(0).toUpperCase() + r.labels.target.slice(1)
-                ) : r.targetType ? (
-                  `${TARGET_WORDS[r.targetType] ?? words(r.targetType)}${r.targetId ? ` no. ${r.targetId}` : ''}`
-                ) : (
-                  <span className="text-ink-400">—</span>
-                ),
+              render: (r) => (
+                <>
+                  {r.labels?.target ? (
+                    r.labels.target.charAt(0).toUpperCase() + r.labels.target.slice(1)
+                  ) : r.targetType ? (
+                    `${TARGET_WORDS[r.targetType] ?? words(r.targetType)}${r.targetId ? ` no. ${r.targetId}` : ''}`
+                  ) : (
+                    <span className="text-ink-400">—</span>
+                  )}
+                  {r.sha256 ? (
+                    <span className="block">
+                      <ShortSha sha256={r.sha256} />
+                    </span>
+                  ) : null}
+                </>
+              ),
             },
             {
               key: 'outcome',
@@ -383,7 +540,14 @@ export function AuditTrail({ scopeNote }: { scopeNote: string }) {
               key: 'details',
               header: 'Details',
               className: 'max-w-[26rem] break-words',
-              render: (r) => <Details action={r.action} details={r.details} labels={r.labels?.details} />,
+              render: (r) => (
+                <Details
+                  action={r.action}
+                  details={r.details}
+                  labels={r.labels?.details}
+                  skip={r.sha256 ? ['sha256'] : []}
+                />
+              ),
             },
           ]}
         />

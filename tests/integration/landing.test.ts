@@ -3,9 +3,9 @@
 // (audited), an operator may not. The rendered page embeds a schema.org Dataset that expands with the `jsonld`
 // package and carries SCIENCE.md §11.4's properties; under embargo it names the dataset and hides the file list,
 // after the embargo it lists the files with size and SHA-256. No result value of the campaign appears on it.
-import { createElement } from 'react';
-import { renderToStaticMarkup } from 'react-dom/server';
+
 import jsonld from 'jsonld';
+import { renderToStaticMarkup } from 'react-dom/server';
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
 import type { TeamData, World } from './helpers/world';
 

@@ -871,6 +871,26 @@ async function auditLabels(rows: AuditEvent[]): Promise<(r: AuditEvent) => Audit
   };
 }
 
+/** Campaigns an audit reader may filter by (their teams', or every team's), by team and name; at most 1000. */
+export async function listAuditCampaigns(input: {
+  teamIds: number[] | 'all';
+}): Promise<{ id: number; name: string; teamName: string }[]> {
+  if (input.teamIds !== 'all' && input.teamIds.length === 0) return [];
+  return db('listAuditCampaigns', async () => {
+    const rows = await Campaign.findAll({
+      where: input.teamIds === 'all' ? {} : { team_id: { [Op.in]: input.teamIds } },
+      include: [{ model: Team, as: 'team', attributes: ['name'] }],
+      attributes: ['id', 'name'],
+      order: [
+        [{ model: Team, as: 'team' }, 'name', 'ASC'],
+        ['name', 'ASC'],
+      ],
+      limit: 1000,
+    });
+    return rows.map((c) => ({ id: c.id, name: c.name, teamName: (c as Campaign & { team?: Team }).team?.name ?? '' }));
+  });
+}
+
 /** Audit events, newest first. `teamIds: 'all'` for facility readers; otherwise only events of those teams. */
 export async function listAuditEvents(input: {
   teamIds: number[] | 'all';
