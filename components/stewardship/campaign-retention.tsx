@@ -47,10 +47,20 @@ export function CampaignRetentionPanel({
   const errors = detailsByField(save.error);
   return (
     <Panel title="Retention and embargo" data-testid="campaign-retention">
-      <p className="mb-3 text-small text-ink-600">
-        Files are kept at least until the retention date; an embargo keeps the files out of the citation records until
-        it ends (the dataset is still named). A legal hold stops every deletion in this campaign.
-      </p>
+      <ul className="mb-3 space-y-1.5 text-small text-ink-600" data-testid="retention-meanings">
+        <li>
+          <span className="font-medium text-ink-800">Keep files until:</span> no file of this campaign can be deleted
+          before the end of this day. Without a date, files are kept and cannot be deleted.
+        </li>
+        <li>
+          <span className="font-medium text-ink-800">Embargo:</span> until this day the files stay closed. The citation
+          records and the public page name the dataset and its creators, but list no files. From this day on they do.
+        </li>
+        <li>
+          <span className="font-medium text-ink-800">Legal hold:</span> while it is on, no file of this campaign can be
+          deleted, whatever its date, and deletions already asked for cannot be confirmed.
+        </li>
+      </ul>
       {editable ? (
         <div className="space-y-3">
           <Field
@@ -82,7 +92,7 @@ export function CampaignRetentionPanel({
                 setHold(e.target.checked);
               }}
             />
-            Legal hold
+            Legal hold: block every deletion in this campaign
           </label>
           {hold ? (
             <Field label="Why the hold applies" error={errors.legalHoldNote}>
@@ -113,7 +123,7 @@ export function CampaignRetentionPanel({
       ) : (
         <dl className="grid grid-cols-2 gap-2 text-small">
           <dt className="text-ink-500">Keep files until</dt>
-          <dd>{value.retentionUntil ? formatDay(value.retentionUntil) : 'not set'}</dd>
+          <dd>{value.retentionUntil ? formatDay(value.retentionUntil) : 'no date: files are kept'}</dd>
           <dt className="text-ink-500">Embargo until</dt>
           <dd>{value.embargoUntil ? formatDay(value.embargoUntil) : 'none'}</dd>
           {value.legalHold ? (

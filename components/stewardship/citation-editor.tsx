@@ -605,8 +605,8 @@ export function CitationEditor({ campaignId }: { campaignId: number }) {
           <Panel title="Records">
             {embargo ? (
               <p className="mb-3 rounded-md bg-flare-50 px-3 py-2 text-small text-flare-800 ring-1 ring-flare-200">
-                Under embargo until {data.campaign.embargoUntil}. The records cite the dataset but leave out its files
-                (count, size, format) until that day, and say when it becomes available.
+                Under embargo until {data.campaign.embargoUntil}. Until that day the records and the public page name
+                the dataset but not its files (count, size, format), and say the day the files open.
               </p>
             ) : null}
             <ul className="space-y-2 text-small">

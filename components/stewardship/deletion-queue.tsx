@@ -49,7 +49,7 @@ export function DeletionQueue({ userId, mayConfirm }: { userId: number; mayConfi
       <PageHeader
         eyebrow="Data stewardship"
         title="Deletions waiting for a second person"
-        description="A stored raw file is deleted only when a data steward asks for it and a PI of its team or an administrator confirms. Confirming removes the stored file for good; it cannot be restored afterwards. A legal hold or an unexpired retention date stops the deletion even now."
+        description="A stored raw file is deleted only when a data steward asks and a second person, a PI of its team or an administrator, confirms. Confirming removes the stored file. This cannot be undone. A legal hold, or a keep-until date not yet passed, still stops the deletion at this step."
       />
       <Panel flush title="Waiting">
         {q.isPending ? (
@@ -115,8 +115,8 @@ export function DeletionQueue({ userId, mayConfirm }: { userId: number; mayConfi
           <div className="space-y-3">
             {pending.kind === 'confirm' ? (
               <p className="text-small text-ink-700">
-                The raw file is removed from storage and cannot be restored. Its catalogue entry, checksum and this
-                decision stay in the audit trail.
+                The raw file is removed from storage. This cannot be undone. Its name, checksum and this decision stay
+                in the audit trail.
               </p>
             ) : (
               <Field label="Why (kept in the audit trail)" error={errors.reason}>

@@ -67,13 +67,13 @@ export function FileRowActions({ row }: { row: RegisterRowDto }) {
             <Field
               label="Embargo until (YYYY-MM-DD)"
               value={embargo}
-              hint="Until this day the citation records name the dataset but not its files."
+              hint="Until this day this file is left out of the citation records and the public file list."
               error={retentionErrors.embargoUntil}
               onChange={(e) => setEmbargo(e.target.value)}
             />
             <label className="flex items-center gap-2 text-small text-ink-800">
               <input type="checkbox" checked={hold} onChange={(e) => setHold(e.target.checked)} />
-              Legal hold: this file may not be deleted while the hold lasts
+              Legal hold: nobody can delete this file while the hold is on
             </label>
             {saveRetention.error && !Object.keys(retentionErrors).length ? (
               <p role="alert" className="text-small text-fault-600">
@@ -94,8 +94,8 @@ export function FileRowActions({ row }: { row: RegisterRowDto }) {
         >
           <div className="space-y-3">
             <p className="text-small text-ink-700">
-              Nothing is deleted yet. A PI of {row.teamName} or an administrator must confirm; only then is the stored
-              file removed, and that cannot be undone. Files under a legal hold, or still inside their retention period,
+              Nothing is deleted yet. A PI of {row.teamName} or an administrator must confirm. Then the stored file is
+              removed, and that cannot be undone. A file under a legal hold, or before its keep-until date has passed,
               cannot be asked for.
             </p>
             <Field label="Reason (kept in the audit trail)" error={deleteErrors.reason}>

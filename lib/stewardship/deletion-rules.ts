@@ -15,15 +15,16 @@ export interface DeletionSubject {
 export function deletionBlockers(s: DeletionSubject, today: string): string[] {
   const out: string[] = [];
   if (s.deleted) out.push('This file has already been deleted.');
-  if (s.fileLegalHold)
-    out.push('The file is under a legal hold: nothing about it can be deleted until the hold is lifted.');
+  if (s.fileLegalHold) out.push('This file is under a legal hold. It cannot be deleted until the hold is lifted.');
   if (s.campaignLegalHold)
-    out.push('Its campaign is under a legal hold: none of its files can be deleted until the hold is lifted.');
+    out.push('Its campaign is under a legal hold. None of its files can be deleted until the hold is lifted.');
   if (s.retentionUntil === null) {
-    out.push('No retention date is set for this file or its campaign; set one before asking to delete it.');
+    out.push(
+      'No retention date is set for this file or its campaign, so it is kept. Set a date before asking to delete it.',
+    );
   } else if (today <= s.retentionUntil) {
     out.push(
-      `The file must be kept until ${s.retentionUntil} (its retention date); it can be deleted from the day after.`,
+      `This file must be kept until ${s.retentionUntil}, its retention date. It can be deleted from the next day on.`,
     );
   }
   return out;
