@@ -151,6 +151,14 @@ const DETAIL_WORDS: Record<string, string> = {
   cancelled: 'cancelled',
   abandoned: 'not stored',
   token: 'session token',
+  changed: 'changed',
+  score: 'completeness',
+  requiredMissing: 'still needed',
+  page: 'address',
+  requestId: 'request',
+  requestedBy: 'asked by',
+  format: 'format',
+  doi: 'DOI',
 };
 
 const words = (code: string) => code.replace(/_/g, ' ');
@@ -159,6 +167,7 @@ function detailValue(key: string, v: unknown): ReactNode {
   if (typeof v === 'boolean') return v ? 'yes' : 'no';
   if (typeof v === 'number') {
     if (key.endsWith('Bytes')) return formatBytes(v);
+    if (key === 'score') return `${Math.round(v * 100)} %`;
     if (key.endsWith('Deg')) return `${v.toFixed(2).replace('-', '−')}°`;
     if (key === 'wavelengthNm') return `${v} nm`;
     if (key === 'version') return `v${v}`;
@@ -290,98 +299,6 @@ export function AuditTrail({ scopeNote, campaigns }: { scopeNote: string; campai
       flush
       actions={
         <div className="flex flex-wrap items-center gap-2">
-          <label htmlFor="audit-action" className="sr-only">
-            Kind of event
-          </label>
-          <select
-            id="audit-action"
-            value={kind}
-            onChange={(e) => {
-              setKind(e.target.value);
-              setPage(1);
-            }}
-            className={compactInputClass()}
-          >
-            <option value="">Every kind of event</option>
-            <optgroup label="Who did what">
-              {(Object.keys(AUDIT_KINDS) as AuditKind[]).map((k) => (
-                <option key={k} value={`kind:${k}`}>
-                  {AUDIT_KINDS[k].label}
-                </option>
-              ))}
-            </optgroup>
-            <optgroup label="By part of Lobeline">
-              {ACTION_GROUPS.map((g) => (
-                <option key={g.value} value={`area:${g.value}`}>
-                  {g.label}
-                </option>
-              ))}
-            </optgroup>
-          </select>
-          <label htmlFor="audit-campaign" className="sr-only">
-            Campaign
-          </label>
-          <select
-            id="audit-campaign"
-            value={campaignId}
-            onChange={(e) => {
-              setCampaignId(e.target.value);
-              setPage(1);
-            }}
-            className={compactInputClass('max-w-[16rem]')}
-          >
-            <option value="">Every campaign</option>
-            {campaigns.map((c) => (
-              <option key={c.id} value={String(c.id)}>
-                {c.teamName} · {c.name}
-              </option>
-            ))}
-          </select>
-          <label htmlFor="audit-outcome" className="sr-only">
-            Outcome
-          </label>
-          <select
-            id="audit-outcome"
-            value={outcome}
-            onChange={(e) => {
-              setOutcome(e.target.value);
-              setPage(1);
-            }}
-            className={compactInputClass()}
-          >
-            <option value="">Any outcome</option>
-            <option value="ok">Done</option>
-            <option value="failed">Failed</option>
-            <option value="refused">Refused</option>
-          </select>
-          <label htmlFor="audit-from" className="text-small text-ink-600">
-            From (UTC day)
-          </label>
-          <input
-            id="audit-from"
-            type="date"
-            value={from}
-            max={to || undefined}
-            onChange={(e) => {
-              setFrom(e.target.value);
-              setPage(1);
-            }}
-            className={compactInputClass('w-36')}
-          />
-          <label htmlFor="audit-to" className="text-small text-ink-600">
-            To (UTC day)
-          </label>
-          <input
-            id="audit-to"
-            type="date"
-            value={to}
-            min={from || undefined}
-            onChange={(e) => {
-              setTo(e.target.value);
-              setPage(1);
-            }}
-            className={compactInputClass('w-36')}
-          />
           <span className="flex items-center gap-1 text-small text-ink-600" data-testid="audit-export">
             Export
             <a
@@ -407,6 +324,110 @@ export function AuditTrail({ scopeNote, campaigns }: { scopeNote: string; campai
         className="flex flex-wrap items-end gap-3 border-b border-ink-100 px-5 py-3"
         aria-label="Search the audit trail"
       >
+        <div className="flex w-full flex-wrap items-end gap-x-3 gap-y-2">
+          <div className="flex flex-col gap-1">
+            <label htmlFor="audit-action" className="text-small text-ink-600">
+              Kind of event
+            </label>
+            <select
+              id="audit-action"
+              value={kind}
+              onChange={(e) => {
+                setKind(e.target.value);
+                setPage(1);
+              }}
+              className={compactInputClass('max-w-[18rem]')}
+            >
+              <option value="">Every kind of event</option>
+              <optgroup label="Who did what">
+                {(Object.keys(AUDIT_KINDS) as AuditKind[]).map((k) => (
+                  <option key={k} value={`kind:${k}`}>
+                    {AUDIT_KINDS[k].label}
+                  </option>
+                ))}
+              </optgroup>
+              <optgroup label="By part of Lobeline">
+                {ACTION_GROUPS.map((g) => (
+                  <option key={g.value} value={`area:${g.value}`}>
+                    {g.label}
+                  </option>
+                ))}
+              </optgroup>
+            </select>
+          </div>
+          <div className="flex flex-col gap-1">
+            <label htmlFor="audit-campaign" className="text-small text-ink-600">
+              Campaign
+            </label>
+            <select
+              id="audit-campaign"
+              value={campaignId}
+              onChange={(e) => {
+                setCampaignId(e.target.value);
+                setPage(1);
+              }}
+              className={compactInputClass('max-w-[16rem]')}
+            >
+              <option value="">Every campaign</option>
+              {campaigns.map((c) => (
+                <option key={c.id} value={String(c.id)}>
+                  {c.teamName} · {c.name}
+                </option>
+              ))}
+            </select>
+          </div>
+          <div className="flex flex-col gap-1">
+            <label htmlFor="audit-outcome" className="text-small text-ink-600">
+              Outcome
+            </label>
+            <select
+              id="audit-outcome"
+              value={outcome}
+              onChange={(e) => {
+                setOutcome(e.target.value);
+                setPage(1);
+              }}
+              className={compactInputClass()}
+            >
+              <option value="">Any outcome</option>
+              <option value="ok">Done</option>
+              <option value="failed">Failed</option>
+              <option value="refused">Refused</option>
+            </select>
+          </div>
+          <div className="flex flex-col gap-1">
+            <label htmlFor="audit-from" className="text-small text-ink-600">
+              From (UTC day)
+            </label>
+            <input
+              id="audit-from"
+              type="date"
+              value={from}
+              max={to || undefined}
+              onChange={(e) => {
+                setFrom(e.target.value);
+                setPage(1);
+              }}
+              className={compactInputClass('w-36')}
+            />
+          </div>
+          <div className="flex flex-col gap-1">
+            <label htmlFor="audit-to" className="text-small text-ink-600">
+              To (UTC day)
+            </label>
+            <input
+              id="audit-to"
+              type="date"
+              value={to}
+              min={from || undefined}
+              onChange={(e) => {
+                setTo(e.target.value);
+                setPage(1);
+              }}
+              className={compactInputClass('w-36')}
+            />
+          </div>
+        </div>
         <label className="flex flex-col gap-1 text-small text-ink-600">
           Who (part of an e-mail address)
           <input

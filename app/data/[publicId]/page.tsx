@@ -70,6 +70,23 @@ function identifierHref(identifier: string, type: string): string | null {
   return null;
 }
 
+/**
+ * A citation line: creators (year), title, publisher, version, then the DOI as a link or this page's address. The
+ * order follows DataCite's recommended citation (Creator (PublicationYear): Title. Version. Publisher. Identifier)
+ * [memory], with the version after the publisher.
+ */
+function citeAs(ctx: CitationContext): string {
+  const c = ctx.citation;
+  const parts = [
+    `${c.creators.map(creatorDisplayName).join('; ')}${c.publicationYear !== null ? ` (${c.publicationYear})` : ''}`,
+    recordTitle(ctx),
+    c.publisher,
+    c.version ? `Version ${c.version}` : null,
+    c.doi ? doiUri(c.doi) : ctx.landingUrl,
+  ].filter((p): p is string => !!p);
+  return `${parts.join('. ')}.`;
+}
+
 /** "IsSupplementTo" → "is supplement to" (DataCite's controlled relation types, in words). */
 const relationWords = (r: string) => r.replace(/([a-z])([A-Z])/g, '$1 $2').toLowerCase();
 
@@ -226,8 +243,8 @@ export default async function PublicDatasetPage({ params }: Params) {
             <>
               <p className="mb-3 text-small text-ink-600">
                 {listing.total} file{listing.total === 1 ? '' : 's'}, HDF5. Each checksum is the SHA-256 of the file as
-                stored; compare it with <code>sha256sum</code> after you receive a copy. The files themselves are sent
-                on request by the publisher.
+                stored: a copy you receive is intact when <code>sha256sum</code> gives the same value. The files are not
+                downloaded from this page; ask the publisher for them.
               </p>
               <div className="overflow-x-auto">
                 <table className="w-full text-left text-small" data-testid="file-list">
@@ -268,6 +285,13 @@ export default async function PublicDatasetPage({ params }: Params) {
       </Panel>
 
       <Panel title="Cite and reuse" data-testid="records">
+        <p className="mb-1 text-small font-medium text-ink-800">Cite as</p>
+        <p
+          className="mb-3 rounded-md bg-ink-50 px-3 py-2 text-small text-ink-800 ring-1 ring-ink-100"
+          data-testid="cite-as"
+        >
+          {citeAs(ctx)}
+        </p>
         <p className="mb-3 text-small text-ink-600">
           The citation record of this dataset, in two open formats. The schema.org record is also embedded in this page
           for search engines.
