@@ -219,6 +219,7 @@ if [ -f scripts/demo-scans.ts ] && [ -s "$SEED_OUT" ] && [ -n "$WORKER_PID" ] &&
 fi
 
 [ -f scripts/demo-citation.ts ] && [ -s "$SEED_OUT" ] && { "$BIN/tsx" scripts/demo-citation.ts || echo "WARNING: demo citation data not added." >&2; }
+[ -f scripts/demo-landing.ts ] && [ -s "$SEED_OUT" ] && { "$BIN/tsx" scripts/demo-landing.ts || echo "WARNING: no demo public page." >&2; }
 
 echo
 print_phases

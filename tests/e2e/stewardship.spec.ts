@@ -213,7 +213,7 @@ test('steward asks to delete a file past its retention, the PI confirms it', asy
   await expect(item).toContainText('Alignment run, superseded');
   await page.screenshot({ path: `${SHOTS}/pi-deletion-queue.png`, fullPage: true });
   await item.getByRole('button', { name: 'Confirm deletion' }).click();
-  await expect(page.getByRole('alertdialog')).toContainText('cannot be restored');
+  await expect(page.getByRole('alertdialog')).toContainText('This cannot be undone.');
   await page.getByRole('alertdialog').getByRole('button', { name: 'Delete the stored file' }).click();
   await expect(queue.getByText(name)).toHaveCount(0);
   await raw.reload();
