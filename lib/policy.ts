@@ -61,6 +61,9 @@ export const TEAM_ACTIONS = [
   'citation.edit',
   // the second step of a deletion a data steward asked for (C10, issue 14): the team's PI confirms it
   'deletion.approve',
+  // archive and restore (C10, issue 14): the team's PI may ask for an archived file of the team to be restored (a
+  // restore copies bytes back, it loses nothing); archiving stays with the data stewards ('archive.manage')
+  'archive.restore',
 ] as const;
 export type TeamAction = (typeof TEAM_ACTIONS)[number];
 
@@ -135,6 +138,7 @@ const PI: readonly TeamAction[] = [
   'citation.view',
   'citation.edit',
   'deletion.approve',
+  'archive.restore',
 ];
 
 /** What each team role may do in its own team. */
@@ -176,6 +180,8 @@ const FACILITY_EQUIVALENTS: Partial<Record<TeamAction, FacilityAction>> = {
   // campaign citation metadata (C10, issue 14)
   'citation.view': 'citation.export',
   'citation.edit': 'citation.curate',
+  // archive and restore (C10, issue 14): stewards restore every team's files
+  'archive.restore': 'archive.manage',
 };
 
 // FUNCTIONS //
@@ -298,6 +304,9 @@ const ACTION_WORDS: Partial<Record<Action, string>> = {
   'admin.users': 'managing users',
   'admin.teams': 'managing teams',
   'admin.memberships': 'managing memberships',
+  'archive.manage': 'archiving and restoring stored files',
+  'archive.restore': 'asking for an archived file to be restored',
+  'fixity.run': 'fixity checks of stored files',
 };
 
 export function describeAction(action: Action): string {

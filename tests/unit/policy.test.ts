@@ -64,6 +64,8 @@ const TEAM_TABLE: Record<TeamAction, { operator: boolean; analyst: boolean; pi: 
   'citation.edit': { operator: false, analyst: false, pi: true },
   // C10 (issue 14): a deletion a steward asked for is confirmed by the team's PI (or an administrator, below)
   'deletion.approve': { operator: false, analyst: false, pi: true },
+  // C10 (issue 14): the team's PI may have an archived file restored (stewards too, below); nobody of a team archives
+  'archive.restore': { operator: false, analyst: false, pi: true },
 };
 
 /** Team actions a steward may perform on any team: reading catalogue metadata only. */
@@ -74,6 +76,8 @@ const STEWARD_TEAM_ACTIONS: TeamAction[] = [
   // C10: the steward reads and edits every campaign's citation metadata (PRODUCT.md: stewards export citations)
   'citation.view',
   'citation.edit',
+  // C10 (issue 14): stewards restore every team's archived files
+  'archive.restore',
 ];
 
 const STEWARD_FACILITY: FacilityAction[] = [
