@@ -16,18 +16,11 @@ import { sendMail } from '@/lib/mail/transport';
 import { type FacilityRole, PERMISSIONS_BY_FACILITY_ROLE } from '@/lib/policy';
 import { FacilityRoleGrant, FixityCheck, RawFile, User } from '@/models';
 import { currentPlace } from './archive';
+import { fixityBatchSize } from './fixity-plan';
 
 const flog = log.child({ surface: 'fixity' });
 
-const DAY_MS = 86_400_000;
-
-/** Files one run checks so that `total` files all come round within `periodDays` with a run every `everyMs`. */
-export function fixityBatchSize(total: number, everyMs: number, periodDays: number): number {
-  if (total <= 0) return 0;
-  if (everyMs <= 0) return total;
-  const runsPerPeriod = Math.max(1, Math.floor((periodDays * DAY_MS) / everyMs));
-  return Math.min(total, Math.ceil(total / runsPerPeriod));
-}
+export { fixityBatchSize } from './fixity-plan';
 
 export type FixityOutcome = 'match' | 'mismatch' | 'missing';
 

@@ -6,7 +6,7 @@ import { QueryTypes } from 'sequelize';
 import { getDb } from '@/lib/db';
 import { getEnv } from '@/lib/env';
 import { AppError } from '@/lib/errors';
-import { fixityBatchSize } from '@/lib/stewardship/fixity';
+import { fixityBatchSize } from '@/lib/stewardship/fixity-plan';
 
 export interface FixityFailureDto {
   rawFileId: number;
