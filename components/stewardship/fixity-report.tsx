@@ -75,7 +75,7 @@ export function FixityReport() {
     },
   });
   const r = query.data?.report;
-  const pct = r && r.total ? Math.floor((100 * r.checkedWithinPeriod) / r.total) : 0;
+  const pct = r?.total ? Math.floor((100 * r.checkedWithinPeriod) / r.total) : 0;
 
   const columns: DataTableColumn<FixityFailureDto>[] = [
     {
