@@ -219,6 +219,7 @@ if [ -f scripts/demo-scans.ts ] && [ -s "$SEED_OUT" ] && [ -n "$WORKER_PID" ] &&
 fi
 
 [ -f scripts/demo-citation.ts ] && [ -s "$SEED_OUT" ] && { "$BIN/tsx" scripts/demo-citation.ts || echo "WARNING: demo citation data not added." >&2; }
+[ -f scripts/demo-fixity.ts ] && [ -s "$SEED_OUT" ] && { "$BIN/tsx" scripts/demo-fixity.ts || echo "WARNING: the demo fixity file was not planted." >&2; }
 
 echo
 print_phases
