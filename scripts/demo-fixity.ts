@@ -22,7 +22,8 @@ export async function plantDemoCorruption(): Promise<string> {
   if (!he) return 'demo fixity: no "He 800 nm elliptical" campaign (seed first)';
   const catalogued = randomBytes(64 * 1024);
   const stored = Buffer.from(catalogued);
-  for (let i = 0; i < 16; i++) stored[4096 + i * 977] ^= 0x10; // sixteen flipped bits
+  // sixteen flipped bits
+  for (let i = 0; i < 16; i++) stored.writeUInt8(stored.readUInt8(4096 + i * 977) ^ 0x10, 4096 + i * 977);
   const key = `raw/demo/${PLANTED_NAME}`;
   await putObject({ bucket: buckets().raw, key, body: stored, contentLength: stored.length });
   const shift = await Shift.create({

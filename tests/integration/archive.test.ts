@@ -30,6 +30,8 @@ const archiveRoute = await import('@/app/api/raw-files/[id]/archive/route');
 const restoreRoute = await import('@/app/api/raw-files/[id]/restore/route');
 const campaignArchive = await import('@/app/api/campaigns/[campaignId]/archive/route');
 const reduceRoute = await import('@/app/api/scans/[scanId]/reduce/route');
+const deletionRoute = await import('@/app/api/raw-files/[id]/deletion/route');
+const confirmRoute = await import('@/app/api/deletion-requests/[requestId]/confirm/route');
 
 // biome-ignore lint/suspicious/noExplicitAny: JSON read back from the API, narrowed by the assertions
 type Loose = any;
@@ -178,6 +180,33 @@ describe('archive and restore with a worker in this process', () => {
     expect(await isThere(done.archive_bucket!, done.archive_key!)).toBe(false);
     const after = (await auditOf(f.rawFileId)).map((a) => a.action);
     expect(after.slice(2)).toEqual(['file.restore_requested', 'file.restored']);
+  });
+
+  it('deleting an archived file (two people, past retention) removes the archive copy', async () => {
+    const f = await storedScan(randomBytes(3000));
+    await RawFile.update({ retention_until: '2020-01-01' }, { where: { id: f.rawFileId } });
+    actAs(w.users.steward);
+    expect(
+      (await post(archiveRoute, `/api/raw-files/${f.rawFileId}/archive`, { id: String(f.rawFileId) })).status,
+    ).toBe(202);
+    const archived = await waitForState(f.rawFileId, 'archived');
+    const asked = await post(
+      deletionRoute,
+      `/api/raw-files/${f.rawFileId}/deletion`,
+      { id: String(f.rawFileId) },
+      {
+        reason: 'Test: superseded, past retention.',
+      },
+    );
+    expect(asked.status, JSON.stringify(asked.json)).toBe(201);
+    const requestId = (asked.json as Loose).request.id as number;
+    actAs(w.users.pi);
+    const confirmed = await post(confirmRoute, `/api/deletion-requests/${requestId}/confirm`, {
+      requestId: String(requestId),
+    });
+    expect(confirmed.status, JSON.stringify(confirmed.json)).toBe(200);
+    expect(await isThere(archived.archive_bucket!, archived.archive_key!)).toBe(false);
+    expect(await isThere(f.bucket, f.key)).toBe(false);
   });
 
   it('a body with fields is refused (zod) and nothing changes', async () => {
