@@ -66,7 +66,11 @@ export async function checkFileFixity(
   }
   const now = new Date();
   const wasFlagged = f.fixity_flagged_at !== null;
-  await getDb().transaction(async (transaction) => {
+  const recorded = await getDb().transaction(async (transaction) => {
+    // An archive or restore that started while we read has moved (or is moving) the bytes: what we read is not a
+    // verdict on the file. Leave it for the next run.
+    const current = await RawFile.findByPk(f.id, { transaction, lock: transaction.LOCK.UPDATE });
+    if (!current || current.deleted_at || current.archive_state !== f.archive_state) return false;
     await FixityCheck.create(
       {
         raw_file_id: f.id,
@@ -111,7 +115,9 @@ export async function checkFileFixity(
         { transaction },
       );
     }
+    return true;
   });
+  if (!recorded) return null;
   return {
     rawFileId: f.id,
     fileName: f.original_name,

@@ -14,7 +14,9 @@ const { actAs, clearSession } = await import('./helpers/session');
 const { makeWorld } = await import('./helpers/world');
 const { closeSequelize } = await import('@/lib/db');
 const { closeReductionQueue } = await import('@/lib/queue/reduction-queue');
-const { closeFixityQueue, enqueueFixityRun, getFixityQueue, startFixityWorker } = await import('@/lib/jobs/fixity');
+const { FIXITY_SCHEDULER_ID, closeFixityQueue, enqueueFixityRun, getFixityQueue, scheduleFixity, startFixityWorker } =
+  await import('@/lib/jobs/fixity');
+const { resetEnvCache } = await import('@/lib/env');
 const { fixityCandidates } = await import('@/lib/stewardship/fixity');
 const { closeS3Client, deleteObject, putObject } = await import('@/lib/storage/s3');
 const { waitForCaughtMessage } = await import('@/lib/mail/catcher-store');
@@ -223,5 +225,25 @@ describe('the fixity job', () => {
     const jobId = (ok.json as Loose).jobId as string;
     const audit = await AuditEvent.findOne({ where: { action: 'fixity.run_requested', target_id: jobId } });
     expect(audit?.actor_id).toBe(w.users.steward);
+  });
+
+  it('the repeatable schedule follows LOBELINE_FIXITY_EVERY, and "off" removes it', async () => {
+    const before = process.env.LOBELINE_FIXITY_EVERY;
+    try {
+      process.env.LOBELINE_FIXITY_EVERY = '6h';
+      resetEnvCache();
+      expect(await scheduleFixity()).toEqual({ everyMs: 6 * 3_600_000 });
+      const s = await getFixityQueue().getJobScheduler(FIXITY_SCHEDULER_ID);
+      expect(Number(s?.every)).toBe(6 * 3_600_000);
+      expect(s?.name).toBe('fixity-batch');
+      process.env.LOBELINE_FIXITY_EVERY = 'off';
+      resetEnvCache();
+      expect(await scheduleFixity()).toEqual({ everyMs: 0 });
+      expect(await getFixityQueue().getJobScheduler(FIXITY_SCHEDULER_ID)).toBeUndefined();
+    } finally {
+      if (before === undefined) delete process.env.LOBELINE_FIXITY_EVERY;
+      else process.env.LOBELINE_FIXITY_EVERY = before;
+      resetEnvCache();
+    }
   });
 });
