@@ -67,6 +67,14 @@ export const AUDIT_ACTIONS = [
   // public landing pages of campaigns (C10, issue 14)
   'campaign.landing_published',
   'campaign.landing_withdrawn',
+  // archive, restore and scheduled fixity checks (C10/C11, issue 14); file.archived, file.restored and
+  // file.fixity_checked (a flagged file matching again) are above
+  'file.archive_requested',
+  'file.archive_failed',
+  'file.restore_requested',
+  'file.restore_failed',
+  'file.fixity_failed',
+  'fixity.run_requested',
 ] as const;
 export type AuditAction = (typeof AUDIT_ACTIONS)[number];
 

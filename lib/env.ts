@@ -14,6 +14,34 @@ const bucket = z
   .string()
   .regex(/^[a-z0-9][a-z0-9.-]{1,61}[a-z0-9]$/, '3–63 lower-case letters, digits, dots or hyphens (S3 bucket rules)');
 const httpUrl = z.url({ protocol: /^https?$/ });
+/** A duration such as 90s, 15m, 6h or 1d (archive and fixity schedule, issue 14); `off` is 0. */
+const DURATION_UNITS_MS = { s: 1_000, m: 60_000, h: 3_600_000, d: 86_400_000 } as const;
+export function parseDurationMs(v: string): number | null {
+  const t = v.trim().toLowerCase();
+  if (t === 'off' || t === '0') return 0;
+  const m = /^(\d{1,6})\s*(s|m|h|d)$/.exec(t);
+  return m ? Number(m[1]) * DURATION_UNITS_MS[m[2] as keyof typeof DURATION_UNITS_MS] : null;
+}
+const duration = z.string().transform((v, ctx) => {
+  const ms = parseDurationMs(v);
+  if (ms === null || (ms > 0 && ms < 10_000)) {
+    ctx.addIssue({ code: 'custom', message: 'a duration of at least 10s such as 30m, 6h or 1d, or off' });
+    return z.NEVER;
+  }
+  return ms;
+});
+/**
+ * Storage classes an archived copy may get: the ones S3 reads back at once, so that the copy can be verified,
+ * re-hashed by the fixity checks and restored without a thaw request (GLACIER and DEEP_ARCHIVE need one first;
+ * Lobeline does not send that request yet).
+ */
+export const ARCHIVE_STORAGE_CLASSES = [
+  'GLACIER_IR',
+  'STANDARD_IA',
+  'ONEZONE_IA',
+  'INTELLIGENT_TIERING',
+  'STANDARD',
+] as const;
 const origin = httpUrl.refine((v) => new URL(v).origin === v, 'an origin: scheme://host[:port] with no path or slash');
 
 /** What each variable should be: shown when it is missing or invalid. */
@@ -39,6 +67,14 @@ export const ENV_HELP = {
   S3_BUCKET_RAW: 'bucket for raw detector files, e.g. lobeline-raw',
   S3_BUCKET_DERIVED: 'bucket for derived arrays (calibrated images, maps), e.g. lobeline-derived',
   S3_BUCKET_ARCHIVE: 'bucket for archived raw files, e.g. lobeline-archive',
+  LOBELINE_ARCHIVE_STORAGE_CLASS:
+    'optional: S3 storage class of archived copies, one of GLACIER_IR, STANDARD_IA, ONEZONE_IA, INTELLIGENT_TIERING, STANDARD (default GLACIER_IR)',
+  LOBELINE_ARCHIVE_PART_MIB:
+    'optional: objects larger than this many MiB are archived and restored as a multipart copy of parts this size (5–5120, default 512)',
+  LOBELINE_FIXITY_EVERY:
+    'optional: how often the fixity job runs, e.g. 1h, 30m, 1d, or off (default 1h); each run re-hashes a share of the stored files',
+  LOBELINE_FIXITY_PERIOD_DAYS:
+    'optional: every stored file is re-hashed at least once in this many days (1–3650, default 30)',
   LOG_LEVEL: 'optional: debug, info, warn or error (default info)',
   TRUSTED_PROXY_HOPS:
     'optional: how many reverse proxies in front of Lobeline append to x-forwarded-for (default 0: the client address is the socket address)',
@@ -66,6 +102,10 @@ export const envSchema = z.object({
   S3_BUCKET_RAW: required(bucket),
   S3_BUCKET_DERIVED: required(bucket),
   S3_BUCKET_ARCHIVE: required(bucket),
+  LOBELINE_ARCHIVE_STORAGE_CLASS: z.preprocess(blank, z.enum(ARCHIVE_STORAGE_CLASSES).default('GLACIER_IR')),
+  LOBELINE_ARCHIVE_PART_MIB: z.preprocess(blank, z.coerce.number().int().min(5).max(5120).default(512)),
+  LOBELINE_FIXITY_EVERY: z.preprocess(blank, duration.default(3_600_000)),
+  LOBELINE_FIXITY_PERIOD_DAYS: z.preprocess(blank, z.coerce.number().int().min(1).max(3650).default(30)),
   LOG_LEVEL: z.preprocess(
     (v) => (typeof v === 'string' ? blank(v.toLowerCase()) : v),
     z.enum(['debug', 'info', 'warn', 'error']).default('info'),

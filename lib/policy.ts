@@ -63,6 +63,9 @@ export const TEAM_ACTIONS = [
   'deletion.approve',
   // public landing pages (C10, issue 14): the PI publishes or withdraws the campaign's page; stewards for every team
   'landing.publish',
+  // archive and restore (C10, issue 14): the team's PI may ask for an archived file of the team to be restored (a
+  // restore copies bytes back, it loses nothing); archiving stays with the data stewards ('archive.manage')
+  'archive.restore',
 ] as const;
 export type TeamAction = (typeof TEAM_ACTIONS)[number];
 
@@ -140,6 +143,7 @@ const PI: readonly TeamAction[] = [
   'citation.edit',
   'deletion.approve',
   'landing.publish',
+  'archive.restore',
 ];
 
 /** What each team role may do in its own team. */
@@ -184,6 +188,8 @@ const FACILITY_EQUIVALENTS: Partial<Record<TeamAction, FacilityAction>> = {
   'citation.edit': 'citation.curate',
   // public landing pages (C10, issue 14)
   'landing.publish': 'landing.curate',
+  // archive and restore (C10, issue 14): stewards restore every team's files
+  'archive.restore': 'archive.manage',
 };
 
 // FUNCTIONS //
@@ -341,6 +347,9 @@ const ACTION_WORDS: Partial<Record<Action, string>> = {
   'admin.users': 'managing users',
   'admin.teams': 'managing teams',
   'admin.memberships': 'managing memberships',
+  'archive.manage': 'archiving and restoring stored files',
+  'archive.restore': 'asking for an archived file to be restored',
+  'fixity.run': 'fixity checks of stored files',
 };
 
 export function describeAction(action: Action): string {

@@ -34,6 +34,11 @@ export class FixityCheck extends Model<InferAttributes<FixityCheck>, InferCreati
   declare sha256_found: string | null;
   declare triggered_by: number | null;
   declare message: string | null;
+  /** Archive and fixity (migration 2026.12.06T02.00.00): the catalogued hash, the outcome and the place checked. */
+  declare sha256_expected: CreationOptional<string | null>;
+  declare outcome: CreationOptional<'match' | 'mismatch' | 'missing' | null>;
+  declare bucket: CreationOptional<string | null>;
+  declare object_key: CreationOptional<string | null>;
 }
 
 export class DeletionRequest extends Model<InferAttributes<DeletionRequest>, InferCreationAttributes<DeletionRequest>> {
@@ -101,6 +106,10 @@ export function initAuditModels(sequelize: Sequelize): void {
       sha256_found: { type: DataTypes.CHAR(64), allowNull: true },
       triggered_by: fk(true),
       message: { type: DataTypes.TEXT, allowNull: true },
+      sha256_expected: { type: DataTypes.CHAR(64), allowNull: true },
+      outcome: { type: DataTypes.ENUM('match', 'mismatch', 'missing'), allowNull: true },
+      bucket: { type: DataTypes.STRING(63), allowNull: true },
+      object_key: { type: DataTypes.STRING(512), allowNull: true },
     },
     { sequelize, tableName: 'fixity_checks', timestamps: false, underscored: true },
   );

@@ -12,6 +12,12 @@ import { fk, modelOptions, pk, stampColumns } from './columns';
 
 export const RAW_FILE_STATUSES = ['accepted', 'quarantined', 'released', 'replaced'] as const;
 export type RawFileStatus = (typeof RAW_FILE_STATUSES)[number];
+/**
+ * Where a raw file's bytes are (migration 2026.12.06T02.00.00): `online` in the raw bucket, `archived` in the
+ * archive bucket; `archiving` and `restoring` while a job moves them (lib/stewardship/archive.ts).
+ */
+export const ARCHIVE_STATES = ['online', 'archiving', 'archived', 'restoring'] as const;
+export type ArchiveState = (typeof ARCHIVE_STATES)[number];
 export const UPLOAD_STATUSES = ['open', 'verifying', 'completed', 'aborted', 'failed'] as const;
 export const SCAN_STATUSES = ['uploaded', 'queued', 'reducing', 'reduced', 'failed', 'quarantined'] as const;
 export type ScanStatus = (typeof SCAN_STATUSES)[number];
@@ -47,6 +53,11 @@ export class RawFile extends Model<InferAttributes<RawFile>, InferCreationAttrib
   declare deleted_at: Date | null;
   /** C10 (issue 14): blocks deletion outright. */
   declare legal_hold: CreationOptional<boolean>;
+  /** Archive and fixity (issue 14): see ARCHIVE_STATES; the archive copy is archive_bucket/archive_key. */
+  declare archive_state: CreationOptional<ArchiveState>;
+  declare archive_bucket: CreationOptional<string | null>;
+  /** Set when a fixity check found the object missing or changed; cleared by a later matching check. */
+  declare fixity_flagged_at: CreationOptional<Date | null>;
   declare created_at: CreationOptional<Date>;
   declare updated_at: CreationOptional<Date>;
 }
@@ -134,6 +145,9 @@ export function initFileModels(sequelize: Sequelize): void {
       last_fixity_ok: { type: DataTypes.BOOLEAN, allowNull: true },
       deleted_at: { type: DataTypes.DATE(3), allowNull: true },
       legal_hold: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: false },
+      archive_state: { type: DataTypes.ENUM(...ARCHIVE_STATES), allowNull: false, defaultValue: 'online' },
+      archive_bucket: { type: DataTypes.STRING(63), allowNull: true },
+      fixity_flagged_at: { type: DataTypes.DATE(3), allowNull: true },
       ...stampColumns(),
     },
     { sequelize, tableName: 'raw_files', ...modelOptions },

@@ -155,6 +155,11 @@ async function startS3(): Promise<S3rverInstance> {
   accounts.DUMMY_ACCOUNT.revokeAccessKey('S3RVER');
   accounts.DUMMY_ACCOUNT.createKeyPair(need('S3_ACCESS_KEY_ID'), need('S3_SECRET_ACCESS_KEY'));
 
+  // s3rver's list of storage classes predates GLACIER_IR (Glacier Instant Retrieval), Lobeline's default archive
+  // class (lib/env.ts LOBELINE_ARCHIVE_STORAGE_CLASS): accept it too. The class is only recorded, never acted on.
+  const objectModel = require('@20minutes/s3rver/lib/models/object') as { STORAGE_CLASSES: string[] };
+  if (!objectModel.STORAGE_CLASSES.includes('GLACIER_IR')) objectModel.STORAGE_CLASSES.push('GLACIER_IR');
+
   const S3rver = require('@20minutes/s3rver') as S3rverCtor;
   const app = new S3rver({
     address: '127.0.0.1',

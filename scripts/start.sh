@@ -220,6 +220,7 @@ fi
 
 [ -f scripts/demo-citation.ts ] && [ -s "$SEED_OUT" ] && { "$BIN/tsx" scripts/demo-citation.ts || echo "WARNING: demo citation data not added." >&2; }
 [ -f scripts/demo-landing.ts ] && [ -s "$SEED_OUT" ] && { "$BIN/tsx" scripts/demo-landing.ts || echo "WARNING: no demo public page." >&2; }
+[ -f scripts/demo-fixity.ts ] && [ -s "$SEED_OUT" ] && { "$BIN/tsx" scripts/demo-fixity.ts || echo "WARNING: the demo fixity file was not planted." >&2; }
 
 echo
 print_phases

@@ -50,7 +50,17 @@ async function main(): Promise<number> {
   const { worker, close } = startReductionWorker({ concurrency, name });
   // Large uploads are verified here too, off the web server's request path.
   const verify = startUploadVerifyWorker({ name });
-  await Promise.all([worker.waitUntilReady(), verify.worker.waitUntilReady()]);
+  // Archive and restore moves, and the scheduled fixity checks (C10, issue 14).
+  const { startArchiveWorker } = await import('@/lib/jobs/archive');
+  const { startFixityWorker } = await import('@/lib/jobs/fixity');
+  const archive = startArchiveWorker({ name });
+  const fixity = startFixityWorker({ name });
+  await Promise.all([
+    worker.waitUntilReady(),
+    verify.worker.waitUntilReady(),
+    archive.worker.waitUntilReady(),
+    fixity.worker.waitUntilReady(),
+  ]);
   log.info('reduction worker ready', { name, concurrency });
   console.log(`Lobeline reduction worker ${name} is waiting for jobs (concurrency ${concurrency}). Ctrl-C stops it.`);
   await new Promise<void>((resolve) => {
@@ -64,7 +74,10 @@ async function main(): Promise<number> {
     process.once('SIGINT', () => stop('SIGINT'));
     process.once('SIGTERM', () => stop('SIGTERM'));
   });
-  await Promise.all([close(), verify.close()]);
+  await Promise.all([close(), verify.close(), archive.close(), fixity.close()]);
+  const { closeFixityQueue } = await import('@/lib/jobs/fixity');
+  const { closeArchiveQueue } = await import('@/lib/jobs/archive');
+  await Promise.all([closeFixityQueue(), closeArchiveQueue()]);
   await closeSequelize();
   closeS3Client();
   closeMailTransport();

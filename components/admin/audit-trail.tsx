@@ -107,6 +107,13 @@ const ACTION_WORDS: Record<AuditAction, string> = {
   'file.deletion_refused': 'Deletion refused',
   'campaign.landing_published': 'Public page published',
   'campaign.landing_withdrawn': 'Public page withdrawn',
+  // archive, restore and fixity (issue 14)
+  'file.archive_requested': 'Archive asked for',
+  'file.archive_failed': 'Archive failed',
+  'file.restore_requested': 'Restore asked for',
+  'file.restore_failed': 'Restore failed',
+  'file.fixity_failed': 'Fixity check failed',
+  'fixity.run_requested': 'Fixity check started by hand',
 };
 
 const TARGET_WORDS: Record<string, string> = {

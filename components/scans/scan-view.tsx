@@ -11,6 +11,7 @@ import { XYPlot } from '@/components/plots/xy-plot';
 import { EmptyState, ErrorState, LoadingBlock, PageHeader, Panel } from '@/components/ui';
 import { apiFetch } from '@/lib/api/client';
 import { formatBytes, formatDateTime } from '@/lib/format';
+import { ArchivedNotice } from './archived-notice';
 import { DistributionsPanel } from './distributions-panel';
 import { FlagControl } from './flag-control';
 import { EXPERIMENT_LABELS, phaseText, regionLabel, stepAxisLabel, valueWithError } from './format';
@@ -47,7 +48,9 @@ export function ScanView({
     refetchInterval: (q) => {
       const s = q.state.data?.scan.status;
       const open = q.state.data?.jobs.some((j) => j.status === 'queued' || j.status === 'running');
-      return s === 'queued' || s === 'reducing' || s === 'uploaded' || open ? 1500 : false;
+      const a = q.state.data?.scan.rawFileArchiveState;
+      const moving = a === 'archiving' || a === 'restoring';
+      return s === 'queued' || s === 'reducing' || s === 'uploaded' || open || moving ? 1500 : false;
     },
   });
   const [resultId, setResultId] = useState<number | null>(null);
@@ -121,6 +124,15 @@ export function ScanView({
           {scan.status === 'failed' ? <p className="mb-1 font-semibold">The reduction failed</p> : null}
           {scan.statusMessage}
         </div>
+      ) : null}
+
+      {scan.rawFileId && scan.rawFileArchiveState && scan.rawFileArchiveState !== 'online' ? (
+        <ArchivedNotice
+          scanId={scan.id}
+          rawFileId={scan.rawFileId}
+          state={scan.rawFileArchiveState}
+          canRestore={!!can.restore}
+        />
       ) : null}
 
       {downloadProblem ? (

@@ -7,7 +7,7 @@ export interface ScanResponse {
   scan: ScanDetailDto['scan'];
   results: ResultSummaryDto[];
   jobs: JobDto[];
-  can: { viewResults: boolean; startReduction: boolean; flag: boolean };
+  can: { viewResults: boolean; startReduction: boolean; flag: boolean; restore?: boolean };
 }
 
 export interface ResultResponse {

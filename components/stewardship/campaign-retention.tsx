@@ -1,10 +1,11 @@
 'use client';
 // Retention, embargo and legal hold of a campaign (C10): set by data stewards, read by everyone of the team.
-import { useMutation, useQueryClient } from '@tanstack/react-query';
+import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { useState } from 'react';
-import { Badge, Button, Field, inputClass, Panel } from '@/components/ui';
+import { Badge, Button, ConfirmDialog, Field, inputClass, Panel } from '@/components/ui';
 import { apiFetch, detailsByField } from '@/lib/api/client';
-import { formatDay } from '@/lib/format';
+import { formatBytes, formatDay } from '@/lib/format';
+import type { CampaignArchiveProgress } from '@/lib/stewardship/archive';
 
 export interface CampaignRetention {
   retentionUntil: string | null;
@@ -136,6 +137,102 @@ export function CampaignRetentionPanel({
           ) : null}
         </dl>
       )}
+      <CampaignArchive campaignId={campaignId} editable={editable} />
     </Panel>
+  );
+}
+
+/**
+ * Archive state of the campaign's stored files, and (for data stewards) archiving or restoring all of them: one
+ * queued job per file, whose progress shows here while they run.
+ */
+function CampaignArchive({ campaignId, editable }: { campaignId: number; editable: boolean }) {
+  const qc = useQueryClient();
+  const [confirming, setConfirming] = useState<'archive' | 'restore' | null>(null);
+  const query = useQuery({
+    queryKey: ['campaign', campaignId, 'archive'],
+    queryFn: () => apiFetch<{ progress: CampaignArchiveProgress }>(`/api/campaigns/${campaignId}/archive`),
+    refetchInterval: (q) => {
+      const b = q.state.data?.progress.byState;
+      return b && b.archiving + b.restoring > 0 ? 2000 : false;
+    },
+  });
+  const move = useMutation({
+    mutationFn: (direction: 'archive' | 'restore') =>
+      apiFetch(`/api/campaigns/${campaignId}/archive`, { method: 'POST', json: { direction } }),
+    onSuccess: async () => {
+      setConfirming(null);
+      await qc.invalidateQueries({ queryKey: ['campaign', campaignId, 'archive'] });
+    },
+  });
+  const p = query.data?.progress;
+  if (!p) return null;
+  const moving = p.byState.archiving + p.byState.restoring;
+  const done = p.files - moving;
+  return (
+    <div className="mt-4 border-t border-ink-100 pt-4" data-testid="campaign-archive">
+      <h3 className="text-small font-semibold text-ink-900">Archive</h3>
+      <p className="mt-1 text-small text-ink-700">
+        {p.files} stored file{p.files === 1 ? '' : 's'} ({formatBytes(p.bytes)}): {p.byState.online} online,{' '}
+        {p.byState.archived} archived
+        {moving ? `, ${p.byState.archiving} being archived, ${p.byState.restoring} being restored` : ''}.
+      </p>
+      {moving ? (
+        <div className="mt-2" role="status" aria-label="Archive progress">
+          <div className="h-1.5 w-full overflow-hidden rounded-full bg-ink-100" aria-hidden="true">
+            <div
+              className="h-full bg-lobe-600"
+              style={{ width: `${Math.round((100 * done) / Math.max(1, p.files))}%` }}
+            />
+          </div>
+          <p className="mt-1 text-micro text-ink-500">
+            {done} of {p.files} files in place; the rest are being copied and checked.
+          </p>
+        </div>
+      ) : null}
+      {editable ? (
+        <div className="mt-3 flex flex-wrap items-center gap-2">
+          <Button
+            size="sm"
+            variant="secondary"
+            disabled={p.byState.online === 0}
+            onClick={() => setConfirming('archive')}
+          >
+            Archive {p.byState.online} online file{p.byState.online === 1 ? '' : 's'}
+          </Button>
+          <Button
+            size="sm"
+            variant="secondary"
+            disabled={p.byState.archived === 0}
+            onClick={() => setConfirming('restore')}
+          >
+            Restore {p.byState.archived} archived file{p.byState.archived === 1 ? '' : 's'}
+          </Button>
+        </div>
+      ) : null}
+      {confirming ? (
+        <ConfirmDialog
+          title={confirming === 'archive' ? 'Archive the whole campaign?' : 'Restore the whole campaign?'}
+          confirmLabel={confirming === 'archive' ? 'Archive the files' : 'Restore the files'}
+          busy={move.isPending}
+          onConfirm={() => move.mutate(confirming)}
+          onCancel={() => {
+            move.reset();
+            setConfirming(null);
+          }}
+        >
+          <p className="text-small text-ink-700">
+            {confirming === 'archive'
+              ? 'Each online file is copied to the archive bucket in the archival storage class; its online copy is removed only after the archive copy’s SHA-256 matches. Archived scans cannot be reduced until they are restored.'
+              : 'Each archived file is copied back online and checked against its SHA-256; then its archive copy is removed.'}
+          </p>
+          {move.error ? (
+            <p role="alert" className="mt-2 text-small text-fault-600">
+              {move.error.message}
+            </p>
+          ) : null}
+        </ConfirmDialog>
+      ) : null}
+    </div>
   );
 }

@@ -1,6 +1,7 @@
 'use client';
 // The steward's actions on one row of the file register (C10): the file's own retention, embargo and legal hold,
-// and asking for its deletion (step one of two; a PI of the team or an administrator confirms on the deletion page).
+// and asking for its deletion (step one of two; a PI of the team or an administrator confirms on the deletion page),
+// archiving and restoring (a job copies, verifies the SHA-256, and only then removes the old copy).
 import { useMutation, useQueryClient } from '@tanstack/react-query';
 import { useState } from 'react';
 import { ConfirmDialog, Field, inputClass } from '@/components/ui';
@@ -9,7 +10,7 @@ import type { RegisterRowDto } from '@/lib/db/queries/file-register';
 
 export function FileRowActions({ row }: { row: RegisterRowDto }) {
   const qc = useQueryClient();
-  const [open, setOpen] = useState<'retention' | 'delete' | null>(null);
+  const [open, setOpen] = useState<'retention' | 'delete' | 'archive' | 'restore' | null>(null);
   const [retention, setRetention] = useState(row.retentionOwn ? (row.retentionUntil ?? '') : '');
   const [embargo, setEmbargo] = useState(row.embargoUntil ?? '');
   const [hold, setHold] = useState(row.legalHold);
@@ -33,6 +34,14 @@ export function FileRowActions({ row }: { row: RegisterRowDto }) {
       setOpen(null);
     },
   });
+  const move = useMutation({
+    mutationFn: (kind: 'archive' | 'restore') =>
+      apiFetch(`/api/raw-files/${row.id}/${kind}`, { method: 'POST', json: {} }),
+    onSuccess: async () => {
+      await refresh();
+      setOpen(null);
+    },
+  });
   const retentionErrors = detailsByField(saveRetention.error);
   const deleteErrors = detailsByField(askDeletion.error);
   return (
@@ -40,6 +49,16 @@ export function FileRowActions({ row }: { row: RegisterRowDto }) {
       <button type="button" className="font-medium text-lobe-700 hover:underline" onClick={() => setOpen('retention')}>
         Retention…
       </button>
+      {row.archiveState === 'online' && !row.deletion ? (
+        <button type="button" className="font-medium text-lobe-700 hover:underline" onClick={() => setOpen('archive')}>
+          Archive…
+        </button>
+      ) : null}
+      {row.archiveState === 'archived' ? (
+        <button type="button" className="font-medium text-lobe-700 hover:underline" onClick={() => setOpen('restore')}>
+          Restore…
+        </button>
+      ) : null}
       {row.deletion ? null : (
         <button type="button" className="font-medium text-fault-600 hover:underline" onClick={() => setOpen('delete')}>
           Ask to delete…
@@ -78,6 +97,39 @@ export function FileRowActions({ row }: { row: RegisterRowDto }) {
             {saveRetention.error && !Object.keys(retentionErrors).length ? (
               <p role="alert" className="text-small text-fault-600">
                 {saveRetention.error.message}
+              </p>
+            ) : null}
+          </div>
+        </ConfirmDialog>
+      ) : null}
+      {open === 'archive' || open === 'restore' ? (
+        <ConfirmDialog
+          title={open === 'archive' ? `Archive ${row.fileName}?` : `Restore ${row.fileName}?`}
+          confirmLabel={open === 'archive' ? 'Archive the file' : 'Restore the file'}
+          busy={move.isPending}
+          onConfirm={() => move.mutate(open)}
+          onCancel={() => {
+            move.reset();
+            setOpen(null);
+          }}
+        >
+          <div className="space-y-3 text-small text-ink-700">
+            {open === 'archive' ? (
+              <p>
+                The file is copied to the archive bucket in the archival storage class, the copy&rsquo;s SHA-256 is
+                checked against <span className="font-mono">{row.sha256.slice(0, 12)}…</span>, and only then is the
+                online copy removed. While it is archived its scans cannot be reduced; a data steward or the
+                team&rsquo;s PI can restore it at any time.
+              </p>
+            ) : (
+              <p>
+                The archived copy is copied back online and its SHA-256 checked; then the archive copy is removed and
+                the file&rsquo;s scans can be reduced again.
+              </p>
+            )}
+            {move.error ? (
+              <p role="alert" className="text-fault-600">
+                {move.error.message}
               </p>
             ) : null}
           </div>

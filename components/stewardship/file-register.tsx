@@ -18,6 +18,7 @@ import { compactInputClass } from '@/components/ui/input-class';
 import { apiFetch } from '@/lib/api/client';
 import type { RegisterRowDto } from '@/lib/db/queries/file-register';
 import { formatBytes, formatDateTime, formatDay } from '@/lib/format';
+import { ARCHIVE_STATE_WORDS } from '@/lib/stewardship/archive-words';
 import { FileRowActions } from './file-actions';
 
 const PAGE_SIZE = 25;
@@ -69,6 +70,7 @@ export function FileRegister() {
   const [completeness, setCompleteness] = useState('');
   const [embargo, setEmbargo] = useState('');
   const [hold, setHold] = useState('');
+  const [archive, setArchive] = useState('');
   const [text, setText] = useState('');
   const [q, setQ] = useState('');
   useEffect(() => {
@@ -76,7 +78,7 @@ export function FileRegister() {
     return () => clearTimeout(t);
   }, [text]);
   // biome-ignore lint/correctness/useExhaustiveDependencies: back to page 1 whenever a filter changes
-  useEffect(() => setPage(1), [teamId, campaignId, completeness, embargo, hold, q]);
+  useEffect(() => setPage(1), [teamId, campaignId, completeness, embargo, hold, archive, q]);
 
   const params = new URLSearchParams({
     page: String(page),
@@ -90,11 +92,16 @@ export function FileRegister() {
   if (completeness) params.set('completeness', completeness);
   if (embargo) params.set('embargo', embargo);
   if (hold) params.set('hold', hold);
+  if (archive === 'flagged') params.set('fixity', 'flagged');
+  else if (archive) params.set('archive', archive);
   if (q) params.set('q', q);
   const query = useQuery({
     queryKey: ['stewardship', 'files', params.toString()],
     queryFn: () => apiFetch<RegisterPage>(`/api/stewardship/files?${params}`),
     placeholderData: keepPreviousData,
+    // While a file is being archived or restored, look again every few seconds.
+    refetchInterval: (q) =>
+      q.state.data?.rows.some((r) => r.archiveState === 'archiving' || r.archiveState === 'restoring') ? 2000 : false,
   });
   const today = new Date().toISOString().slice(0, 10);
 
@@ -149,7 +156,7 @@ export function FileRegister() {
       header: 'Stored in',
       render: (r) => (
         <span className="whitespace-nowrap text-micro text-ink-700" title={r.storageKey}>
-          {r.bucket}
+          {r.archiveState === 'archived' && r.archiveBucket ? r.archiveBucket : r.bucket}
           <span className="block text-ink-500">{r.storageClass}</span>
         </span>
       ),
@@ -197,7 +204,16 @@ export function FileRegister() {
     {
       key: 'archive',
       header: 'Archive',
-      render: (r) => <Badge tone={r.archiveState === 'live' ? 'neutral' : 'info'}>{r.archiveState}</Badge>,
+      render: (r) => (
+        <div className="whitespace-nowrap" data-testid={`archive-state-${r.id}`}>
+          <Badge tone={r.archiveState === 'online' ? 'neutral' : r.archiveState === 'archived' ? 'info' : 'warn'}>
+            {ARCHIVE_STATE_WORDS[r.archiveState]}
+          </Badge>
+          {r.archiveState === 'archived' && r.archivedAt ? (
+            <span className="block text-micro text-ink-500">since {formatDay(r.archivedAt.slice(0, 10))}</span>
+          ) : null}
+        </div>
+      ),
     },
     {
       key: 'fixity',
@@ -223,15 +239,20 @@ export function FileRegister() {
         title="File register"
         description="Every raw file stored for every team: where it lives, its checksum, how completely it and its campaign are described, and how long it must be kept. Metadata only: results, images and maps stay with their teams."
         actions={
-          <Link href="/deletions" className="text-small font-medium text-lobe-700 hover:underline">
-            Deletions waiting for a second person
-          </Link>
+          <div className="flex flex-col items-end gap-1">
+            <Link href="/stewardship/fixity" className="text-small font-medium text-lobe-700 hover:underline">
+              Fixity report
+            </Link>
+            <Link href="/deletions" className="text-small font-medium text-lobe-700 hover:underline">
+              Deletions waiting for a second person
+            </Link>
+          </div>
         }
       />
       <Panel
         flush
         title={data ? `${data.total} file${data.total === 1 ? '' : 's'}` : 'Files'}
-        description="Archive and fixity columns show the state of each file; archiving and scheduled fixity checks are not switched on yet, so every file is live and not yet checked."
+        description="Archive: online files are in the raw bucket, archived ones in the archive bucket in its archival storage class. Fixity: the scheduled job re-hashes every stored file within the configured period and flags any that no longer match."
         actions={
           <>
             <label className="sr-only" htmlFor="reg-team">
@@ -307,6 +328,21 @@ export function FileRegister() {
               <option value="">Held or not</option>
               <option value="held">Under legal hold</option>
               <option value="deletion">Deletion asked</option>
+            </select>
+            <label className="sr-only" htmlFor="reg-archive">
+              Archive and fixity
+            </label>
+            <select
+              id="reg-archive"
+              className={compactInputClass()}
+              value={archive}
+              onChange={(e) => setArchive(e.target.value)}
+            >
+              <option value="">Online or archived</option>
+              <option value="online">Online</option>
+              <option value="archived">Archived</option>
+              <option value="moving">Being archived or restored</option>
+              <option value="flagged">Fixity check failed</option>
             </select>
             <label className="sr-only" htmlFor="reg-q">
               Search by file name or checksum

@@ -17,6 +17,7 @@ import { metadataOverrideSchema } from '@/lib/ingest/schemas';
 import { downloadVerified, StoredFileMismatchError } from '@/lib/ingest/verify';
 import { log } from '@/lib/log';
 import { type ReductionJobData, type ReductionJobOutcome, reductionBackoffMs } from '@/lib/queue/reduction-queue';
+import { ARCHIVED_REDUCTION_MESSAGE } from '@/lib/stewardship/archive-words';
 import { buckets, putObject } from '@/lib/storage/s3';
 import {
   AnalysisSettingsVersion,
@@ -149,6 +150,8 @@ export async function processReduction(data: ReductionJobData, ctx: JobContext):
     if (file.status === 'quarantined') {
       throw new ReductionRefusedError('The raw file is quarantined; release it before reducing the scan.');
     }
+    // Archived after the job was queued: ask for a restore (lib/stewardship/archive.ts) rather than read the archive.
+    if (file.archive_state !== 'online') throw new ReductionRefusedError(ARCHIVED_REDUCTION_MESSAGE);
     if (!cal || !set) throw new ReductionRefusedError('The chosen calibration or settings version no longer exists.');
     if (!team) throw new ReductionRefusedError('The scan’s team no longer exists.');
 

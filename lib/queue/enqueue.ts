@@ -5,7 +5,8 @@ import { Op } from 'sequelize';
 import { getDb } from '@/lib/db';
 import { AppError } from '@/lib/errors';
 import { log } from '@/lib/log';
-import { AnalysisSettingsVersion, Campaign, DetectorCalibrationVersion, ReductionJob, Scan } from '@/models';
+import { ARCHIVED_REDUCTION_MESSAGE } from '@/lib/stewardship/archive-words';
+import { AnalysisSettingsVersion, Campaign, DetectorCalibrationVersion, RawFile, ReductionJob, Scan } from '@/models';
 import { addReductionJob, reductionJobId } from './reduction-queue';
 
 export interface EnqueueOptions {
@@ -19,7 +20,7 @@ export interface EnqueueOptions {
 
 export type EnqueueOutcome =
   | { queued: true; reductionJobId: number; queueJobId: string; calibrationId: number; settingsId: number }
-  | { queued: false; reason: string };
+  | { queued: false; reason: string; needsRestore?: { rawFileId: number } };
 
 /**
  * Queues the reduction of one scan with a calibration and settings version of its campaign.
@@ -36,6 +37,11 @@ export async function enqueueReductionForScan(scanId: number, options: EnqueueOp
     throw new AppError('conflict:reduction', {
       message: 'This scan’s file is quarantined; release it (or replace the file) before reducing it.',
     });
+  }
+  // An archived file (or one on its way to or from the archive) is not reduced: the answer asks for a restore.
+  const file = await RawFile.findByPk(scan.raw_file_id, { attributes: ['id', 'archive_state'] });
+  if (file && file.archive_state !== 'online') {
+    return { queued: false, reason: ARCHIVED_REDUCTION_MESSAGE, needsRestore: { rawFileId: file.id } };
   }
   const campaign = await Campaign.findByPk(scan.campaign_id);
   if (!campaign) throw new AppError('not_found:campaign');

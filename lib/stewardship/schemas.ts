@@ -50,3 +50,35 @@ export const reasonBody = z.object({
     .min(10, 'Give a reason of at least 10 characters; it stays in the audit trail.')
     .max(2000, 'The reason may have at most 2000 characters.'),
 });
+
+// ARCHIVE, RESTORE AND FIXITY (issue 14) //
+
+/** POST /api/raw-files/[id]/archive and …/restore: nothing to send (an empty object, or no fields). */
+export const moveBody = z.strictObject({}, { error: 'This request takes no fields.' });
+
+/** POST /api/campaigns/[campaignId]/archive: archive every online file of the campaign, or restore every archived one. */
+export const campaignMoveBody = z.object({
+  direction: z.enum(['archive', 'restore'], 'Choose archive or restore.'),
+});
+
+/** POST /api/stewardship/fixity: check this many of the least-recently-checked files now. */
+export const fixityRunBody = z.object({
+  limit: z.coerce
+    .number('Give the number of files as a whole number.')
+    .int('Give the number of files as a whole number.')
+    .min(1, 'Check at least 1 file.')
+    .max(10_000, 'Check at most 10 000 files at once.')
+    .default(50),
+  /** Re-check these files (e.g. after putting back a good copy) instead of the least-recently-checked ones. */
+  rawFileIds: z
+    .array(z.number().int().positive(), 'List file ids as whole numbers.')
+    .min(1, 'Name at least one file.')
+    .max(1000, 'Name at most 1000 files at once.')
+    .optional(),
+});
+
+/** GET /api/stewardship/fixity: the report's list of failures, paged. */
+export const fixityReportQuery = z.object({
+  page: z.coerce.number().int().min(1).max(100_000).default(1),
+  pageSize: z.coerce.number().int().min(5).max(100).default(25),
+});

@@ -225,6 +225,10 @@ export async function copyObjectAnySize(input: {
   sizeBytes: number;
   singleMaxBytes?: number;
   partBytes?: number;
+  /** Sent with the copy (CopyObject, or the multipart upload's creation). */
+  storageClass?: StorageClass;
+  /** Awaited after each copied part (multipart only): for progress reports and for the interrupted-copy tests. */
+  onPart?: (done: { partNumber: number; parts: number; bytes: number }) => Promise<void> | void;
 }): Promise<void> {
   const singleMax = input.singleMaxBytes ?? MAX_SINGLE_COPY_BYTES;
   if (input.sizeBytes <= singleMax) {
@@ -236,8 +240,13 @@ export async function copyObjectAnySize(input: {
     Math.ceil(input.sizeBytes / 10_000),
     5 * 1024 * 1024,
   );
-  const { uploadId } = await createMultipart({ bucket: input.toBucket, key: input.toKey });
+  const { uploadId } = await createMultipart({
+    bucket: input.toBucket,
+    key: input.toKey,
+    storageClass: input.storageClass,
+  });
   const where = { bucket: input.toBucket, key: input.toKey };
+  const partCount = Math.ceil(input.sizeBytes / partBytes);
   try {
     const parts: { partNumber: number; etag: string }[] = [];
     for (let start = 0, n = 1; start < input.sizeBytes; start += partBytes, n++) {
@@ -257,6 +266,7 @@ export async function copyObjectAnySize(input: {
         return out.CopyPartResult.ETag;
       });
       parts.push({ partNumber: n, etag });
+      await input.onPart?.({ partNumber: n, parts: partCount, bytes: end + 1 });
     }
     await completeMultipart({ ...where, uploadId, parts });
   } catch (err) {
@@ -329,6 +339,7 @@ export async function createMultipart(input: {
   key: string;
   contentType?: string;
   metadata?: Record<string, string>;
+  storageClass?: StorageClass;
 }): Promise<{ uploadId: string }> {
   return run('createMultipart', { bucket: input.bucket, key: input.key }, async () => {
     const out = await getS3Client().send(
@@ -337,6 +348,7 @@ export async function createMultipart(input: {
         Key: input.key,
         ContentType: input.contentType,
         Metadata: input.metadata,
+        StorageClass: input.storageClass,
       }),
     );
     if (!out.UploadId) throw new Error('no UploadId in response');

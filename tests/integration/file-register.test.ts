@@ -69,7 +69,7 @@ describe('the steward file register', () => {
     expect(mine.sizeBytes).toBeGreaterThan(0);
     expect(mine.storageClass).toBe('STANDARD');
     expect(mine.bucket).toBeTruthy();
-    expect(mine.archiveState).toBe('live');
+    expect(mine.archiveState).toBe('online');
     expect(mine.lastFixityAt).toBeNull();
     expect(j.teams.length).toBeGreaterThanOrEqual(2);
   });

@@ -32,10 +32,12 @@ vi.mock('server-only', () => ({}));
 const { callRoute } = await import('./helpers/call');
 const { actAs, clearSession } = await import('./helpers/session');
 const { makeWorld } = await import('./helpers/world');
-const { freshDeletableFile, freshDeletionRequest } = await import('./helpers/stewardship');
+const { freshArchivedFile, freshDeletableFile, freshDeletionRequest } = await import('./helpers/stewardship');
 const { closeSequelize } = await import('@/lib/db');
 const { closeMailTransport, sendMail } = await import('@/lib/mail/transport');
 const { closeReductionQueue } = await import('@/lib/queue/reduction-queue');
+const { closeArchiveQueue } = await import('@/lib/jobs/archive');
+const { closeFixityQueue } = await import('@/lib/jobs/fixity');
 const { closeS3Client } = await import('@/lib/storage/s3');
 const { waitForCaughtMessage } = await import('@/lib/mail/catcher-store');
 
@@ -706,6 +708,59 @@ const ROWS: Row[] = [
     },
     expect: { operator: [403, 404], analyst: [403, 404], pi: [200, 404], steward: 200, admin: 200, signedOut: 401 },
   },
+  // C10 (issue 14): archive and restore. Stewards archive and restore every team's files (202: the job is queued);
+  // the team's PI may have an archived file of the team restored; nobody else. Campaign-wide moves are the steward's.
+  {
+    route: '/api/raw-files/[id]/archive',
+    method: 'POST',
+    request: async ({ w, t }) => {
+      const { rawFileId } = await freshDeletableFile(w, t);
+      return { path: `/api/raw-files/${rawFileId}/archive`, params: { id: String(rawFileId) }, body: {} };
+    },
+    expect: teamObject({ operator: 403, analyst: 403, pi: 403, steward: 202 }),
+  },
+  {
+    route: '/api/raw-files/[id]/restore',
+    method: 'POST',
+    request: async ({ w, t }) => {
+      const { rawFileId } = await freshArchivedFile(w, t);
+      return { path: `/api/raw-files/${rawFileId}/restore`, params: { id: String(rawFileId) } };
+    },
+    expect: teamObject({ operator: 403, analyst: 403, pi: 202, steward: 202 }),
+  },
+  {
+    route: '/api/campaigns/[campaignId]/archive',
+    method: 'GET',
+    request: ({ t }) => campaignPath(t, '/archive'),
+    expect: metadataRead(),
+  },
+  {
+    route: '/api/campaigns/[campaignId]/archive',
+    method: 'POST',
+    request: async ({ w, t }) => {
+      // a fresh campaign, so that the shared world's scans stay online for the other rows
+      const campaignId = await w.freshReducibleCampaign(t);
+      return {
+        path: `/api/campaigns/${campaignId}/archive`,
+        params: { campaignId: String(campaignId) },
+        body: { direction: 'archive' },
+      };
+    },
+    expect: teamObject({ operator: 403, analyst: 403, pi: 403, steward: 202 }),
+  },
+  // C10/C11 (issue 14): the fixity report and a run by hand are the data steward's (no team in the path).
+  {
+    route: '/api/stewardship/fixity',
+    method: 'GET',
+    request: () => ({ path: '/api/stewardship/fixity' }),
+    expect: { operator: 403, analyst: 403, pi: 403, steward: 200, admin: 403, signedOut: 401 },
+  },
+  {
+    route: '/api/stewardship/fixity',
+    method: 'POST',
+    request: () => ({ path: '/api/stewardship/fixity', body: { limit: 1 } }),
+    expect: { operator: 403, analyst: 403, pi: 403, steward: 202, admin: 403, signedOut: 401 },
+  },
   {
     route: '/api/campaigns/[campaignId]/citation/record',
     method: 'GET',
@@ -923,6 +978,8 @@ afterAll(async () => {
   clearSession();
   await w?.cleanup();
   await closeReductionQueue();
+  await closeArchiveQueue();
+  await closeFixityQueue();
   closeS3Client();
   closeMailTransport();
   await closeSequelize();

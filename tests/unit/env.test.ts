@@ -26,7 +26,17 @@ const valid: Record<string, string> = {
   S3_BUCKET_ARCHIVE: 'lobeline-archive',
 };
 
-const OPTIONAL = ['MAIL_CATCHER_DIR', 'S3_ENDPOINT', 'LOG_LEVEL', 'TRUSTED_PROXY_HOPS'];
+const OPTIONAL = [
+  'MAIL_CATCHER_DIR',
+  'S3_ENDPOINT',
+  'LOG_LEVEL',
+  'TRUSTED_PROXY_HOPS',
+  // archive and fixity (issue 14): defaults in lib/env.ts, checked in tests/unit/fixity-plan.test.ts
+  'LOBELINE_ARCHIVE_STORAGE_CLASS',
+  'LOBELINE_ARCHIVE_PART_MIB',
+  'LOBELINE_FIXITY_EVERY',
+  'LOBELINE_FIXITY_PERIOD_DAYS',
+];
 const REQUIRED = Object.keys(ENV_HELP).filter((k) => !OPTIONAL.includes(k));
 
 function problemsOf(source: Record<string, string | undefined>) {

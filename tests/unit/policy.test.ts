@@ -66,6 +66,8 @@ const TEAM_TABLE: Record<TeamAction, { operator: boolean; analyst: boolean; pi: 
   'deletion.approve': { operator: false, analyst: false, pi: true },
   // C10 (issue 14): the team's PI publishes or withdraws the campaign's public landing page (and stewards, below)
   'landing.publish': { operator: false, analyst: false, pi: true },
+  // C10 (issue 14): the team's PI may have an archived file restored (stewards too, below); nobody of a team archives
+  'archive.restore': { operator: false, analyst: false, pi: true },
 };
 
 /** Team actions a steward may perform on any team: reading catalogue metadata only. */
@@ -78,6 +80,8 @@ const STEWARD_TEAM_ACTIONS: TeamAction[] = [
   'citation.edit',
   // C10: the steward publishes or withdraws any campaign's public landing page
   'landing.publish',
+  // C10 (issue 14): stewards restore every team's archived files
+  'archive.restore',
 ];
 
 const STEWARD_FACILITY: FacilityAction[] = [

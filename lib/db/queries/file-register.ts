@@ -15,6 +15,7 @@ import {
 import { citationBodySchema, EMPTY_CITATION } from '@/lib/citation/schema';
 import { getDb } from '@/lib/db';
 import { AppError } from '@/lib/errors';
+import type { ArchiveStateWord } from '@/lib/stewardship/archive-words';
 import type { ScanMetadata } from '@/reduction/formats';
 
 export const REGISTER_SORTS = [
@@ -37,7 +38,10 @@ export interface RegisterFilter {
   q?: string;
   completeness?: 'complete' | 'incomplete';
   embargo?: 'embargoed' | 'open';
-  archive?: 'live' | 'archived';
+  /** `online` (or the older word `live`), `archived`, or `moving` (being archived or restored). */
+  archive?: 'online' | 'live' | 'archived' | 'moving';
+  /** Files whose last fixity check failed. */
+  fixity?: 'flagged';
   /** Files under a legal hold, or with a deletion asked for. */
   hold?: 'held' | 'deletion';
   sort: RegisterSort;
@@ -69,8 +73,13 @@ export interface RegisterRowDto {
   legalHold: boolean;
   /** An open deletion request (asked for, not yet carried out or withdrawn). */
   deletion: { requestId: number; state: 'waiting' | 'confirmed' } | null;
-  /** "live" until archiving exists (archived_at is set by nothing yet). */
-  archiveState: 'live' | 'archived';
+  /** Where the bytes are (lib/stewardship/archive.ts): online, archiving, archived, restoring. */
+  archiveState: ArchiveStateWord;
+  /** The archive copy's bucket when archived (or being archived). */
+  archiveBucket: string | null;
+  archivedAt: string | null;
+  /** The last fixity check found the object missing or changed. */
+  fixityFlagged: boolean;
   lastFixityAt: string | null;
   lastFixityOk: boolean | null;
 }
@@ -122,6 +131,9 @@ interface Row {
   deletion_id: number | null;
   deletion_confirmed: number | boolean | null;
   archived_at: Date | string | null;
+  archive_state: ArchiveStateWord;
+  archive_bucket: string | null;
+  fixity_flagged_at: Date | string | null;
   last_fixity_at: Date | string | null;
   last_fixity_ok: number | boolean | null;
 }
@@ -152,8 +164,10 @@ export async function listRegister(f: RegisterFilter): Promise<{ rows: RegisterR
   if (f.embargo === 'open') where.push(`(${EMBARGO_SQL} IS NULL OR ${EMBARGO_SQL} <= UTC_DATE())`);
   if (f.hold === 'held') where.push('(rf.legal_hold OR COALESCE(c.legal_hold, 0))');
   if (f.hold === 'deletion') where.push('d.id IS NOT NULL');
-  if (f.archive === 'archived') where.push('rf.archived_at IS NOT NULL');
-  if (f.archive === 'live') where.push('rf.archived_at IS NULL');
+  if (f.archive === 'archived') where.push("rf.archive_state = 'archived'");
+  if (f.archive === 'live' || f.archive === 'online') where.push("rf.archive_state = 'online'");
+  if (f.archive === 'moving') where.push("rf.archive_state IN ('archiving', 'restoring')");
+  if (f.fixity === 'flagged') where.push('rf.fixity_flagged_at IS NOT NULL');
   // A file's campaign is the campaign of its first scan (a duplicate sent to another campaign links the same file).
   const from = `FROM raw_files rf
       JOIN teams t ON t.id = rf.team_id
@@ -175,7 +189,8 @@ export async function listRegister(f: RegisterFilter): Promise<{ rows: RegisterR
                 rf.retention_until IS NOT NULL AS retention_own, ${EMBARGO_SQL} AS embargo_until,
                 (rf.legal_hold OR COALESCE(c.legal_hold, 0)) AS legal_hold, d.id AS deletion_id,
                 d.confirmed_at IS NOT NULL AS deletion_confirmed,
-                rf.archived_at, rf.last_fixity_at, rf.last_fixity_ok
+                rf.archived_at, rf.archive_state, rf.archive_bucket, rf.fixity_flagged_at,
+                rf.last_fixity_at, rf.last_fixity_ok
            ${from}
           ORDER BY ${ORDER[f.sort]} ${dir}, rf.id ${dir}
           LIMIT :limit OFFSET :offset`,
@@ -219,7 +234,10 @@ export async function listRegister(f: RegisterFilter): Promise<{ rows: RegisterR
           deletion: row.deletion_id
             ? { requestId: row.deletion_id, state: row.deletion_confirmed ? 'confirmed' : 'waiting' }
             : null,
-          archiveState: row.archived_at ? 'archived' : 'live',
+          archiveState: row.archive_state,
+          archiveBucket: row.archive_state === 'online' ? null : row.archive_bucket,
+          archivedAt: row.archived_at ? new Date(row.archived_at).toISOString() : null,
+          fixityFlagged: row.fixity_flagged_at !== null,
           lastFixityAt: row.last_fixity_at ? new Date(row.last_fixity_at).toISOString() : null,
           lastFixityOk: row.last_fixity_ok === null ? null : !!row.last_fixity_ok,
         };

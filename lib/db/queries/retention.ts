@@ -8,6 +8,7 @@ import { recordAudit } from '@/lib/audit';
 import { getDb } from '@/lib/db';
 import { AppError } from '@/lib/errors';
 import { log } from '@/lib/log';
+import { currentPlace } from '@/lib/stewardship/archive';
 import { deletionBlockers, effectiveRetention } from '@/lib/stewardship/deletion-rules';
 import { deleteObject } from '@/lib/storage/s3';
 import { Campaign, DeletionRequest, RawFile, User } from '@/models';
@@ -329,10 +330,17 @@ export async function confirmDeletion(input: {
           { transaction },
         );
       }
+      if (subject.file.archive_state === 'archiving' || subject.file.archive_state === 'restoring') {
+        throw new AppError('conflict:archive', {
+          message: 'This file is being moved to or from the archive; confirm the deletion once the move is done.',
+        });
+      }
+      // An archived file's object is in the archive bucket (lib/stewardship/archive.ts).
+      const place = currentPlace(subject.file);
       return {
         rawFileId: r.raw_file_id,
-        bucket: subject.file.bucket,
-        key: subject.file.storage_key,
+        bucket: place.bucket,
+        key: place.key,
         sha256: subject.file.sha256,
       };
     }),

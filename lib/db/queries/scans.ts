@@ -371,6 +371,9 @@ export interface ScanDetailDto {
     campaignName: string;
     sha256: string | null;
     rawFileStatus: string | null;
+    /** The raw file's id and where its bytes are (issue 14: an archived file must be restored before reducing). */
+    rawFileId: number | null;
+    rawFileArchiveState: 'online' | 'archiving' | 'archived' | 'restoring' | null;
     quarantineReasons: string[] | null;
     flagNote: string | null;
     ellipticity: number | null;
@@ -452,6 +455,8 @@ export async function getScanDetail({ scanId }: { scanId: number }): Promise<Sca
         sizeBytes: file ? Number(file.size_bytes) : null,
         sha256: file?.sha256 ?? null,
         rawFileStatus: file?.status ?? null,
+        rawFileId: file?.id ?? null,
+        rawFileArchiveState: file?.archive_state ?? null,
         quarantineReasons: file?.quarantine_reasons ?? null,
         shiftId: s.shift_id,
         shiftTitle: shift?.title ?? null,

@@ -1,6 +1,6 @@
 // Test data of the stewardship routes (C10, issue 14): a stored raw file past its retention date, with its object
 // in the local S3 store, and an open deletion request of it.
-import { putObject } from '@/lib/storage/s3';
+import { buckets, deleteObject, putObject } from '@/lib/storage/s3';
 import { DeletionRequest, RawFile, Scan } from '@/models';
 import type { TeamData, World } from './world';
 
@@ -35,4 +35,17 @@ export async function freshDeletionRequest(w: World, t: TeamData, requestedBy: n
     cancelled_at: null,
   });
   return r.id;
+}
+
+/** A raw file of team `t`'s campaign that is archived: its object in the archive bucket only (archive and restore). */
+export async function freshArchivedFile(w: World, t: TeamData): Promise<{ rawFileId: number; sha256: string }> {
+  const f = await freshDeletableFile(w, t);
+  const body = new TextEncoder().encode(`stewardship test object ${f.rawFileId}`);
+  await putObject({ bucket: buckets().archive, key: f.key, body, contentLength: body.length });
+  await deleteObject(f.bucket, f.key);
+  await RawFile.update(
+    { archive_state: 'archived', archive_bucket: buckets().archive, archive_key: f.key, archived_at: new Date() },
+    { where: { id: f.rawFileId } },
+  );
+  return { rawFileId: f.rawFileId, sha256: f.sha256 };
 }

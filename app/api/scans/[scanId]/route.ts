@@ -19,6 +19,7 @@ export const GET = apiRoute({ params: scanParams }, async ({ actor, params }) =>
       viewResults,
       startReduction: can(actor, 'reduction.start', { teamId }),
       flag: can(actor, 'scan.flag', { teamId }),
+      restore: can(actor, 'archive.restore', { teamId }),
     },
   };
 });
