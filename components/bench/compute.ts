@@ -97,7 +97,8 @@ export function downsampleFrame(
       let v = c[p]!;
       if (k !== 0 && b) v -= k * b[p]!;
       if (invGain) v *= invGain[p]!;
-      out[orow + Math.floor(ix / f)] += v;
+      const o = orow + Math.floor(ix / f);
+      out[o] = out[o]! + v;
     }
   }
   const axis = (given: number[] | null, n: number) =>
