@@ -3,17 +3,10 @@
 // waits (older ones are dropped), so a dragged slider never builds a queue and the page never blocks.
 import { useCallback, useEffect, useRef, useState } from 'react';
 import type { BenchWorkerReply, BenchWorkerRequest } from './bench.worker';
+import { type BenchAnswer, BenchChannel } from './channel';
 import type { BenchFrame, BenchOutput, BenchRequest } from './compute';
 
-export interface BenchAnswer {
-  output: BenchOutput;
-  /** Compute time in the worker, ms. */
-  ms: number;
-  /** Request sequence number the answer belongs to (latest sent = newest state). */
-  seq: number;
-  /** performance.now() when the control change behind this answer happened. */
-  changedAt: number;
-}
+export type { BenchAnswer };
 
 function makeWorker(): Worker {
   return new Worker(new URL('./bench.worker.ts', import.meta.url), { type: 'module' });
@@ -21,69 +14,36 @@ function makeWorker(): Worker {
 
 /** The live bench: load a frame, then `request(state)` on every control change. */
 export function useBenchWorker() {
-  const workerRef = useRef<Worker | null>(null);
-  const inFlight = useRef<{ seq: number; changedAt: number } | null>(null);
-  const pending = useRef<{ req: BenchRequest; changedAt: number } | null>(null);
-  const seqRef = useRef(0);
+  const channel = useRef<BenchChannel | null>(null);
   const [answer, setAnswer] = useState<BenchAnswer | null>(null);
   const [error, setError] = useState<string | null>(null);
   const [busy, setBusy] = useState(false);
   const [loaded, setLoaded] = useState(false);
 
-  const send = useCallback((req: BenchRequest, changedAt: number) => {
-    const w = workerRef.current;
-    if (!w) return;
-    seqRef.current += 1;
-    inFlight.current = { seq: seqRef.current, changedAt };
-    setBusy(true);
-    w.postMessage({ type: 'compute', id: seqRef.current, req } satisfies BenchWorkerRequest);
+  useEffect(() => {
+    const c = new BenchChannel(
+      makeWorker(),
+      (a) => {
+        setAnswer(a);
+        setError(null);
+      },
+      setError,
+      setBusy,
+    );
+    channel.current = c;
+    return () => {
+      c.close();
+      channel.current = null;
+    };
   }, []);
 
-  useEffect(() => {
-    const w = makeWorker();
-    workerRef.current = w;
-    w.onmessage = (e: MessageEvent<BenchWorkerReply>) => {
-      const m = e.data;
-      const sent = inFlight.current;
-      inFlight.current = null;
-      if (m.type === 'result') {
-        setAnswer({ output: m.output, ms: m.ms, seq: m.id, changedAt: sent?.changedAt ?? performance.now() });
-        setError(null);
-      } else {
-        setError(m.message);
-      }
-      const next = pending.current;
-      pending.current = null;
-      if (next) send(next.req, next.changedAt);
-      else setBusy(false);
-    };
-    w.onerror = (e) => {
-      inFlight.current = null;
-      setBusy(false);
-      setError(e.message || 'The bench worker stopped.');
-    };
-    return () => {
-      w.terminate();
-      workerRef.current = null;
-    };
-  }, [send]);
-
   const load = useCallback((frame: BenchFrame) => {
-    const w = workerRef.current;
-    if (!w) return;
-    // a copy goes to the worker; the page keeps its own for the detector view
-    w.postMessage({ type: 'load', frame } satisfies BenchWorkerRequest);
+    if (!channel.current) return;
+    channel.current.load(frame);
     setLoaded(true);
   }, []);
 
-  const request = useCallback(
-    (req: BenchRequest) => {
-      const changedAt = performance.now();
-      if (inFlight.current) pending.current = { req, changedAt };
-      else send(req, changedAt);
-    },
-    [send],
-  );
+  const request = useCallback((req: BenchRequest) => channel.current?.request(req), []);
 
   return { load, request, answer, error, busy, loaded };
 }
