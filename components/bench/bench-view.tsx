@@ -301,19 +301,22 @@ function Bench({
                   </p>
                 </div>
                 {out ? (
-                  <Heatmap
-                    image={{
-                      nx: out.n,
-                      ny: out.n,
-                      data: out.image,
-                      xRange: [-out.pMaxAu, out.pMaxAu],
-                      yRange: [-out.pMaxAu, out.pMaxAu],
-                    }}
-                    colormap={ylGnBu}
-                    scale="linear"
-                    valueLabel="counts per cell"
-                    data-testid="bench-momentum"
-                  />
+                  <div className="min-w-[18rem] max-w-[440px] flex-1">
+                    <Heatmap
+                      image={{
+                        nx: out.n,
+                        ny: out.n,
+                        data: out.image,
+                        xRange: [-out.pMaxAu, out.pMaxAu],
+                        yRange: [-out.pMaxAu, out.pMaxAu],
+                      }}
+                      colormap={ylGnBu}
+                      scale="linear"
+                      valueLabel="counts per cell"
+                      data-testid="bench-momentum"
+                    />
+                    <p className="text-micro text-ink-500">Calibrated momentum image, counts per grid cell.</p>
+                  </div>
                 ) : (
                   <LoadingBlock lines={6} />
                 )}
@@ -606,7 +609,7 @@ function Bench({
                 />
                 <Switch
                   label="Subtract the background frame"
-                  checked={cal.background.subtract && cal.background.scale_by === 'shots'}
+                  checked={frame.background !== null && cal.background.subtract && cal.background.scale_by === 'shots'}
                   disabled={frame.background === null}
                   hint={
                     frame.background === null

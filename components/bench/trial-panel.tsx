@@ -9,6 +9,7 @@ import { useQuery, useQueryClient } from '@tanstack/react-query';
 import Link from 'next/link';
 import { useEffect, useRef, useState } from 'react';
 import { BatchesPanel } from '@/components/campaign/batches-panel';
+import { campaignKeys } from '@/components/campaign/query-keys';
 import type { CampaignResponse, ScanPage } from '@/components/campaign/types';
 import { formatNumber } from '@/components/plots/scales';
 import type { ResultResponse } from '@/components/scans/types';
@@ -93,7 +94,13 @@ export function TrialPanel({
   // the versions a PI may approve here: just saved, or the drafts the bench was opened with
   const calDraft = saved?.calibration ?? (baseCal && !baseCal.isCurrent && baseCal.status === 'draft' ? baseCal : null);
   const setDraft = saved?.settings ?? (baseSet && !baseSet.isCurrent && baseSet.status === 'draft' ? baseSet : null);
-  const unsaved = changedCal || changedSet;
+  // what the last save stored: the bench counts as unchanged again until the analyst moves something
+  const [savedAs, setSavedAs] = useState<{ cal: string | null; set: string | null }>({ cal: null, set: null });
+  const calNow = JSON.stringify(calibration);
+  const setNow = JSON.stringify(settings);
+  const calChanged = changedCal && calNow !== savedAs.cal;
+  const setChanged = changedSet && setNow !== savedAs.set;
+  const unsaved = calChanged || setChanged;
 
   async function save() {
     setSaving(true);
@@ -103,7 +110,7 @@ export function TrialPanel({
         calibration: null,
         settings: null,
       };
-      if (changedCal) {
+      if (calChanged) {
         out.calibration = (
           await apiFetch<{ version: VersionDto }>(`/api/campaigns/${c.id}/calibrations`, {
             method: 'POST',
@@ -111,7 +118,7 @@ export function TrialPanel({
           })
         ).version;
       }
-      if (changedSet) {
+      if (setChanged) {
         out.settings = (
           await apiFetch<{ version: VersionDto }>(`/api/campaigns/${c.id}/settings`, {
             method: 'POST',
@@ -119,7 +126,11 @@ export function TrialPanel({
           })
         ).version;
       }
-      setSaved(out);
+      setSaved((prev) => ({
+        calibration: out.calibration ?? prev?.calibration ?? null,
+        settings: out.settings ?? prev?.settings ?? null,
+      }));
+      setSavedAs((prev) => ({ cal: out.calibration ? calNow : prev.cal, set: out.settings ? setNow : prev.set }));
       qc.invalidateQueries({ queryKey: ['versions', c.id] });
     } catch (err) {
       setSaveError((err as Error).message);
@@ -135,7 +146,7 @@ export function TrialPanel({
     setRows([]);
     setTrialError(null);
     setTrialOf(
-      `${saved?.calibration ? `calibration v${saved.calibration.version}` : changedCal ? 'the unsaved calibration' : `calibration ${baseCal ? `v${baseCal.version}` : ''}`} with ${saved?.settings ? `settings v${saved.settings.version}` : changedSet ? 'the unsaved settings' : `settings ${baseSet ? `v${baseSet.version}` : ''}`}`,
+      `${saved?.calibration && !calChanged ? `calibration v${saved.calibration.version}` : calChanged ? 'the unsaved calibration' : `calibration ${baseCal ? `v${baseCal.version}` : ''}`} with ${saved?.settings && !setChanged ? `settings v${saved.settings.version}` : setChanged ? 'the unsaved settings' : `settings ${baseSet ? `v${baseSet.version}` : ''}`}`,
     );
     const cal = calibration;
     const set = settings;
@@ -221,7 +232,7 @@ export function TrialPanel({
   const running = progress !== null && progress.done < progress.total;
 
   return (
-    <div className="grid gap-6 xl:grid-cols-[26rem_minmax(0,1fr)]">
+    <div className="grid gap-6 2xl:grid-cols-[28rem_minmax(0,1fr)]">
       <Panel title="Keep it" description="Every save is a new draft version; nothing changes until the PI approves.">
         {can.editCalibration ? (
           <div className="space-y-3">
@@ -239,8 +250,10 @@ export function TrialPanel({
             </label>
             <Button onClick={save} isLoading={saving} disabled={!unsaved || saving} data-testid="bench-save">
               {unsaved
-                ? `Save as new ${[changedCal ? 'calibration' : null, changedSet ? 'settings' : null].filter(Boolean).join(' and ')} version`
-                : 'Nothing changed yet'}
+                ? `Save as new ${[calChanged ? 'calibration' : null, setChanged ? 'settings' : null].filter(Boolean).join(' and ')} version`
+                : saved
+                  ? 'Saved'
+                  : 'Nothing changed yet'}
             </Button>
             {saveError ? <ErrorState message={saveError} /> : null}
           </div>
@@ -385,12 +398,18 @@ export function TrialPanel({
 
 /** The campaign's current results after the approval, following the batch. */
 function ReReduced({ campaignId }: { campaignId: number }) {
+  const qc = useQueryClient();
   const q = useQuery({
     queryKey: ['bench-rereduced', campaignId],
     queryFn: () => apiFetch<ScanPage>(`/api/campaigns/${campaignId}/scans?pageSize=200&sort=id&dir=asc`),
     refetchInterval: (qq) =>
       qq.state.data?.rows.some((r) => r.status === 'queued' || r.status === 'reducing') ? 1500 : false,
   });
+  const settled = q.data ? !q.data.rows.some((r) => r.status === 'queued' || r.status === 'reducing') : false;
+  useEffect(() => {
+    // the batch list follows the worker on its own clock; bring it up to date when the last scan settles
+    if (settled) qc.invalidateQueries({ queryKey: campaignKeys.batches(campaignId) });
+  }, [settled, qc, campaignId]);
   if (!q.data) return null;
   return (
     <table className="w-full text-small" data-testid="bench-rereduced">
