@@ -263,7 +263,7 @@ export function findCentreBySymmetry(frame: BenchFrame, options: CentreOptions):
   if (!(searchPx > 0)) throw new RangeError(`searchPx must be > 0, got ${searchPx}`);
   let x = start[0];
   let y = start[1];
-  let hess = new Float64Array(4).fill(Number.NaN);
+  let hess: Float64Array = new Float64Array(4).fill(Number.NaN);
   let hinv: Float64Array | null = null;
   let evaluations = 0;
   let converged = true;
