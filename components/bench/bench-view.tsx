@@ -25,6 +25,7 @@ import type { BenchFrame } from './compute';
 import { factorFor } from './compute';
 import { Group, Knob, Switch } from './controls';
 import { type ClickMode, DetectorView } from './detector-view';
+import { ToolsPanel } from './tools-panel';
 import { TrialPanel } from './trial-panel';
 import { useBenchWorker } from './use-bench-worker';
 import { decodeFrame, type RawFrameResponse } from './wire';
@@ -466,249 +467,254 @@ function Bench({
           </div>
         </div>
 
-        <Panel
-          title="Adjust"
-          description={
-            <>
-              Starting from calibration {baseCal ? `v${baseCal.version}` : '(from the file)'} and settings{' '}
-              {baseSet ? `v${baseSet.version}` : '(defaults)'}
-              {changedCal || changedSet ? (
-                <>
-                  {' '}
-                  · <span className="text-flare-900">changed, not saved</span>
-                </>
-              ) : null}
-            </>
-          }
-          data-testid="bench-controls"
-        >
-          {!cal || !frame ? (
-            <LoadingBlock lines={8} />
-          ) : (
-            <div className="space-y-4">
-              {nSteps > 1 ? (
-                <label className="flex items-center gap-2 text-small text-ink-700">
-                  Step
-                  <select
-                    className={compactInputClass()}
-                    value={step}
-                    onChange={(e) => onStep(Number(e.target.value))}
-                    data-testid="bench-step"
-                  >
-                    {frame.meta.step.values.map((v, k) => (
-                      // biome-ignore lint/suspicious/noArrayIndexKey: a step is its position in the scan
-                      <option key={k} value={k}>
-                        {k + 1}: {formatNumber(v, 4)} {frame.meta.step.units}
-                      </option>
-                    ))}
-                  </select>
-                </label>
-              ) : null}
-              <Group title="Geometry">
-                <Knob
-                  label="Centre x"
-                  unit="px"
-                  value={cal.center_px[0]}
-                  min={0}
-                  max={nX - 1}
-                  step={0.1}
-                  onChange={(v) => upd({ center_px: [v, cal.center_px[1]] })}
-                  testId="centre-x"
-                />
-                <Knob
-                  label="Centre y"
-                  unit="px"
-                  value={cal.center_px[1]}
-                  min={0}
-                  max={nY - 1}
-                  step={0.1}
-                  onChange={(v) => upd({ center_px: [cal.center_px[0], v] })}
-                  testId="centre-y"
-                />
-                <Knob
-                  label="Rotation"
-                  unit="°"
-                  value={cal.rotation_deg}
-                  min={-180}
-                  max={180}
-                  step={0.05}
-                  onChange={(v) => upd({ rotation_deg: v })}
-                  testId="rotation"
-                />
-                <Knob
-                  label="Scale"
-                  unit="a.u./px"
-                  value={cal.momentum_per_pixel_au}
-                  min={Math.max(1e-5, cal.momentum_per_pixel_au * 0.5)}
-                  max={cal.momentum_per_pixel_au * 1.5}
-                  step={cal.momentum_per_pixel_au / 1000}
-                  onChange={(v) => v > 0 && upd({ momentum_per_pixel_au: v })}
-                  testId="scale"
-                />
-                <Knob
-                  label="Stretch ratio"
-                  value={cal.detector_ellipticity.ratio}
-                  min={0.8}
-                  max={1.25}
-                  step={0.001}
-                  onChange={(v) => v > 0 && upd({ detector_ellipticity: { ...cal.detector_ellipticity, ratio: v } })}
-                  testId="ellipse-ratio"
-                />
-                <Knob
-                  label="Stretch axis"
-                  unit="°"
-                  value={cal.detector_ellipticity.axis_deg}
-                  min={-90}
-                  max={90}
-                  step={0.5}
-                  onChange={(v) => upd({ detector_ellipticity: { ...cal.detector_ellipticity, axis_deg: v } })}
-                  testId="ellipse-axis"
-                />
-                <Switch
-                  label="Mirror the frame (x → −x)"
-                  checked={cal.mirror}
-                  onChange={(v) => upd({ mirror: v })}
-                  testId="mirror"
-                />
-              </Group>
-              <Group title="Pixels and corrections" aside={<span>{cal.bad_pixels.length} excluded</span>}>
-                <div className="flex items-center gap-2 text-small text-ink-700">
-                  <span>Exclude pixels above</span>
-                  <input
-                    type="number"
-                    min={0}
-                    className={compactInputClass('w-24')}
-                    value={hotThreshold || ''}
-                    placeholder="counts"
-                    onChange={(e) => setHotThreshold(Number(e.target.value) || 0)}
-                    aria-label="Counts above which a pixel is excluded"
-                    data-testid="hot-threshold"
-                  />
-                  <Button size="sm" variant="secondary" onClick={markAboveThreshold} disabled={!(hotThreshold > 0)}>
-                    Exclude
-                  </Button>
-                  {cal.bad_pixels.length ? (
-                    <Button size="sm" variant="ghost" onClick={() => upd({ bad_pixels: [] })}>
-                      Clear all
-                    </Button>
-                  ) : null}
-                </div>
-                <Switch
-                  label="Divide by the flat field"
-                  checked={cal.flat_field !== undefined}
-                  disabled={cal.flat_field === undefined}
-                  hint={
-                    cal.flat_field === undefined
-                      ? 'This calibration has no gain map.'
-                      : 'Off removes the gain map from this calibration.'
-                  }
-                  onChange={(v) => {
-                    if (!v) upd({ flat_field: undefined });
-                  }}
-                  testId="flat-field"
-                />
-                <Switch
-                  label="Subtract the background frame"
-                  checked={frame.background !== null && cal.background.subtract && cal.background.scale_by === 'shots'}
-                  disabled={frame.background === null}
-                  hint={
-                    frame.background === null
-                      ? 'The file has no background frame.'
-                      : 'Scaled by the ratio of laser shots (signal / background).'
-                  }
-                  onChange={(v) => upd({ background: { subtract: v, scale_by: v ? 'shots' : 'none' } })}
-                  testId="background"
-                />
-              </Group>
-              <Group title="Analysis">
-                <Switch
-                  label="Radial window follows dN/dp"
-                  checked={win === 'auto'}
-                  onChange={(v) =>
-                    updSet({
-                      radial_window_au: v
-                        ? 'auto'
-                        : [
-                            Math.max(0, (stepResult?.radius_au ?? settings.grid.p_max_au / 2) * 0.8),
-                            (stepResult?.radius_au ?? settings.grid.p_max_au / 2) * 1.2,
-                          ],
-                    })
-                  }
-                  testId="window-auto"
-                />
-                {Array.isArray(win) ? (
+        <div className="space-y-6">
+          <Panel
+            title="Adjust"
+            description={
+              <>
+                Starting from calibration {baseCal ? `v${baseCal.version}` : '(from the file)'} and settings{' '}
+                {baseSet ? `v${baseSet.version}` : '(defaults)'}
+                {changedCal || changedSet ? (
                   <>
-                    <Knob
-                      label="Window from"
-                      unit="a.u."
-                      value={win[0]}
-                      min={0}
-                      max={settings.grid.p_max_au}
-                      step={0.005}
-                      onChange={(v) => updSet({ radial_window_au: [Math.min(v, win[1] - 0.01), win[1]] })}
-                      testId="window-lo"
-                    />
-                    <Knob
-                      label="Window to"
-                      unit="a.u."
-                      value={win[1]}
-                      min={0}
-                      max={settings.grid.p_max_au}
-                      step={0.005}
-                      onChange={(v) => updSet({ radial_window_au: [win[0], Math.max(v, win[0] + 0.01)] })}
-                      testId="window-hi"
-                    />
+                    {' '}
+                    · <span className="text-flare-900">changed, not saved</span>
                   </>
                 ) : null}
-                <Knob
-                  label="Smoothing σ"
-                  unit="°"
-                  value={settings.angular_smoothing_deg}
-                  min={0}
-                  max={15}
-                  step={0.5}
-                  onChange={(v) => v >= 0 && updSet({ angular_smoothing_deg: v })}
-                  testId="smoothing"
-                />
-                <Switch
-                  label="Fit window follows each lobe (±3σ)"
-                  checked={settings.follow_data?.fit_window ?? false}
-                  onChange={(v) =>
-                    updSet({
-                      follow_data: {
-                        grid: settings.follow_data?.grid ?? false,
-                        peak_model: settings.follow_data?.peak_model ?? false,
-                        fit_window: v,
-                      },
-                    })
-                  }
-                  testId="fit-follow"
-                />
-                {!settings.follow_data?.fit_window ? (
-                  <Knob
-                    label="Fit half-width"
-                    unit="°"
-                    value={settings.fit_half_width_deg}
-                    min={5}
-                    max={90}
-                    step={1}
-                    onChange={(v) => v > 0 && updSet({ fit_half_width_deg: v })}
-                    testId="fit-half-width"
-                  />
+              </>
+            }
+            data-testid="bench-controls"
+          >
+            {!cal || !frame ? (
+              <LoadingBlock lines={8} />
+            ) : (
+              <div className="space-y-4">
+                {nSteps > 1 ? (
+                  <label className="flex items-center gap-2 text-small text-ink-700">
+                    Step
+                    <select
+                      className={compactInputClass()}
+                      value={step}
+                      onChange={(e) => onStep(Number(e.target.value))}
+                      data-testid="bench-step"
+                    >
+                      {frame.meta.step.values.map((v, k) => (
+                        // biome-ignore lint/suspicious/noArrayIndexKey: a step is its position in the scan
+                        <option key={k} value={k}>
+                          {k + 1}: {formatNumber(v, 4)} {frame.meta.step.units}
+                        </option>
+                      ))}
+                    </select>
+                  </label>
                 ) : null}
-              </Group>
-              <Group title="Resolution">
-                <Switch
-                  label="Compute at full resolution"
-                  checked={full}
-                  onChange={setFull}
-                  hint={`Slower; the preview sums blocks to at most ${PREVIEW_SIDE} px a side.`}
-                  testId="full-resolution"
-                />
-              </Group>
-            </div>
-          )}
-        </Panel>
+                <Group title="Geometry">
+                  <Knob
+                    label="Centre x"
+                    unit="px"
+                    value={cal.center_px[0]}
+                    min={0}
+                    max={nX - 1}
+                    step={0.1}
+                    onChange={(v) => upd({ center_px: [v, cal.center_px[1]] })}
+                    testId="centre-x"
+                  />
+                  <Knob
+                    label="Centre y"
+                    unit="px"
+                    value={cal.center_px[1]}
+                    min={0}
+                    max={nY - 1}
+                    step={0.1}
+                    onChange={(v) => upd({ center_px: [cal.center_px[0], v] })}
+                    testId="centre-y"
+                  />
+                  <Knob
+                    label="Rotation"
+                    unit="°"
+                    value={cal.rotation_deg}
+                    min={-180}
+                    max={180}
+                    step={0.05}
+                    onChange={(v) => upd({ rotation_deg: v })}
+                    testId="rotation"
+                  />
+                  <Knob
+                    label="Scale"
+                    unit="a.u./px"
+                    value={cal.momentum_per_pixel_au}
+                    min={Math.max(1e-5, cal.momentum_per_pixel_au * 0.5)}
+                    max={cal.momentum_per_pixel_au * 1.5}
+                    step={cal.momentum_per_pixel_au / 1000}
+                    onChange={(v) => v > 0 && upd({ momentum_per_pixel_au: v })}
+                    testId="scale"
+                  />
+                  <Knob
+                    label="Stretch ratio"
+                    value={cal.detector_ellipticity.ratio}
+                    min={0.8}
+                    max={1.25}
+                    step={0.001}
+                    onChange={(v) => v > 0 && upd({ detector_ellipticity: { ...cal.detector_ellipticity, ratio: v } })}
+                    testId="ellipse-ratio"
+                  />
+                  <Knob
+                    label="Stretch axis"
+                    unit="°"
+                    value={cal.detector_ellipticity.axis_deg}
+                    min={-90}
+                    max={90}
+                    step={0.5}
+                    onChange={(v) => upd({ detector_ellipticity: { ...cal.detector_ellipticity, axis_deg: v } })}
+                    testId="ellipse-axis"
+                  />
+                  <Switch
+                    label="Mirror the frame (x → −x)"
+                    checked={cal.mirror}
+                    onChange={(v) => upd({ mirror: v })}
+                    testId="mirror"
+                  />
+                </Group>
+                <Group title="Pixels and corrections" aside={<span>{cal.bad_pixels.length} excluded</span>}>
+                  <div className="flex items-center gap-2 text-small text-ink-700">
+                    <span>Exclude pixels above</span>
+                    <input
+                      type="number"
+                      min={0}
+                      className={compactInputClass('w-24')}
+                      value={hotThreshold || ''}
+                      placeholder="counts"
+                      onChange={(e) => setHotThreshold(Number(e.target.value) || 0)}
+                      aria-label="Counts above which a pixel is excluded"
+                      data-testid="hot-threshold"
+                    />
+                    <Button size="sm" variant="secondary" onClick={markAboveThreshold} disabled={!(hotThreshold > 0)}>
+                      Exclude
+                    </Button>
+                    {cal.bad_pixels.length ? (
+                      <Button size="sm" variant="ghost" onClick={() => upd({ bad_pixels: [] })}>
+                        Clear all
+                      </Button>
+                    ) : null}
+                  </div>
+                  <Switch
+                    label="Divide by the flat field"
+                    checked={cal.flat_field !== undefined}
+                    disabled={cal.flat_field === undefined}
+                    hint={
+                      cal.flat_field === undefined
+                        ? 'This calibration has no gain map.'
+                        : 'Off removes the gain map from this calibration.'
+                    }
+                    onChange={(v) => {
+                      if (!v) upd({ flat_field: undefined });
+                    }}
+                    testId="flat-field"
+                  />
+                  <Switch
+                    label="Subtract the background frame"
+                    checked={
+                      frame.background !== null && cal.background.subtract && cal.background.scale_by === 'shots'
+                    }
+                    disabled={frame.background === null}
+                    hint={
+                      frame.background === null
+                        ? 'The file has no background frame.'
+                        : 'Scaled by the ratio of laser shots (signal / background).'
+                    }
+                    onChange={(v) => upd({ background: { subtract: v, scale_by: v ? 'shots' : 'none' } })}
+                    testId="background"
+                  />
+                </Group>
+                <Group title="Analysis">
+                  <Switch
+                    label="Radial window follows dN/dp"
+                    checked={win === 'auto'}
+                    onChange={(v) =>
+                      updSet({
+                        radial_window_au: v
+                          ? 'auto'
+                          : [
+                              Math.max(0, (stepResult?.radius_au ?? settings.grid.p_max_au / 2) * 0.8),
+                              (stepResult?.radius_au ?? settings.grid.p_max_au / 2) * 1.2,
+                            ],
+                      })
+                    }
+                    testId="window-auto"
+                  />
+                  {Array.isArray(win) ? (
+                    <>
+                      <Knob
+                        label="Window from"
+                        unit="a.u."
+                        value={win[0]}
+                        min={0}
+                        max={settings.grid.p_max_au}
+                        step={0.005}
+                        onChange={(v) => updSet({ radial_window_au: [Math.min(v, win[1] - 0.01), win[1]] })}
+                        testId="window-lo"
+                      />
+                      <Knob
+                        label="Window to"
+                        unit="a.u."
+                        value={win[1]}
+                        min={0}
+                        max={settings.grid.p_max_au}
+                        step={0.005}
+                        onChange={(v) => updSet({ radial_window_au: [win[0], Math.max(v, win[0] + 0.01)] })}
+                        testId="window-hi"
+                      />
+                    </>
+                  ) : null}
+                  <Knob
+                    label="Smoothing σ"
+                    unit="°"
+                    value={settings.angular_smoothing_deg}
+                    min={0}
+                    max={15}
+                    step={0.5}
+                    onChange={(v) => v >= 0 && updSet({ angular_smoothing_deg: v })}
+                    testId="smoothing"
+                  />
+                  <Switch
+                    label="Fit window follows each lobe (±3σ)"
+                    checked={settings.follow_data?.fit_window ?? false}
+                    onChange={(v) =>
+                      updSet({
+                        follow_data: {
+                          grid: settings.follow_data?.grid ?? false,
+                          peak_model: settings.follow_data?.peak_model ?? false,
+                          fit_window: v,
+                        },
+                      })
+                    }
+                    testId="fit-follow"
+                  />
+                  {!settings.follow_data?.fit_window ? (
+                    <Knob
+                      label="Fit half-width"
+                      unit="°"
+                      value={settings.fit_half_width_deg}
+                      min={5}
+                      max={90}
+                      step={1}
+                      onChange={(v) => v > 0 && updSet({ fit_half_width_deg: v })}
+                      testId="fit-half-width"
+                    />
+                  ) : null}
+                </Group>
+                <Group title="Resolution">
+                  <Switch
+                    label="Compute at full resolution"
+                    checked={full}
+                    onChange={setFull}
+                    hint={`Slower; the preview sums blocks to at most ${PREVIEW_SIDE} px a side.`}
+                    testId="full-resolution"
+                  />
+                </Group>
+              </div>
+            )}
+          </Panel>
+          {cal && frame ? <ToolsPanel frame={frame} calibration={cal} onAccept={upd} /> : null}
+        </div>
       </div>
 
       {cal ? (

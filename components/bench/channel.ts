@@ -34,6 +34,7 @@ export class BenchChannel {
       const m = e.data;
       const sent = this.inFlight;
       this.inFlight = null;
+      if (m.type === 'tool') return;
       if (m.type === 'result') {
         this.onAnswer({ output: m.output, ms: m.ms, seq: m.id, changedAt: sent?.changedAt ?? performance.now() });
       } else {

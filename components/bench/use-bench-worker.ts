@@ -2,9 +2,11 @@
 // The bench's web worker from React: one request in flight at a time; while it runs, only the newest control state
 // waits (older ones are dropped), so a dragged slider never builds a queue and the page never blocks.
 import { useCallback, useEffect, useRef, useState } from 'react';
+import type { DetectorCalibration } from '@/reduction/formats';
 import type { BenchWorkerReply, BenchWorkerRequest } from './bench.worker';
 import { type BenchAnswer, BenchChannel } from './channel';
 import type { BenchFrame, BenchOutput, BenchRequest } from './compute';
+import type { BenchTool, ToolAnswer } from './tools';
 
 export type { BenchAnswer };
 
@@ -52,13 +54,15 @@ export function useBenchWorker() {
 export function createTrialRunner() {
   const w = makeWorker();
   let id = 0;
-  const waiting = new Map<number, { resolve: (o: BenchOutput) => void; reject: (e: Error) => void }>();
+  // biome-ignore lint/suspicious/noExplicitAny: one map for both answer kinds, typed by the method that asked
+  const waiting = new Map<number, { resolve: (o: any) => void; reject: (e: Error) => void }>();
   w.onmessage = (e: MessageEvent<BenchWorkerReply>) => {
     const m = e.data;
     const p = waiting.get(m.id);
     if (!p) return;
     waiting.delete(m.id);
     if (m.type === 'result') p.resolve(m.output);
+    else if (m.type === 'tool') p.resolve(m.answer);
     else p.reject(new Error(m.message));
   };
   return {
@@ -68,6 +72,14 @@ export function createTrialRunner() {
       return new Promise<BenchOutput>((resolve, reject) => {
         waiting.set(my, { resolve, reject });
         w.postMessage({ type: 'trial', id: my, frame, req } satisfies BenchWorkerRequest);
+      });
+    },
+    tool(frame: BenchFrame, calibration: DetectorCalibration, tool: BenchTool): Promise<ToolAnswer> {
+      id += 1;
+      const my = id;
+      return new Promise<ToolAnswer>((resolve, reject) => {
+        waiting.set(my, { resolve, reject });
+        w.postMessage({ type: 'tool', id: my, frame, calibration, tool } satisfies BenchWorkerRequest);
       });
     },
     close() {

@@ -1,7 +1,8 @@
 // The calibration bench (C7) as its users meet it. A campaign of its own (so the seeded campaigns keep their
 // approved versions) gets a calibration whose centre is 6 px off the generator's (scripts/make-example.ts writes
 // the calibration that undoes its own detector, FILE.calibration.json) and two scans. The analyst opens a scan on
-// the bench, puts the centre back, sees the lobe offset change on the page, saves the version with a note and reads
+// the bench, moves the centre by hand, sees the lobe offset change on the page, runs the symmetry centre finder
+// and uses its centre (within 0.5 px of the generator's; our tolerance), saves the version with a note and reads
 // the what-would-change list; the PI opens the same draft from the calibration page, reads the list, approves, and
 // sees the campaign re-reduced with the new version.
 import { execFileSync } from 'node:child_process';
@@ -133,9 +134,19 @@ test('analyst finds the centre on the bench, saves it, and the PI approves after
   const before = await offsetOnPage(a);
   await a.screenshot({ path: `${SHOTS}/bench-analyst-start.png`, fullPage: true });
 
-  // Moves the centre back to the generator's and sees the offset change.
-  await a.getByTestId('centre-x').fill(String(trueX));
+  // Moves the centre half-way by hand and sees the offset change.
+  await a.getByTestId('centre-x').fill(String(trueX + 3));
   await expect.poll(async () => Math.abs((await offsetOnPage(a)) - before), { timeout: 20_000 }).toBeGreaterThan(0.05);
+  const halfway = await offsetOnPage(a);
+  // Runs the centre finder (inversion symmetry for angular streaking), reads its result and uses it.
+  await a.getByTestId('tool-centre').click();
+  await expect(a.getByTestId('tool-centre-result')).toContainText('inversion symmetry', { timeout: 60_000 });
+  await a.screenshot({ path: `${SHOTS}/bench-analyst-centre-tool.png`, fullPage: true });
+  await a.getByTestId('tool-centre-accept').click();
+  await expect
+    .poll(async () => Math.abs(Number(await a.getByTestId('centre-x').inputValue()) - trueX), { timeout: 20_000 })
+    .toBeLessThan(0.5);
+  await expect.poll(async () => Math.abs((await offsetOnPage(a)) - halfway), { timeout: 20_000 }).toBeGreaterThan(0.05);
   await expect(a.getByTestId('bench-status')).toContainText('up to date');
   await a.screenshot({ path: `${SHOTS}/bench-analyst-centred.png`, fullPage: true });
 

@@ -156,3 +156,27 @@ describe('the downsampled copy', () => {
     expect(factorFor(200, 200, 256)).toBe(1);
   });
 });
+
+describe('the fitting tools in the bench worker (reduction/bench on the corrected raw frame)', () => {
+  it('the symmetry centre finder, started 4 px off, returns the generator’s centre within 3 σ + 0.1 px', async () => {
+    const { runTool } = await import('@/components/bench/tools');
+    const start = {
+      ...calibration,
+      center_px: [calibration.center_px[0] + 4, calibration.center_px[1] - 2] as [number, number],
+    };
+    const a = runTool(wireFrame(2), start, 'centre');
+    if (a.tool !== 'centre') throw new Error('wrong tool');
+    // angular streaking: inversion symmetry is the valid method (SCIENCE.md §7.2 table)
+    expect(a.symmetry).toBe('inversion');
+    expect(a.errX).toBeGreaterThan(0);
+    expect(Math.abs(a.x - calibration.center_px[0])).toBeLessThan(3 * a.errX + 0.1);
+    expect(Math.abs(a.y - calibration.center_px[1])).toBeLessThan(3 * a.errY + 0.1);
+  });
+  it('a kind without a valid symmetry gets the reason instead of a centre', async () => {
+    const { runTool } = await import('@/components/bench/tools');
+    const f = wireFrame(0);
+    expect(() => runTool({ ...f, meta: { ...f.meta, experimentKind: 'image' } }, calibration, 'centre')).toThrow(
+      /no guaranteed symmetry/,
+    );
+  });
+});
