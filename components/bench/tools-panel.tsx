@@ -95,9 +95,8 @@ export function ToolsPanel({
             from the {SYMMETRY_WORDS[answer.symmetry] ?? answer.symmetry}.
           </p>
           <p className="text-micro text-ink-500">
-            {answer.reason} Misfit per pixel {formatNumber(answer.chi2PerPixel, 3)} (≈ 1 for counting noise alone),
-            residual rms {formatNumber(answer.residualRms, 3)} σ
-            {answer.converged ? '' : ' · the search did not converge'}.
+            {answer.reason} Misfit per pixel {formatNumber(answer.chi2PerPixel, 3)}, residual rms{' '}
+            {formatNumber(answer.residualRms, 3)} σ{answer.converged ? '' : ' · the search did not converge'}.
           </p>
           {answer.warnings.length ? (
             <ul className="list-disc pl-5 text-micro text-flare-900">
