@@ -713,7 +713,7 @@ function Bench({
               </div>
             )}
           </Panel>
-          {cal && frame ? <ToolsPanel frame={frame} calibration={cal} onAccept={upd} /> : null}
+          {cal && frame ? <ToolsPanel frame={frame} calibration={cal} ringPx={radiusPx} onAccept={upd} /> : null}
         </div>
       </div>
 

@@ -9,7 +9,14 @@ export type BenchWorkerRequest =
   | { type: 'load'; frame: BenchFrame }
   | { type: 'compute'; id: number; req: BenchRequest }
   | { type: 'trial'; id: number; frame: BenchFrame; req: BenchRequest }
-  | { type: 'tool'; id: number; frame: BenchFrame; calibration: DetectorCalibration; tool: BenchTool };
+  | {
+      type: 'tool';
+      id: number;
+      frame: BenchFrame;
+      calibration: DetectorCalibration;
+      tool: BenchTool;
+      ringPx?: number | null;
+    };
 
 export type BenchWorkerReply =
   | { type: 'result'; id: number; output: BenchOutput; ms: number }
@@ -47,7 +54,7 @@ addEventListener('message', (e: MessageEvent<BenchWorkerRequest>) => {
   } else if (m.type === 'tool') {
     const t0 = performance.now();
     try {
-      const answer = runTool(m.frame, m.calibration, m.tool);
+      const answer = runTool(m.frame, m.calibration, m.tool, m.ringPx ?? null);
       postMessage({ type: 'tool', id: m.id, answer, ms: performance.now() - t0 } satisfies BenchWorkerReply);
     } catch (err) {
       postMessage({ type: 'error', id: m.id, message: (err as Error).message } satisfies BenchWorkerReply);

@@ -19,10 +19,13 @@ const SYMMETRY_WORDS: Record<string, string> = {
 export function ToolsPanel({
   frame,
   calibration,
+  ringPx,
   onAccept,
 }: {
   frame: BenchFrame;
   calibration: DetectorCalibration;
+  /** The bench's current ring radius in pixels (where the ring tools look), or null. */
+  ringPx: number | null;
   onAccept: (patch: Partial<DetectorCalibration>) => void;
 }) {
   const runner = useRef<ReturnType<typeof createTrialRunner> | null>(null);
@@ -43,7 +46,7 @@ export function ToolsPanel({
     setError(null);
     setAnswer(null);
     try {
-      setAnswer(await runner.current.tool(frame, calibration, tool));
+      setAnswer(await runner.current.tool(frame, calibration, tool, ringPx));
     } catch (err) {
       setError((err as Error).message);
     } finally {
@@ -78,7 +81,31 @@ export function ToolsPanel({
         >
           Find hot pixels
         </Button>
+        <Button
+          size="sm"
+          variant="secondary"
+          onClick={() => run('ring')}
+          isLoading={running === 'ring'}
+          disabled={running !== null || ringPx === null}
+          data-testid="tool-ring"
+        >
+          Fit a circle to the ring
+        </Button>
+        <Button
+          size="sm"
+          variant="secondary"
+          onClick={() => run('ellipse')}
+          isLoading={running === 'ellipse'}
+          disabled={running !== null || ringPx === null}
+          data-testid="tool-ellipse"
+        >
+          Fit the detector ellipse
+        </Button>
       </div>
+      <p className="mt-2 text-micro text-ink-500">
+        The ring tools look within ±35 % of the fitted radius about the current centre. Fit the ellipse only to a
+        feature known to be round: an isotropic ring, not the torus of light that is not verified circular.
+      </p>
       {error ? (
         <div className="mt-3">
           <ErrorState message={error} />
@@ -122,6 +149,61 @@ export function ToolsPanel({
           </div>
         </div>
       ) : null}
+      {answer?.tool === 'ring' ? (
+        <div className="mt-3 space-y-2 text-small text-ink-800" data-testid="tool-ring-result">
+          <p>
+            Circle{' '}
+            <strong className="font-mono">
+              centre x {formatNumber(answer.x, 5)} ± {formatNumber(answer.errX, 2)}, y {formatNumber(answer.y, 5)} ±{' '}
+              {formatNumber(answer.errY, 2)} px, radius {formatNumber(answer.r, 5)} ± {formatNumber(answer.errR, 2)} px
+            </strong>{' '}
+            (algebraic fit refined geometrically, {answer.points} points over {formatNumber(answer.coverageDeg, 3)}°,
+            residual rms {formatNumber(answer.residualRms, 3)} px).
+          </p>
+          <ToolWarnings warnings={answer.warnings} />
+          <div className="flex gap-2">
+            <Button
+              size="sm"
+              onClick={() => {
+                onAccept({ center_px: [answer.x, answer.y], center_err_px: Math.max(answer.errX, answer.errY) });
+                setAnswer(null);
+              }}
+            >
+              Use this centre
+            </Button>
+            <Button size="sm" variant="ghost" onClick={() => setAnswer(null)}>
+              Discard
+            </Button>
+          </div>
+        </div>
+      ) : null}
+      {answer?.tool === 'ellipse' ? (
+        <div className="mt-3 space-y-2 text-small text-ink-800" data-testid="tool-ellipse-result">
+          <p>
+            Detector stretch{' '}
+            <strong className="font-mono">
+              ratio {formatNumber(answer.ratio, 5)} ± {formatNumber(answer.errRatio, 2)} along{' '}
+              {formatNumber(answer.axisDeg, 4)}° ± {formatNumber(answer.errAxisDeg, 2)}°
+            </strong>{' '}
+            ({answer.points} points, residual rms {formatNumber(answer.residualRms, 3)} px).
+          </p>
+          <ToolWarnings warnings={answer.warnings} />
+          <div className="flex gap-2">
+            <Button
+              size="sm"
+              onClick={() => {
+                onAccept({ detector_ellipticity: { ratio: answer.ratio, axis_deg: answer.axisDeg } });
+                setAnswer(null);
+              }}
+            >
+              Use this stretch
+            </Button>
+            <Button size="sm" variant="ghost" onClick={() => setAnswer(null)}>
+              Discard
+            </Button>
+          </div>
+        </div>
+      ) : null}
       {answer?.tool === 'hot-pixels' ? (
         <div className="mt-3 space-y-2 text-small text-ink-800" data-testid="tool-hot-result">
           <p>
@@ -156,5 +238,16 @@ export function ToolsPanel({
         </div>
       ) : null}
     </Panel>
+  );
+}
+
+function ToolWarnings({ warnings }: { warnings: string[] }) {
+  if (!warnings.length) return null;
+  return (
+    <ul className="list-disc pl-5 text-micro text-flare-900">
+      {warnings.map((w) => (
+        <li key={w}>{w}</li>
+      ))}
+    </ul>
   );
 }

@@ -3,12 +3,14 @@
 // with the shot ratio, flat field divided out). Each answer carries the value, its standard error, a residual
 // measure and the tool's own warnings, for the page to show before the analyst accepts it.
 import { findCentreBySymmetry, SYMMETRY_REASONS, symmetryForKind } from '@/reduction/bench/centre-symmetry';
+import { fitDetectorEllipse } from '@/reduction/bench/ellipse-fit';
 import { findHotPixels } from '@/reduction/bench/hot-pixels';
+import { fitRing } from '@/reduction/bench/ring-fit';
 import { backgroundScale, buildInverseGain, buildPixelMask } from '@/reduction/calibration';
 import type { DetectorCalibration } from '@/reduction/formats';
 import type { BenchFrame } from './compute';
 
-export type BenchTool = 'centre' | 'hot-pixels';
+export type BenchTool = 'centre' | 'hot-pixels' | 'ring' | 'ellipse';
 
 export type ToolAnswer =
   | {
@@ -24,7 +26,33 @@ export type ToolAnswer =
       converged: boolean;
       warnings: string[];
     }
-  | { tool: 'hot-pixels'; pixels: [number, number][]; expectedFalseAlarms: number; warnings: string[] };
+  | { tool: 'hot-pixels'; pixels: [number, number][]; expectedFalseAlarms: number; warnings: string[] }
+  | {
+      tool: 'ring';
+      x: number;
+      y: number;
+      r: number;
+      errX: number;
+      errY: number;
+      errR: number;
+      coverageDeg: number;
+      points: number;
+      residualRms: number;
+      warnings: string[];
+    }
+  | {
+      tool: 'ellipse';
+      ratio: number;
+      axisDeg: number;
+      errRatio: number;
+      errAxisDeg: number;
+      points: number;
+      residualRms: number;
+      warnings: string[];
+    };
+
+/** Where the ring tools look: an annulus of ±35 % about a radius guess (px), centred on the calibration's centre. */
+export const RING_ANNULUS = 0.35;
 
 /** Counts with the single-pixel corrections (for the tools) and the mask of the pixels in use. */
 export function correctedFrame(frame: BenchFrame, cal: DetectorCalibration) {
@@ -56,7 +84,12 @@ export function correctedFrame(frame: BenchFrame, cal: DetectorCalibration) {
  *
  * @throws {RangeError} when no symmetry method is valid for the scan's kind (the message says why), or from the tool
  */
-export function runTool(frame: BenchFrame, cal: DetectorCalibration, tool: BenchTool): ToolAnswer {
+export function runTool(
+  frame: BenchFrame,
+  cal: DetectorCalibration,
+  tool: BenchTool,
+  ringPx: number | null = null,
+): ToolAnswer {
   const kind = frame.meta.experimentKind;
   if (tool === 'centre') {
     const symmetry = symmetryForKind(kind);
@@ -81,6 +114,44 @@ export function runTool(frame: BenchFrame, cal: DetectorCalibration, tool: Bench
       residualRms: r.residual.rms,
       converged: r.diagnostics.converged,
       warnings: r.warnings,
+    };
+  }
+  if (tool === 'ring' || tool === 'ellipse') {
+    if (!(ringPx !== null && ringPx > 2)) {
+      throw new RangeError('The ring tools need a ring: the bench has not found a radius for this step yet.');
+    }
+    const f = correctedFrame(frame, cal);
+    const annulus = {
+      centrePx: cal.center_px,
+      rMinPx: ringPx * (1 - RING_ANNULUS),
+      rMaxPx: ringPx * (1 + RING_ANNULUS),
+    };
+    if (tool === 'ring') {
+      const r = fitRing({ frame: f, annulus });
+      return {
+        tool,
+        x: r.value.x,
+        y: r.value.y,
+        r: r.value.r,
+        errX: r.stdErr.x,
+        errY: r.stdErr.y,
+        errR: r.stdErr.r,
+        coverageDeg: r.diagnostics.coverageDeg,
+        points: r.diagnostics.points,
+        residualRms: r.residual.rms,
+        warnings: r.warnings,
+      };
+    }
+    const e = fitDetectorEllipse({ frame: f, annulus }, { kind, ellipticity: frame.meta.ellipticity });
+    return {
+      tool,
+      ratio: e.value.ratio,
+      axisDeg: e.value.axisDeg,
+      errRatio: e.stdErr.ratio,
+      errAxisDeg: e.stdErr.axisDeg,
+      points: e.diagnostics.points,
+      residualRms: e.residual.rms,
+      warnings: e.warnings,
     };
   }
   // hot pixels on the raw counts (a background frame is not subtracted: the test is on Poisson counts)

@@ -74,12 +74,17 @@ export function createTrialRunner() {
         w.postMessage({ type: 'trial', id: my, frame, req } satisfies BenchWorkerRequest);
       });
     },
-    tool(frame: BenchFrame, calibration: DetectorCalibration, tool: BenchTool): Promise<ToolAnswer> {
+    tool(
+      frame: BenchFrame,
+      calibration: DetectorCalibration,
+      tool: BenchTool,
+      ringPx: number | null = null,
+    ): Promise<ToolAnswer> {
       id += 1;
       const my = id;
       return new Promise<ToolAnswer>((resolve, reject) => {
         waiting.set(my, { resolve, reject });
-        w.postMessage({ type: 'tool', id: my, frame, calibration, tool } satisfies BenchWorkerRequest);
+        w.postMessage({ type: 'tool', id: my, frame, calibration, tool, ringPx } satisfies BenchWorkerRequest);
       });
     },
     close() {

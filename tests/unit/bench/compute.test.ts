@@ -180,3 +180,21 @@ describe('the fitting tools in the bench worker (reduction/bench on the correcte
     );
   });
 });
+
+describe('the ring tools in the bench worker', () => {
+  it('the circle fit finds the generator’s centre within 3 σ; the ellipse fit carries the §7.3 caution for elliptical light', async () => {
+    const { runTool } = await import('@/components/bench/tools');
+    const f = wireFrame(2);
+    const out = computeBench(f, { calibration, settings, factor: 1, bootstrap: false });
+    const ringPx = out.step.radius_au! / calibration.momentum_per_pixel_au;
+    const ring = runTool(f, calibration, 'ring', ringPx);
+    const ell = runTool(f, calibration, 'ellipse', ringPx);
+    if (ring.tool !== 'ring' || ell.tool !== 'ellipse') throw new Error('wrong tool');
+    expect(ring.errX).toBeGreaterThan(0);
+    expect(Math.abs(ring.x - calibration.center_px[0])).toBeLessThan(3 * ring.errX);
+    expect(Math.abs(ring.y - calibration.center_px[1])).toBeLessThan(3 * ring.errY);
+    // SCIENCE.md §7.3: the torus of light that is not circular is no round feature
+    expect(ell.warnings.join(' ')).toMatch(/not round/);
+    expect(() => runTool(f, calibration, 'ring', null)).toThrow(/has not found a radius/);
+  });
+});
