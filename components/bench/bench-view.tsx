@@ -184,6 +184,12 @@ function Bench({
     worker.request({ calibration: cal, settings, factor, bootstrap: false });
   }, [frame, cal, settings, factor, worker.loaded, worker.request]);
 
+  // the scale slider spans ±50 % of the scale the bench started from (not of the moving value)
+  const [scale0, setScale0] = useState<number | null>(null);
+  useEffect(() => {
+    if (scale0 === null && cal) setScale0(cal.momentum_per_pixel_au);
+  }, [cal, scale0]);
+
   const out = worker.answer?.output ?? null;
   const nX = frame?.meta.shape.nX ?? 0;
   const nY = frame?.meta.shape.nY ?? 0;
@@ -541,9 +547,9 @@ function Bench({
                     label="Scale"
                     unit="a.u./px"
                     value={cal.momentum_per_pixel_au}
-                    min={Math.max(1e-5, cal.momentum_per_pixel_au * 0.5)}
-                    max={cal.momentum_per_pixel_au * 1.5}
-                    step={cal.momentum_per_pixel_au / 1000}
+                    min={(scale0 ?? cal.momentum_per_pixel_au) * 0.5}
+                    max={(scale0 ?? cal.momentum_per_pixel_au) * 1.5}
+                    step={(scale0 ?? cal.momentum_per_pixel_au) / 1000}
                     onChange={(v) => v > 0 && upd({ momentum_per_pixel_au: v })}
                     testId="scale"
                   />
