@@ -20,6 +20,22 @@ export interface AtiScaleFit {
   slopePx2: number;
   /** Intercept of r² against n, px². */
   interceptPx2: number;
+  /**
+   * Standard errors (straight-line least squares [common practice]): from the given σ(r_n) as they are when radius
+   * errors are given, else from the scatter about the line, s² = Σ res²/(N − 2) (NaN for two rings).
+   */
+  slopeErrPx2: number;
+  interceptErrPx2: number;
+  /** Covariance of slope and intercept, px⁴. */
+  slopeInterceptCovPx4: number;
+  kappaErrEvPerPx2: number;
+  e0ErrEv: number;
+  momentumPerPixelErrAu: number;
+  /** Σ w res² (w = 1/σ(r²)² when errors are given, else 1) and the degrees of freedom N − 2. */
+  chi2: number;
+  dof: number;
+  /** r_n² − (intercept + slope·n) per ring, px². */
+  residualsPx2: number[];
 }
 
 // FUNCTIONS //
@@ -75,7 +91,39 @@ export function fitAtiScale(
   const slope = sxy / sxx;
   const intercept = my - slope * mx;
   const kappa = photonEnergyEvValue / slope;
+  let chi2 = 0;
+  const residualsPx2: number[] = [];
+  for (let i = 0; i < N; i++) {
+    const r = radiiPx[i]!;
+    const w = radiusErrPx ? 1 / (2 * r * radiusErrPx[i]!) ** 2 : 1;
+    const res = r * r - (intercept + slope * orders[i]!);
+    residualsPx2.push(res);
+    chi2 += w * res * res;
+  }
+  const dof = N - 2;
+  // weighted: Var(slope) = 1/Sxx, Var(intercept) = 1/Σw + x̄²/Sxx, cov = −x̄/Sxx; unweighted: times s²
+  const s2 = radiusErrPx ? 1 : dof > 0 ? chi2 / dof : Number.NaN;
+  const varSlope = s2 / sxx;
+  const varIntercept = s2 * (1 / sw + (mx * mx) / sxx);
+  const cov = (-s2 * mx) / sxx;
+  const hw = photonEnergyEvValue;
+  const kappaErr = (hw * Math.sqrt(varSlope)) / (slope * slope);
+  // E₀ = ħω·intercept/slope
+  const e0Var =
+    hw *
+    hw *
+    (varIntercept / slope ** 2 + (intercept ** 2 * varSlope) / slope ** 4 - (2 * intercept * cov) / slope ** 3);
+  const alpha = Math.sqrt((2 * kappa) / HARTREE_EV);
   return {
+    slopeErrPx2: Math.sqrt(varSlope),
+    interceptErrPx2: Math.sqrt(varIntercept),
+    slopeInterceptCovPx4: cov,
+    kappaErrEvPerPx2: kappaErr,
+    e0ErrEv: Math.sqrt(Math.max(e0Var, 0)),
+    momentumPerPixelErrAu: (alpha * kappaErr) / (2 * kappa),
+    chi2,
+    dof,
+    residualsPx2,
     kappaEvPerPx2: kappa,
     e0Ev: kappa * intercept,
     momentumPerPixelAu: Math.sqrt((2 * kappa) / HARTREE_EV),

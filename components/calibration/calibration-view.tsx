@@ -5,13 +5,14 @@ import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import Link from 'next/link';
 import { useState } from 'react';
 import { BatchesPanel } from '@/components/campaign/batches-panel';
-import type { CampaignResponse } from '@/components/campaign/types';
+import type { CampaignResponse, ScanPage } from '@/components/campaign/types';
 import { formatNumber } from '@/components/plots/scales';
 import { Badge, Button, EmptyState, ErrorState, LoadingBlock, PageHeader, Panel } from '@/components/ui';
 import { apiFetch } from '@/lib/api/client';
 import type { ApprovalPreviewDto, VersionDto, VersionKind } from '@/lib/db/queries/calibrations';
 import { formatDateTime } from '@/lib/format';
 import { type DetectorCalibration, parseCalibration, parseSettings } from '@/reduction/formats';
+import { BenchEntry } from './bench-entry';
 import { VersionEditor } from './version-editor';
 import { fitWindowWords, peakModelWords } from './version-forms';
 
@@ -52,12 +53,15 @@ const pairWords = (p: { calibration: number | null; settings: number | null } | 
 /** The PI's confirmation before an approval: what changes, listed. */
 function ApprovalConfirm({
   kind,
+  benchHref,
   state,
   busy,
   onCancel,
   onConfirm,
 }: {
   kind: VersionKind;
+  /** The bench opened with this version (the what-would-change trial), when the campaign has a scan. */
+  benchHref: string | null;
   state: { data?: { preview: ApprovalPreviewDto }; isPending: boolean; isError: boolean; error: Error | null };
   busy: boolean;
   onCancel: () => void;
@@ -104,6 +108,13 @@ function ApprovalConfirm({
       ) : (
         <p>No scan needs a re-reduction: every scan already has a result with the new pair.</p>
       )}
+      {benchHref ? (
+        <p>
+          <Link className="text-lobe-700 underline" href={benchHref} data-testid="approval-bench-link">
+            See what this version would change, scan by scan, on the calibration bench
+          </Link>
+        </p>
+      ) : null}
       <div className="flex gap-2">
         <Button size="sm" onClick={onConfirm} isLoading={busy} data-testid="confirm-approve">
           Approve v{p.version}
@@ -122,12 +133,15 @@ function VersionList({
   canEdit,
   canApprove,
   onApproved,
+  benchScanId,
 }: {
   campaignId: number;
   kind: VersionKind;
   canEdit: boolean;
   canApprove: boolean;
   onApproved: () => void;
+  /** A scan of the campaign to open the bench on. */
+  benchScanId: number | null;
 }) {
   const qc = useQueryClient();
   const path = kind === 'calibration' ? 'calibrations' : 'settings';
@@ -220,6 +234,11 @@ function VersionList({
               {confirming === v.id ? (
                 <ApprovalConfirm
                   kind={kind}
+                  benchHref={
+                    benchScanId
+                      ? `/scans/${benchScanId}/bench?${kind === 'calibration' ? 'calibration' : 'settings'}=${v.id}`
+                      : null
+                  }
                   state={preview}
                   busy={approve.isPending}
                   onCancel={() => setConfirming(null)}
@@ -248,6 +267,11 @@ export function CalibrationView({ campaignId }: { campaignId: number }) {
     queryKey: ['campaign', campaignId],
     queryFn: () => apiFetch<CampaignResponse>(`/api/campaigns/${campaignId}`),
   });
+  const firstScan = useQuery({
+    queryKey: ['bench-entry-scans', campaignId],
+    queryFn: () => apiFetch<ScanPage>(`/api/campaigns/${campaignId}/scans?pageSize=200&sort=id&dir=asc`),
+  });
+  const benchScanId = firstScan.data?.rows.find((s) => s.status !== 'quarantined' && s.latestResultId)?.id ?? null;
   if (q.isPending) return <LoadingBlock lines={8} />;
   if (q.isError) return <ErrorState message={q.error.message} onRetry={() => q.refetch()} />;
   const { campaign: c, can } = q.data;
@@ -266,6 +290,12 @@ export function CalibrationView({ campaignId }: { campaignId: number }) {
         title="Calibration and settings"
         description="Every change is a new version. A version used by a result never changes; results stay linked to the versions that made them."
       />
+      <Panel
+        title="Calibration bench"
+        description="Find the centre, scale, ellipticity and background by looking: the reduction follows every change in your browser, and the trial shows what a draft would change before anyone approves it."
+      >
+        <BenchEntry campaignId={c.id} />
+      </Panel>
       {offerBatch && current ? (
         <Panel title="Re-reduce with the new versions?" data-testid="rereduce-offer">
           <p className="mb-3 text-small text-ink-700">
@@ -290,6 +320,7 @@ export function CalibrationView({ campaignId }: { campaignId: number }) {
             canEdit={can.editCalibration}
             canApprove={can.approveCalibration}
             onApproved={() => setOfferBatch(true)}
+            benchScanId={benchScanId}
           />
         </Panel>
         <Panel
@@ -302,6 +333,7 @@ export function CalibrationView({ campaignId }: { campaignId: number }) {
             canEdit={can.editCalibration}
             canApprove={can.approveCalibration}
             onApproved={() => setOfferBatch(true)}
+            benchScanId={benchScanId}
           />
         </Panel>
       </div>

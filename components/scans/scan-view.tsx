@@ -8,7 +8,7 @@ import { HelicitySystematic } from '@/components/campaign/helicity-panel';
 import { overridePhrases } from '@/components/ingest/release-fields';
 import { formatNumber } from '@/components/plots/scales';
 import { XYPlot } from '@/components/plots/xy-plot';
-import { EmptyState, ErrorState, LoadingBlock, PageHeader, Panel } from '@/components/ui';
+import { EmptyState, ErrorState, LinkButton, LoadingBlock, PageHeader, Panel } from '@/components/ui';
 import { apiFetch } from '@/lib/api/client';
 import { formatBytes, formatDateTime } from '@/lib/format';
 import { ArchivedNotice } from './archived-notice';
@@ -106,6 +106,13 @@ export function ScanView({
         ]
           .filter(Boolean)
           .join(' · ')}
+        actions={
+          can.viewResults && !quarantined && !eventCountWords(scan.metadata) ? (
+            <LinkButton variant="secondary" size="sm" href={`/scans/${scan.id}/bench`} data-testid="open-bench">
+              Calibration bench
+            </LinkButton>
+          ) : null
+        }
       />
 
       {scan.status === 'failed' ||

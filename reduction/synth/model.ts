@@ -14,6 +14,7 @@
  * returned here therefore recovers the truth.
  */
 import { wrapDeg } from '../angles';
+import { HARTREE_EV, photonEnergyEv } from '../constants';
 import { intensityFromRadiusWcm2, offsetSense, simpleManDirectionsDeg, simpleManMomentumAu } from '../fields';
 import type { DetectorCalibration, ExperimentKind, StepQuantity } from '../formats';
 
@@ -66,6 +67,18 @@ export interface SynthOptions {
    * lobe counts (0 … 10; default 0). `signal_counts` is then the lobe counts; the frame holds (1 + f) times that.
    */
   isotropicFraction?: number;
+  /**
+   * Optional (calibration bench tests): isotropic above-threshold-ionization rings at E_n = E₀ + nħω (ħω from the
+   * wavelength), each a Gaussian in |p| of rms `widthAu` and peak density `amplitude` (relative to the lobes' peak
+   * density 1). When `kappaEvPerPx2` is given, the detector's momentum per pixel becomes √(2κ/E_h) (SCIENCE.md §7.1).
+   * Absent: no rings, and every output is as before.
+   */
+  atiRings?: { e0Ev: number; orders: number[]; widthAu: number; amplitude: number; kappaEvPerPx2?: number };
+  /**
+   * Optional (calibration bench tests): hot pixels [x, y, extra counts per frame] added to every signal frame after
+   * the Poisson draw (a camera defect, not counting noise). Absent: none.
+   */
+  hotPixels?: [number, number, number][];
 }
 
 export interface TruthLobe {
@@ -120,6 +133,18 @@ export interface ScanPlan {
   isotropicFraction: number;
   steps: TruthStep[];
   phase: PhaseTruth | null;
+  /** ATI rings of the options with their true radii (null when not asked for). */
+  atiRings: {
+    kappaEvPerPx2: number;
+    e0Ev: number;
+    photonEnergyEv: number;
+    orders: number[];
+    radiiAu: number[];
+    /** Radii in pixels of the ellipticity-corrected detector frame (momentum / momentum_per_pixel). */
+    radiiPx: number[];
+    widthAu: number;
+    amplitude: number;
+  } | null;
   /** Dark counts per pixel per shot, and the detector's warm spot. */
   detectorBackground: {
     darkPerShot: number;
@@ -204,7 +229,8 @@ export function momentumToPixel(cal: DetectorCalibration, px: number, py: number
 /** The calibration that undoes the generator's detector distortion. */
 export function synthCalibration(o: SynthOptions): DetectorCalibration {
   const half = (o.size - 1) / 2;
-  const mpp = 2.0 / (o.size / 2 - 12);
+  const kappa = o.atiRings?.kappaEvPerPx2;
+  const mpp = kappa !== undefined ? Math.sqrt((2 * kappa) / HARTREE_EV) : 2.0 / (o.size / 2 - 12);
   return {
     center_px: o.distort ? [half + 0.0273 * o.size, half - 0.0161 * o.size] : [half, half],
     momentum_per_pixel_au: mpp,
@@ -243,7 +269,41 @@ export function planScan(partial: Partial<SynthOptions>): ScanPlan {
   if (o.lobeWidthDeg !== undefined && !(o.lobeWidthDeg >= 1 && o.lobeWidthDeg <= 90)) {
     throw new RangeError(`lobeWidthDeg must be 1…90, got ${o.lobeWidthDeg}`);
   }
+  if (o.atiRings) {
+    const a = o.atiRings;
+    if (!(a.widthAu > 0 && a.amplitude >= 0 && a.orders.length >= 1)) {
+      throw new RangeError('atiRings needs widthAu > 0, amplitude ≥ 0 and at least one order');
+    }
+    if (a.kappaEvPerPx2 !== undefined && !(a.kappaEvPerPx2 > 0))
+      throw new RangeError('atiRings.kappaEvPerPx2 must be > 0');
+  }
+  for (const [x, y, c] of o.hotPixels ?? []) {
+    if (!(Number.isInteger(x) && Number.isInteger(y) && x >= 0 && y >= 0 && x < o.size && y < o.size && c >= 0)) {
+      throw new RangeError(`hot pixel (${x}, ${y}, ${c}) must lie in the frame with extra counts ≥ 0`);
+    }
+  }
   const calibration = synthCalibration(o);
+  let atiRings: ScanPlan['atiRings'] = null;
+  if (o.atiRings) {
+    const a = o.atiRings;
+    const hw = photonEnergyEv(o.wavelengthNm);
+    const radiiAu = a.orders.map((n) => {
+      const e = a.e0Ev + n * hw;
+      if (!(e > 0)) throw new RangeError(`ATI order ${n} has no positive energy (E₀ + nħω = ${e} eV)`);
+      return Math.sqrt((2 * e) / HARTREE_EV);
+    });
+    const mpp = calibration.momentum_per_pixel_au;
+    atiRings = {
+      kappaEvPerPx2: (mpp * mpp * HARTREE_EV) / 2,
+      e0Ev: a.e0Ev,
+      photonEnergyEv: hw,
+      orders: [...a.orders],
+      radiiAu,
+      radiiPx: radiiAu.map((p) => p / mpp),
+      widthAu: a.widthAu,
+      amplitude: a.amplitude,
+    };
+  }
   const n = o.steps;
   const shots = Array.from({ length: n }, (_, k) => 1000 + 100 * k);
   const backgroundShots =
@@ -371,6 +431,7 @@ export function planScan(partial: Partial<SynthOptions>): ScanPlan {
     isotropicFraction: o.kind === 'two_color_phase' ? 0 : iso,
     steps,
     phase,
+    atiRings,
     detectorBackground: {
       darkPerShot: 1e-4,
       gradientPerShot: 1e-5,
@@ -437,6 +498,10 @@ function density(plan: ScanPlan, k: number, px: number, py: number): number {
     const r0 = step.lobes[0]!.radius_au;
     sum += plan.isotropicFraction * step.lobes.length * meanVonMises(plan.kappa) * Math.exp(-((p - r0) ** 2) / s2);
   }
+  if (plan.atiRings) {
+    const w2 = 2 * plan.atiRings.widthAu * plan.atiRings.widthAu;
+    for (const r of plan.atiRings.radiiAu) sum += plan.atiRings.amplitude * Math.exp(-((p - r) ** 2) / w2);
+  }
   return sum;
 }
 
@@ -473,6 +538,17 @@ export function renderSignal(plan: ScanPlan, k: number, out: Float64Array): Floa
   }
   const scale = norm > 0 ? (step.signal_counts * (1 + plan.isotropicFraction)) / norm : 0;
   for (let i = 0; i < out.length; i++) out[i] = (out[i] as number) * scale;
+  return out;
+}
+
+/**
+ * Adds the options' hot pixels to a frame (in place; after the Poisson draw).
+ *
+ * @param out - frame of size² (row-major)
+ */
+export function addHotPixels(plan: ScanPlan, out: Float64Array): Float64Array {
+  const n = plan.options.size;
+  for (const [x, y, c] of plan.options.hotPixels ?? []) out[y * n + x] = (out[y * n + x] as number) + c;
   return out;
 }
 

@@ -16,7 +16,7 @@ import {
 } from '../hdf5/h5-write';
 import type { H5Runtime } from '../hdf5/runtime';
 import { createPrng } from '../prng';
-import { renderDetectorBackground, renderSignal, type ScanPlan } from './model';
+import { addHotPixels, renderDetectorBackground, renderSignal, type ScanPlan } from './model';
 
 // VARIABLES //
 
@@ -128,6 +128,7 @@ export function writeSynthScan(
           for (let i = 0; i < frame.length; i++) frame[i] = (frame[i] as number) + (bg[i] as number);
         }
         poissonFrame(frame, rng);
+        addHotPixels(plan, frame);
         if (k === brokenStep && broken === 'nan_counts') {
           for (let i = 0; i < 5; i++) frame[(n >> 1) * n + 10 + i] = Number.NaN;
         }

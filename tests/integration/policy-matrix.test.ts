@@ -875,6 +875,13 @@ const ROWS: Row[] = [
     request: ({ t }) => ({ ...scanPath(t, '/curves'), query: { step: 1 } }),
     expect: memberRead(),
   },
+  // The calibration bench's raw frame (C7): the data behind every result, read by the same members.
+  {
+    route: '/api/scans/[scanId]/raw-frame',
+    method: 'GET',
+    request: ({ t }) => ({ ...scanPath(t, '/raw-frame'), query: { step: 0 } }),
+    expect: memberRead(),
+  },
   {
     route: '/api/scans/[scanId]/region',
     method: 'GET',

@@ -1,6 +1,7 @@
 // Shared access checks and version-route builders of the campaign API (not a route: Next only serves route.ts).
 import { z } from 'zod';
 import { apiRoute, idParam, jsonResponse } from '@/lib/api/route';
+import { rereduceAfterApproval } from '@/lib/bench/rereduce-after-approval';
 import {
   approvalPreview,
   approveVersion,
@@ -107,10 +108,20 @@ export function versionApprovePreviewRoute(kind: VersionKind) {
   });
 }
 
+/**
+ * POST approve (PI). Optional body `{ rereduce: true }` (the calibration bench, C7): after the approval the campaign
+ * is re-reduced as one batch with the new current pair; the answer then carries `batch` (null when there is nothing
+ * to reduce or the other kind has no approved version yet).
+ */
+const approveBody = z.object({ rereduce: z.boolean().optional() }).optional();
+
 export function versionApproveRoute(kind: VersionKind) {
-  return apiRoute({ params: versionParams }, async ({ actor, params, ip }) => {
+  return apiRoute({ params: versionParams, body: approveBody }, async ({ actor, params, body, ip }) => {
     const v = await versionInCampaign(kind, params.campaignId, params.versionId);
     authorizeObject(actor, 'calibration.approve', { teamId: v.teamId, surface: kind });
-    return approveVersion({ kind, versionId: params.versionId, actor, ip });
+    const approved = await approveVersion({ kind, versionId: params.versionId, actor, ip });
+    if (!body?.rereduce) return approved;
+    const batch = await rereduceAfterApproval({ campaignId: params.campaignId, teamId: v.teamId, actor, ip });
+    return { ...approved, batch };
   });
 }
