@@ -3,6 +3,7 @@
 // Called by the ingest after a file is catalogued, by the scan page ("reduce again") and by campaign batches.
 import { Op } from 'sequelize';
 import { getDb } from '@/lib/db';
+import { retryOnLockConflict } from '@/lib/db/retry';
 import { AppError } from '@/lib/errors';
 import { log } from '@/lib/log';
 import { ARCHIVED_REDUCTION_MESSAGE } from '@/lib/stewardship/archive-words';
@@ -68,44 +69,54 @@ export async function enqueueReductionForScan(scanId: number, options: EnqueueOp
   }
 
   const queueJobId = reductionJobId(scan.id, calibrationId, settingsId);
-  const row = await db.transaction(async (transaction) => {
-    // Lock the scan row first: concurrent requests for one scan then queue up behind each other here instead of
-    // taking gap locks on reduction_jobs in opposite order (which MariaDB reports as a deadlock).
-    await Scan.findByPk(scan.id, { attributes: ['id'], transaction, lock: transaction.LOCK.UPDATE });
-    const open = await ReductionJob.findOne({
-      where: {
-        scan_id: scan.id,
-        calibration_id: calibrationId,
-        settings_id: settingsId,
-        status: { [Op.in]: ['queued', 'running'] },
-      },
-      order: [['id', 'DESC']],
-      transaction,
-      lock: transaction.LOCK.UPDATE,
-    });
-    const job =
-      open ??
-      (await ReductionJob.create(
-        {
+  // Requests for one scan queue up behind each other on the scan row's lock, so the lookup of an open request
+  // needs no lock of its own. (With `FOR UPDATE` it took gap locks on reduction_jobs, and two uploads accepted at
+  // the same moment — different scans — then deadlocked on their inserts: errno 1213, one scan left without a
+  // job.) A deadlock InnoDB still reports is re-run as a whole (lib/db/retry.ts).
+  const row = await retryOnLockConflict(() =>
+    db.transaction(async (transaction) => {
+      await Scan.findByPk(scan.id, { attributes: ['id'], transaction, lock: transaction.LOCK.UPDATE });
+      const candidate = await ReductionJob.findOne({
+        where: {
           scan_id: scan.id,
           calibration_id: calibrationId,
           settings_id: settingsId,
-          batch_id: options.batchId ?? null,
-          requested_by: options.requestedBy ?? null,
-          queue_job_id: queueJobId,
-          error_message: null,
-          started_at: null,
-          finished_at: null,
+          status: { [Op.in]: ['queued', 'running'] },
         },
-        { transaction },
-      ));
-    if (open && options.batchId != null && open.batch_id == null)
-      await open.update({ batch_id: options.batchId }, { transaction });
-    if (scan.status !== 'reducing') {
-      await Scan.update({ status: 'queued', status_message: null }, { where: { id: scan.id }, transaction });
-    }
-    return job;
-  });
+        attributes: ['id'],
+        order: [['id', 'DESC']],
+        transaction,
+      });
+      // The candidate's own row is locked by primary key (a record lock, no gap): a worker finishing it right now
+      // is waited for, and a request that has just ended is not reused.
+      const locked = candidate
+        ? await ReductionJob.findByPk(candidate.id, { transaction, lock: transaction.LOCK.UPDATE })
+        : null;
+      const open = locked && (locked.status === 'queued' || locked.status === 'running') ? locked : null;
+      const job =
+        open ??
+        (await ReductionJob.create(
+          {
+            scan_id: scan.id,
+            calibration_id: calibrationId,
+            settings_id: settingsId,
+            batch_id: options.batchId ?? null,
+            requested_by: options.requestedBy ?? null,
+            queue_job_id: queueJobId,
+            error_message: null,
+            started_at: null,
+            finished_at: null,
+          },
+          { transaction },
+        ));
+      if (open && options.batchId != null && open.batch_id == null)
+        await open.update({ batch_id: options.batchId }, { transaction });
+      if (scan.status !== 'reducing') {
+        await Scan.update({ status: 'queued', status_message: null }, { where: { id: scan.id }, transaction });
+      }
+      return job;
+    }),
+  );
 
   try {
     await addReductionJob({ scanId: scan.id, calibrationId, settingsId, reductionJobId: row.id }, queueJobId);
