@@ -162,8 +162,6 @@ describe('findCentreBySymmetry on generated images with a known centre', () => {
   it('refuses a frame with a non-finite count, naming the pixel', () => {
     const c = new Float64Array(64 * 64);
     c[3 * 64 + 5] = Number.NaN;
-    expect(() => findCentreBySymmetry({ nX: 64, nY: 64, counts: c }, { symmetry: 'inversion' })).toThrow(
-      /x 5, y 3/,
-    );
+    expect(() => findCentreBySymmetry({ nX: 64, nY: 64, counts: c }, { symmetry: 'inversion' })).toThrow(/x 5, y 3/);
   });
 });
