@@ -97,7 +97,7 @@ describe('fitDetectorEllipse', () => {
     expectClose(f.value.axisDeg, e.axis_deg, 1e-5, 'ψ vs scipy');
     const errs = [f.stdErr.x, f.stdErr.y, f.stdErr.minorPx, f.stdErr.ratio, f.stdErr.axisDeg];
     // scipy's Jacobian is finite-difference too: errors agree to 1e-3 relative
-    errs.forEach((v, i) => expectRel(v, e.err[i], 1e-3, `σ${i} vs scipy`));
+    for (const [i, v] of errs.entries()) expectRel(v, e.err[i], 1e-3, `σ${i} vs scipy`);
   });
 
   it('the generator’s distorted detector: q = 1.04 and ψ = 30° from an ATI ring; 40 realisations, honest errors', () => {
