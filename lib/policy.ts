@@ -61,6 +61,9 @@ export const TEAM_ACTIONS = [
   'citation.edit',
   // the second step of a deletion a data steward asked for (C10, issue 14): the team's PI confirms it
   'deletion.approve',
+  // calibration bench (C7, issue 15): read a scan's raw frames and run the fitting tools on them server-side
+  // (nothing is stored); analysts tune calibrations, the PI checks them before approving. Not the steward (images).
+  'bench.use',
 ] as const;
 export type TeamAction = (typeof TEAM_ACTIONS)[number];
 
@@ -116,6 +119,8 @@ const ANALYST: readonly TeamAction[] = [
   'reduction.start',
   'scan.flag',
   'quarantine.release',
+  // calibration bench (C7, issue 15)
+  'bench.use',
 ];
 
 const PI: readonly TeamAction[] = [
@@ -135,6 +140,8 @@ const PI: readonly TeamAction[] = [
   'citation.view',
   'citation.edit',
   'deletion.approve',
+  // calibration bench (C7, issue 15): the PI re-runs a tool to check a draft before approving it
+  'bench.use',
 ];
 
 /** What each team role may do in its own team. */

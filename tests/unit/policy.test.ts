@@ -64,6 +64,8 @@ const TEAM_TABLE: Record<TeamAction, { operator: boolean; analyst: boolean; pi: 
   'citation.edit': { operator: false, analyst: false, pi: true },
   // C10 (issue 14): a deletion a steward asked for is confirmed by the team's PI (or an administrator, below)
   'deletion.approve': { operator: false, analyst: false, pi: true },
+  // C7 (issue 15): the calibration bench reads raw frames (images): analysts tune, the PI checks before approving
+  'bench.use': { operator: false, analyst: true, pi: true },
 };
 
 /** Team actions a steward may perform on any team: reading catalogue metadata only. */
