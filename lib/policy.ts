@@ -66,6 +66,10 @@ export const TEAM_ACTIONS = [
   // archive and restore (C10, issue 14): the team's PI may ask for an archived file of the team to be restored (a
   // restore copies bytes back, it loses nothing); archiving stays with the data stewards ('archive.manage')
   'archive.restore',
+  // calibration bench (C7, issue 15): run the fitting tools on a scan's raw frames server-side (nothing is stored);
+  // analysts tune calibrations, the PI checks them before approving. Not the steward (images). The frames themselves
+  // (GET /api/scans/[scanId]/raw-frame) are read with 'result.view'.
+  'bench.use',
 ] as const;
 export type TeamAction = (typeof TEAM_ACTIONS)[number];
 
@@ -123,6 +127,8 @@ const ANALYST: readonly TeamAction[] = [
   'reduction.start',
   'scan.flag',
   'quarantine.release',
+  // calibration bench (C7, issue 15)
+  'bench.use',
 ];
 
 const PI: readonly TeamAction[] = [
@@ -144,6 +150,8 @@ const PI: readonly TeamAction[] = [
   'deletion.approve',
   'landing.publish',
   'archive.restore',
+  // calibration bench (C7, issue 15): the PI re-runs a tool to check a draft before approving it
+  'bench.use',
 ];
 
 /** What each team role may do in its own team. */

@@ -2,7 +2,8 @@
  * Hot-pixel detection: a pixel is hot when its count is improbably high for the local level estimated by the
  * median of its neighbours (a median filter excluding the pixel itself, robust to the hot pixel and to a second one
  * nearby). The threshold is a Poisson tail: flag when P(N ≥ c | λ) < α/n_pixels with λ = max(median, mean of the
- * neighbours after dropping their largest quarter, `floor`), a Bonferroni bound so that an image without hot pixels
+ * neighbours without their largest one, `floor`) over a 3 × 3 window (a wider window underestimates λ on the crest
+ * of a narrow ring and raises false alarms), a Bonferroni bound so that an image without hot pixels
  * gives a false alarm with probability ≲ α [common practice for defect maps; the Poisson tail is exact for
  * counting frames]. An optional minimum excess (counts above λ) guards analog frames.
  */
@@ -11,7 +12,7 @@ import { type BenchFrame, type BenchToolResult, requireFrame } from './types';
 // TYPES //
 
 export interface HotPixelOptions {
-  /** Neighbourhood half-size (default 2: a 5 × 5 window without its centre). */
+  /** Neighbourhood half-size (default 1: a 3 × 3 window without its centre). */
   radius?: number;
   /** Family-wise false-alarm probability over the frame (default 1e-3). */
   alpha?: number;
@@ -64,7 +65,7 @@ function logUpperTail(c: number, lambda: number): number {
  */
 export function findHotPixels(frame: BenchFrame, options: HotPixelOptions = {}): HotPixelResult {
   requireFrame(frame);
-  const radius = options.radius ?? 2;
+  const radius = options.radius ?? 1;
   const alpha = options.alpha ?? 1e-3;
   const minExcess = options.minExcess ?? 5;
   const floor = options.floor ?? 0.05;
@@ -104,7 +105,7 @@ export function findHotPixels(frame: BenchFrame, options: HotPixelOptions = {}):
       const med = m % 2 ? arr[(m - 1) >> 1]! : 0.5 * (arr[m / 2 - 1]! + arr[m / 2]!);
       // quick reject: nothing can be hot at or below the median plus the minimum excess
       if (c - med < minExcess) continue;
-      const keep = m - Math.floor(m / 4);
+      const keep = m - 1;
       let s = 0;
       for (let k = 0; k < keep; k++) s += arr[k]!;
       const lambda = Math.max(med, s / keep, floor);

@@ -84,7 +84,12 @@ export function fitRotationFromReference(
   }
   const { nX, nY, counts, mask } = frame;
   const n = nX * nY;
-  const phi = new Float64Array(n).fill(Number.NaN);
+  // per pixel: the mean of cos 2φ and sin 2φ over SUB × SUB sub-pixels (so that the square grid does not bias the
+  // two-fold direction) and the pixel's azimuth for the residual curve
+  const SUB = 4;
+  const ac = new Float64Array(n).fill(Number.NaN);
+  const as = new Float64Array(n);
+  const phi = new Float64Array(n);
   let C = 0;
   let S = 0;
   let total = 0;
@@ -92,17 +97,33 @@ export function fitRotationFromReference(
     for (let ix = 0; ix < nX; ix++) {
       const i = iy * nX + ix;
       if (mask && !mask[i]) continue;
+      let sc = 0;
+      let ss = 0;
+      let inside = 0;
+      for (let a = 0; a < SUB; a++) {
+        for (let b = 0; b < SUB; b++) {
+          const ux = ix - cx + (a + 0.5) / SUB - 0.5;
+          const uy = iy - cy + (b + 0.5) / SUB - 0.5;
+          const vx = m[0]! * ux + m[1]! * uy;
+          const vy = m[2]! * ux + m[3]! * uy;
+          const r2 = vx * vx + vy * vy;
+          if (r2 < rMin * rMin || r2 > rMax * rMax || r2 === 0) continue;
+          // cos 2φ = (x² − y²)/r², sin 2φ = 2xy/r²
+          sc += (vx * vx - vy * vy) / r2;
+          ss += (2 * vx * vy) / r2;
+          inside++;
+        }
+      }
+      if (inside === 0) continue;
+      const w = inside / (SUB * SUB);
+      const c = counts[i]! * w;
+      ac[i] = sc / inside;
+      as[i] = ss / inside;
       const ux = ix - cx;
       const uy = iy - cy;
-      const vx = m[0]! * ux + m[1]! * uy;
-      const vy = m[2]! * ux + m[3]! * uy;
-      const r = Math.hypot(vx, vy);
-      if (r < rMin || r > rMax || r === 0) continue;
-      const a = Math.atan2(vy, vx);
-      phi[i] = a;
-      const c = counts[i]!;
-      C += c * Math.cos(2 * a);
-      S += c * Math.sin(2 * a);
+      phi[i] = Math.atan2(m[2]! * ux + m[3]! * uy, m[0]! * ux + m[1]! * uy);
+      C += c * ac[i]!;
+      S += c * as[i]!;
       total += c;
     }
   }
@@ -111,10 +132,10 @@ export function fitRotationFromReference(
   let v = 0;
   const hist = new Float64Array(bins);
   for (let i = 0; i < n; i++) {
+    if (Number.isNaN(ac[i]!)) continue;
     const a = phi[i]!;
-    if (Number.isNaN(a)) continue;
     const c = counts[i]!;
-    const d = C * Math.sin(2 * a) - S * Math.cos(2 * a);
+    const d = C * as[i]! - S * ac[i]!;
     v += Math.abs(c) * d * d;
     let k = Math.floor(((a + Math.PI) / (2 * Math.PI)) * bins);
     if (k >= bins) k = bins - 1;

@@ -61,12 +61,12 @@ export function requireFrame(frame: BenchFrame): void {
 
 /**
  * Bilinear sample of a frame at (x, y) (pixel-centre coordinates), with the weights of the four pixels used.
- * Returns NaN outside [0, n − 1] or when one of the four pixels is masked.
  *
  * @param frame - frame
  * @param x - column coordinate
  * @param y - row coordinate
- * @returns { value, sumW2 } where sumW2 = Σ w_i² I_i (the Poisson variance of the interpolated value)
+ * @param out - receives the value and its Poisson variance Σ w_i² |I_i|
+ * @returns false (out untouched) outside the frame or next to a masked pixel
  */
 export function bilinear(frame: BenchFrame, x: number, y: number, out: { value: number; variance: number }): boolean {
   const { nX, nY, counts, mask } = frame;

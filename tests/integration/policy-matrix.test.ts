@@ -888,6 +888,18 @@ const ROWS: Row[] = [
     request: ({ t }) => ({ ...scanPath(t, '/region'), query: { px0: -1, px1: 1, py0: -0.5, py1: 0.5 } }),
     expect: memberRead(),
   },
+  // Calibration bench (C7, issue 15): server-side fitting tools for analysts and the team's PI; the operator runs
+  // shifts and the steward never sees images. The world's scan has a raw image file of one step.
+  {
+    route: '/api/scans/[scanId]/bench/[tool]',
+    method: 'POST',
+    request: ({ t }) => ({
+      path: `/api/scans/${t.scanId}/bench/hot_pixels`,
+      params: { scanId: String(t.scanId), tool: 'hot_pixels' },
+      body: { step: 0 },
+    }),
+    expect: teamObject({ operator: 403, analyst: 200, pi: 200, steward: 403 }),
+  },
   // Downloads of one scan's result are the result itself (C6), so every member may; the PI's "export" (C8) is the
   // comparison export, which has no route yet.
   {

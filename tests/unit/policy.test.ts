@@ -68,6 +68,8 @@ const TEAM_TABLE: Record<TeamAction, { operator: boolean; analyst: boolean; pi: 
   'landing.publish': { operator: false, analyst: false, pi: true },
   // C10 (issue 14): the team's PI may have an archived file restored (stewards too, below); nobody of a team archives
   'archive.restore': { operator: false, analyst: false, pi: true },
+  // C7 (issue 15): the calibration bench reads raw frames (images): analysts tune, the PI checks before approving
+  'bench.use': { operator: false, analyst: true, pi: true },
 };
 
 /** Team actions a steward may perform on any team: reading catalogue metadata only. */
