@@ -32,6 +32,7 @@ import { type LobelineResult, parseCalibration, SOFTWARE_VERSION } from '@/reduc
 import { loadH5wasmNode, openScanOrEventsPath } from '@/reduction/hdf5/node';
 import { ScanFileRefusedError } from '@/reduction/hdf5/problems';
 import { runEventReduction, runReduction } from './engine';
+import { handOffEventFile, shouldSplitEvents } from './event-split';
 import { describeAttempt, explainFailure, ReductionRefusedError } from './failure';
 import { notifyReductionFailure } from './notify';
 import { preflight, preflightEvents } from './preflight';
@@ -75,7 +76,7 @@ function progressReporter(jobId: number, ctx: JobContext) {
 }
 
 /** Points the scan at an existing result (used when the requested versions were already reduced). */
-async function adoptExistingResult(existing: ScanResult, jobId: number): Promise<ReductionJobOutcome> {
+export async function adoptExistingResult(existing: ScanResult, jobId: number): Promise<ReductionJobOutcome> {
   await getDb().transaction(async (transaction) => {
     await Scan.update(
       {
@@ -213,6 +214,17 @@ export async function processReduction(data: ReductionJobData, ctx: JobContext):
     const labels = { calibration: `calibration v${cal.version}`, settings: `settings v${set.version}` };
     const outPath = path.join(workDir, 'result.h5');
     let result: LobelineResult;
+    if (opened.kind === 'events' && shouldSplitEvents(opened.scan.events.nEvents)) {
+      // 3'. A large event file: chunk jobs spread over the workers, and a merge job that finishes this request
+      // (./event-split.ts). The request stays 'running'; the merge commits its result.
+      preflightEvents(cal.body, set.body, labels);
+      return await handOffEventFile({
+        data,
+        scan: opened.scan,
+        overrides,
+        readerWarnings: opened.warnings,
+      });
+    }
     if (opened.kind === 'events') {
       // 3. Events chunk by chunk, histogrammed per step, through the reducer into the result file.
       const { calibration, settings } = preflightEvents(cal.body, set.body, labels);
@@ -303,7 +315,7 @@ export async function processReduction(data: ReductionJobData, ctx: JobContext):
   }
 }
 
-interface CommitInput {
+export interface CommitInput {
   scan: Scan;
   rawFileId: number;
   calibrationId: number;
@@ -336,7 +348,7 @@ export function headlineOffset(result: LobelineResult): { offset: number | null;
   return nPlain ? { offset: plain / nPlain, err: null } : { offset: null, err: null };
 }
 
-async function commitResult(input: CommitInput): Promise<ReductionJobOutcome> {
+export async function commitResult(input: CommitInput): Promise<ReductionJobOutcome> {
   const { result } = input;
   const head = headlineOffset(result);
   try {

@@ -26,7 +26,14 @@ const valid: Record<string, string> = {
   S3_BUCKET_ARCHIVE: 'lobeline-archive',
 };
 
-const OPTIONAL = ['MAIL_CATCHER_DIR', 'S3_ENDPOINT', 'LOG_LEVEL', 'TRUSTED_PROXY_HOPS'];
+const OPTIONAL = [
+  'MAIL_CATCHER_DIR',
+  'S3_ENDPOINT',
+  'LOG_LEVEL',
+  'TRUSTED_PROXY_HOPS',
+  'EVENT_SPLIT_EVENTS',
+  'EVENT_CHUNK_JOB_EVENTS',
+];
 const REQUIRED = Object.keys(ENV_HELP).filter((k) => !OPTIONAL.includes(k));
 
 function problemsOf(source: Record<string, string | undefined>) {
