@@ -16,6 +16,7 @@ import { mkdtemp, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { type Job, UnrecoverableError, Worker } from 'bullmq';
+import { getDb } from '@/lib/db';
 import { downloadVerified, StoredFileMismatchError } from '@/lib/ingest/verify';
 import { log } from '@/lib/log';
 import { createRedisConnection } from '@/lib/queue/connection';
@@ -108,6 +109,7 @@ async function acquireRawFile(file: RawFile): Promise<{ path: string; release: (
  * @throws the original error for transient problems (BullMQ retries), ReductionRefusedError for permanent ones
  */
 export async function processEventChunk(data: EventChunkJobData, ctx: ChunkContext): Promise<ChunkOutcome> {
+  getDb(); // initialises the models in a process that has not touched the database yet
   const { reductionJobId, scanId, calibrationId, settingsId, chunkIndex, chunks, range } = data;
   const row = await ReductionJob.findByPk(reductionJobId);
   if (!row || row.status === 'failed' || row.status === 'succeeded') {

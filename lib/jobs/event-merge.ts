@@ -8,6 +8,7 @@ import { createReadStream } from 'node:fs';
 import { mkdtemp, rm, stat } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
+import { getDb } from '@/lib/db';
 import { log } from '@/lib/log';
 import type { EventMergeJobData } from '@/lib/queue/event-flow';
 import { type ReductionJobOutcome, reductionBackoffMs } from '@/lib/queue/reduction-queue';
@@ -138,6 +139,7 @@ export async function mergeEventParts(input: MergeInput): Promise<{ result: Lobe
  * @throws the original error for transient problems (BullMQ retries), ReductionRefusedError for permanent ones
  */
 export async function processEventMerge(data: EventMergeJobData, ctx: JobContext): Promise<ReductionJobOutcome> {
+  getDb();
   const { scanId, calibrationId, settingsId, reductionJobId, plan } = data;
   const job = await ReductionJob.findByPk(reductionJobId);
   if (!job) throw new ReductionRefusedError(`The reduction request ${reductionJobId} no longer exists.`);

@@ -89,7 +89,7 @@ describe('chunked merge of an event file', () => {
       expect(plan.chunks.reduce((a, c) => a + c.count, 0)).toBe(total);
 
       // each chunk as a chunk job makes it, through the store's byte format
-      const stored = [];
+      const stored: import('@/lib/jobs/event-chunk-store').ChunkPart[] = [];
       for (const [i, range] of plan.chunks.entries()) {
         const part = await histogramEventRange(scan, range, scan.events.spectrometer, settings, 7001);
         const bytes = encodeHistogram(part.hist);
