@@ -32,7 +32,9 @@ const { startEventChunkWorker } = await import('@/lib/jobs/event-chunk');
 const { runEventReduction } = await import('@/lib/jobs/engine');
 const { enqueueReductionForScan } = await import('@/lib/queue/enqueue');
 const { closeReductionQueue } = await import('@/lib/queue/reduction-queue');
-const { closeEventFlow } = await import('@/lib/queue/event-flow');
+const { closeEventFlow, EVENT_CHUNK_QUEUE } = await import('@/lib/queue/event-flow');
+const { createRedisConnection } = await import('@/lib/queue/connection');
+const { Queue } = await import('bullmq');
 const { buckets, closeS3Client, getObjectStream, putObject } = await import('@/lib/storage/s3');
 const models = await import('@/models');
 const { detectorCalibrationSchema, analysisSettingsSchema } = await import('@/reduction/formats');
@@ -360,8 +362,25 @@ describe('a 10⁷-event file', () => {
     for (const w of workers) await until('worker ready', () => w.out().includes('waiting for jobs'), 60_000, w.out);
     const o = await enqueueReductionForScan(scanId);
     if (!o.queued) throw new Error(o.reason);
-    const done = await waitForJob(o.reductionJobId, 400_000);
+    // which worker processes count chunks (BullMQ's processedBy of the active chunk jobs, sampled while they run)
+    const chunkQueue = new Queue(EVENT_CHUNK_QUEUE, { connection: createRedisConnection('test-chunk-watch') });
+    const seen = new Set<string>();
+    let watching = true;
+    const watch = (async () => {
+      while (watching) {
+        for (const j of await chunkQueue.getActive()) if (j.processedBy) seen.add(j.processedBy);
+        await new Promise((r) => setTimeout(r, 40));
+      }
+    })();
+    const done = await waitForJob(o.reductionJobId, 400_000).finally(() => {
+      watching = false;
+    });
+    await watch;
+    await chunkQueue.close();
     const tReduced = Date.now();
+    // both processes took chunks (each names itself host:pid, scripts/worker.ts)
+    expect(seen.size, [...seen].join(', ')).toBe(2);
+    for (const w of workers) expect([...seen].some((n) => n.endsWith(`:${w.child.pid}`))).toBe(true);
     expect(done.status, `${done.error_message}\n${workers.map((w) => w.out()).join('\n')}`).toBe('succeeded');
     expect(done.chunks_total).toBe(truth.events_per_step.reduce((a, n) => a + Math.ceil(n / 1e6), 0));
     expect(done.chunks_done).toBe(done.chunks_total);
