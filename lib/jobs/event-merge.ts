@@ -24,7 +24,7 @@ import {
 } from '@/models';
 import type { SpectrometerSi } from '@/reduction/events/kinematics';
 import { createEventReducer } from '@/reduction/events/reduce-events';
-import type { AnalysisSettings, DetectorCalibration, LobelineResult, ScanMetadata } from '@/reduction/formats';
+import type { AnalysisSettings, AnyCalibration, LobelineResult, ScanMetadata } from '@/reduction/formats';
 import { loadH5wasmNode } from '@/reduction/hdf5/node';
 import { ResultFileWriter } from '@/reduction/hdf5/result-writer';
 import { type ChunkPart, type ChunkPartKey, chunkRuns, deleteChunkParts, readChunkPart } from './event-chunk-store';
@@ -42,7 +42,7 @@ const mlog = log.child({ surface: 'reduction', part: 'event-merge' });
 
 export interface MergeInput {
   plan: EventMergeJobData['plan'];
-  calibration: DetectorCalibration;
+  calibration: AnyCalibration;
   settings: AnalysisSettings;
   sha256: string | null;
   outPath: string;

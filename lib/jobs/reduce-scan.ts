@@ -28,7 +28,7 @@ import {
   ScanResultStep,
   Team,
 } from '@/models';
-import { type LobelineResult, parseCalibration, SOFTWARE_VERSION } from '@/reduction/formats';
+import { type LobelineResult, parseAnyCalibration, SOFTWARE_VERSION } from '@/reduction/formats';
 import { loadH5wasmNode, openScanOrEventsPath } from '@/reduction/hdf5/node';
 import { ScanFileRefusedError } from '@/reduction/hdf5/problems';
 import { runEventReduction, runReduction } from './engine';
@@ -205,7 +205,7 @@ export async function processReduction(data: ReductionJobData, ctx: JobContext):
 
     // 2. Open and check everything before the first frame (or event). An event file takes the calibration's
     // spectrometer values over its own.
-    const calParsed = parseCalibration(cal.body);
+    const calParsed = parseAnyCalibration(cal.body);
     const opened = await openScanOrEventsPath(scanPath, {
       spectrometer: calParsed.ok ? (calParsed.value.spectrometer ?? null) : null,
     });
