@@ -8,6 +8,7 @@ import { type ReductionJobData, type ReductionJobOutcome, reductionJobId } from 
 import { ReductionJob } from '@/models';
 import { SOFTWARE_VERSION } from '@/reduction/formats';
 import type { EventScanFile } from '@/reduction/hdf5/event-reader';
+import { countChunkParts } from './event-chunk-store';
 
 const plog = log.child({ surface: 'reduction', part: 'event-split' });
 
@@ -52,8 +53,21 @@ export async function handOffEventFile(input: {
   const plan = eventPlanOf(input.scan, { overrides: input.overrides, readerWarnings: input.readerWarnings });
   const base = reductionJobId(data.scanId, data.calibrationId, data.settingsId);
   const mergeId = await addEventFlow({ data, queueJobId: base, plan });
+  // a plan made again (the first planner died after adding the flow) keeps the chunks already stored
+  const stored = await countChunkParts({
+    reductionJobId: data.reductionJobId,
+    calibrationId: data.calibrationId,
+    settingsId: data.settingsId,
+    softwareVersion: plan.softwareVersion,
+  });
   await ReductionJob.update(
-    { queue_job_id: mergeId, chunks_total: plan.chunks.length, chunks_done: 0, chunks_redone: null },
+    {
+      queue_job_id: mergeId,
+      chunks_total: plan.chunks.length,
+      chunks_done: stored,
+      chunks_redone: null,
+      progress: 0.05 + 0.85 * (stored / plan.chunks.length),
+    },
     { where: { id: data.reductionJobId } },
   );
   plog.info('event file split into chunk jobs', {

@@ -33,7 +33,8 @@ const { startReductionWorker } = await import('@/lib/jobs/worker');
 const { startEventChunkWorker } = await import('@/lib/jobs/event-chunk');
 const { runEventReduction } = await import('@/lib/jobs/engine');
 const { enqueueReductionForScan } = await import('@/lib/queue/enqueue');
-const { closeReductionQueue } = await import('@/lib/queue/reduction-queue');
+const { closeReductionQueue, getReductionQueue, reductionJobId } = await import('@/lib/queue/reduction-queue');
+const { sweepLostReductions } = await import('@/lib/jobs/sweep');
 const { closeEventFlow, EVENT_CHUNK_QUEUE } = await import('@/lib/queue/event-flow');
 const { createRedisConnection } = await import('@/lib/queue/connection');
 const { Queue } = await import('bullmq');
@@ -388,7 +389,15 @@ describe('a 10⁷-event file', () => {
     expect(done.chunks_total).toBe(truth.events_per_step.reduce((a, n) => a + Math.ceil(n / 1e6), 0));
     expect(done.chunks_done).toBe(done.chunks_total);
     expect(done.chunks_redone).toBe(0);
-    for (const w of workers) w.child.kill('SIGTERM');
+    // stopped cleanly (each gives its sweep lease up, which the next test needs)
+    await Promise.all(
+      workers.map(
+        (w) =>
+          new Promise((r) =>
+            w.child.exitCode !== null ? r(null) : (w.child.once('exit', r), w.child.kill('SIGTERM')),
+          ),
+      ),
+    );
     const scan = await models.Scan.findByPk(scanId);
     const json = await expectSinglePassEquality(file, scan!.latest_result_id!, work);
     expect(json.events?.n_events).toBe(nEvents);
@@ -402,4 +411,48 @@ describe('a 10⁷-event file', () => {
     );
     expect(statSync(file).size).toBe(bytes);
   }, 900_000);
+});
+
+describe('a split request whose merge job the queue lost', () => {
+  it('is planned again by the lost-job sweep under its own id and reduced once', async () => {
+    const plan = planScan({ kind: 'angular_streaking', steps: 2, size: 64, counts: 1.2e5, seed: 47, offsetDeg: 3 });
+    const { scanId, truth } = await addEventScan('lost-merge', plan);
+    const base = reductionJobId(scanId, world.calibrationId, world.settingsId);
+    // as a planner leaves it: running, split, pointing at a merge job that Redis no longer holds (e.g. a restart)
+    const row = await models.ReductionJob.create({
+      scan_id: scanId,
+      calibration_id: world.calibrationId,
+      settings_id: world.settingsId,
+      batch_id: null,
+      status: 'running',
+      attempts: 1,
+      error_message: null,
+      queue_job_id: `${base}-merge-r999999`,
+      requested_by: null,
+      started_at: new Date(),
+      finished_at: null,
+      chunks_total: 2,
+      chunks_done: 0,
+    });
+    const report = await sweepLostReductions({ holder: `sweep-test-${tag}`, minAgeMs: 0 });
+    expect(report.leased).toBe(true);
+    expect(report.requeued).toContain(row.id);
+    await row.reload();
+    expect(row.queue_job_id).toBe(base);
+    expect(await getReductionQueue().getJob(base)).toBeTruthy();
+    const reducer = startReductionWorker({ name: `sweep-reducer-${tag}`, sweep: false });
+    const chunker = startEventChunkWorker({ name: `sweep-chunker-${tag}` });
+    try {
+      const done = await waitForJob(row.id, 180_000);
+      expect(done.status, done.error_message ?? '').toBe('succeeded');
+      expect(done.chunks_total).toBe(done.chunks_done);
+      expect(done.queue_job_id).toContain('-merge-');
+    } finally {
+      await chunker.close();
+      await reducer.close();
+    }
+    expect(await models.ScanResult.count({ where: { scan_id: scanId } })).toBe(1);
+    const result = await models.ScanResult.findOne({ where: { scan_id: scanId } });
+    expect(result!.result_json.events?.steps.map((s: { events: number }) => s.events)).toEqual(truth.events_per_step);
+  }, 300_000);
 });
