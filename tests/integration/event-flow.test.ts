@@ -393,9 +393,11 @@ describe('a 10⁷-event file', () => {
     await Promise.all(
       workers.map(
         (w) =>
-          new Promise((r) =>
-            w.child.exitCode !== null ? r(null) : (w.child.once('exit', r), w.child.kill('SIGTERM')),
-          ),
+          new Promise((r) => {
+            if (w.child.exitCode !== null) return r(null);
+            w.child.once('exit', r);
+            w.child.kill('SIGTERM');
+          }),
       ),
     );
     const scan = await models.Scan.findByPk(scanId);
