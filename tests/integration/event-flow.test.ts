@@ -35,6 +35,7 @@ const { runEventReduction } = await import('@/lib/jobs/engine');
 const { enqueueReductionForScan } = await import('@/lib/queue/enqueue');
 const { closeReductionQueue, getReductionQueue, reductionJobId } = await import('@/lib/queue/reduction-queue');
 const { sweepLostReductions } = await import('@/lib/jobs/sweep');
+const { getScanDetail } = await import('@/lib/db/queries/scans');
 const { closeEventFlow, EVENT_CHUNK_QUEUE } = await import('@/lib/queue/event-flow');
 const { createRedisConnection } = await import('@/lib/queue/connection');
 const { Queue } = await import('bullmq');
@@ -316,6 +317,12 @@ describe('chunk workers killed with SIGKILL', () => {
       // the part stored before the kill already counts towards the progress
       expect(row!.chunks_done).toBe(1);
       expect(row!.status).toBe('running');
+      // what the scan page shows ("1 of N event chunks counted")
+      const detail = await getScanDetail({ scanId });
+      const open = detail.jobs.find((j) => j.status === 'running');
+      expect(open?.chunksDone).toBe(1);
+      expect(open?.chunksTotal).toBe(total);
+      expect(open?.progress).toBeCloseTo(0.05 + 0.85 / total, 5);
       mid.child.kill('SIGKILL');
       after.child.kill('SIGKILL');
       await Promise.all(
