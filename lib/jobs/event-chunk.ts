@@ -27,7 +27,7 @@ import { histogramEventRange } from '@/reduction/events/event-range';
 import { eventSettingsOf } from '@/reduction/events/reduce-events';
 import { openScanOrEventsPath } from '@/reduction/hdf5/node';
 import { ScanFileRefusedError } from '@/reduction/hdf5/problems';
-import { type ChunkPartKey, countChunkParts, putChunkPart } from './event-chunk-store';
+import { type ChunkPartKey, countChunkParts, deleteChunkParts, putChunkPart } from './event-chunk-store';
 import { describeAttempt, explainFailure, ReductionRefusedError } from './failure';
 import { preflightEvents } from './preflight';
 import { markReductionFailed } from './reduce-scan';
@@ -168,6 +168,8 @@ export async function processEventChunk(data: EventChunkJobData, ctx: ChunkConte
         message: `Chunk ${chunkIndex + 1} of ${chunks}: ${outcome.jobMessage}`,
         attempts: attemptNo,
       });
+      // the request is closed: its stored parts will never be merged
+      await deleteChunkParts(reductionJobId).catch(() => undefined);
     }
     if (ex.transient && !outcome.final) throw err;
     throw err instanceof ReductionRefusedError ? err : new ReductionRefusedError(outcome.jobMessage);
@@ -242,7 +244,7 @@ export function startEventChunkWorker(options: EventChunkWorkerOptions = {}): {
             `The worker counting chunk ${data.data.chunkIndex + 1} of ${data.data.chunks} stopped several times in ` +
             'the middle of it (it crashed or ran out of memory). Check the worker machines; then reduce the scan again.',
           attempts: job.attemptsMade + 1,
-        });
+        }).then(() => deleteChunkParts(data.data.reductionJobId).catch(() => undefined));
       }
     }
   });

@@ -224,6 +224,7 @@ export async function processEventMerge(data: EventMergeJobData, ctx: JobContext
     mlog.warn('merge attempt failed', { scanId, reductionJobId, attemptNo, final: outcome.final, err });
     if (outcome.final) {
       await markReductionFailed({ reductionJobId, scanId, message: outcome.jobMessage, attempts: attemptNo });
+      await deleteChunkParts(reductionJobId).catch(() => undefined);
     }
     if (ex.transient && !outcome.final) throw err;
     throw err instanceof ReductionRefusedError ? err : new ReductionRefusedError(outcome.jobMessage);

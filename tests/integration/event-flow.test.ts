@@ -465,3 +465,35 @@ describe('a split request whose merge job the queue lost', () => {
     expect(result!.result_json.events?.steps.map((s: { events: number }) => s.events)).toEqual(truth.events_per_step);
   }, 300_000);
 });
+
+describe('a chunk that cannot be counted', () => {
+  it('fails the request with a sentence naming the chunk, and nothing is merged', async () => {
+    const plan = planScan({ kind: 'angular_streaking', steps: 2, size: 64, counts: 1.2e5, seed: 53, offsetDeg: 3 });
+    const { scanId } = await addEventScan('gone-file', plan);
+    const reducer = startReductionWorker({ name: `fail-reducer-${tag}`, sweep: false });
+    let chunker: ReturnType<typeof startEventChunkWorker> | null = null;
+    try {
+      const o = await enqueueReductionForScan(scanId);
+      if (!o.queued) throw new Error(o.reason);
+      const deadline = Date.now() + 60_000;
+      for (;;) {
+        const row = await models.ReductionJob.findByPk(o.reductionJobId);
+        if (row?.chunks_total) break;
+        if (row?.status === 'failed' || Date.now() > deadline) throw new Error(`not split: ${row?.status}`);
+        await new Promise((r) => setTimeout(r, 100));
+      }
+      // the raw file goes away after the plan: a permanent problem, no retry (lib/jobs/failure.ts)
+      const scan = await models.Scan.findByPk(scanId);
+      await models.RawFile.update({ deleted_at: new Date() }, { where: { id: scan!.raw_file_id } });
+      chunker = startEventChunkWorker({ name: `fail-chunker-${tag}` });
+      const done = await waitForJob(o.reductionJobId, 60_000);
+      expect(done.status).toBe('failed');
+      expect(done.error_message).toMatch(/^Chunk \d+ of \d+: The raw file of this scan is no longer stored\./);
+      expect((await models.Scan.findByPk(scanId))?.status).toBe('failed');
+      expect(await models.ScanResult.count({ where: { scan_id: scanId } })).toBe(0);
+    } finally {
+      await chunker?.close();
+      await reducer.close();
+    }
+  }, 120_000);
+});
