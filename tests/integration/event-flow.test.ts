@@ -34,7 +34,7 @@ const { startEventChunkWorker } = await import('@/lib/jobs/event-chunk');
 const { runEventReduction } = await import('@/lib/jobs/engine');
 const { enqueueReductionForScan } = await import('@/lib/queue/enqueue');
 const { closeReductionQueue, getReductionQueue, reductionJobId } = await import('@/lib/queue/reduction-queue');
-const { sweepLostReductions } = await import('@/lib/jobs/sweep');
+const { releaseLease, SWEEP_LEASE, sweepLostReductions } = await import('@/lib/jobs/sweep');
 const { getScanDetail } = await import('@/lib/db/queries/scans');
 const { closeEventFlow, EVENT_CHUNK_QUEUE } = await import('@/lib/queue/event-flow');
 const { createRedisConnection } = await import('@/lib/queue/connection');
@@ -443,10 +443,16 @@ describe('a split request whose merge job the queue lost', () => {
       chunks_total: 2,
       chunks_done: 0,
     });
-    const report = await sweepLostReductions({ holder: `sweep-test-${tag}`, minAgeMs: 0 });
-    expect(report.leased).toBe(true);
-    expect(report.requeued).toContain(row.id);
-    await row.reload();
+    // The sweep lease may still name a worker another test file killed (it expires after 90 s): take it over, as
+    // an expired lease would be; a live sweeper that gets there first re-queues the row in the same way.
+    for (let i = 0; i < 50; i++) {
+      await getDb().query("UPDATE worker_leases SET holder = NULL WHERE name = 'reduction-sweep'");
+      const report = await sweepLostReductions({ holder: `sweep-test-${tag}`, minAgeMs: 0 });
+      await row.reload();
+      if (report.leased && row.queue_job_id === base) expect(report.requeued).toContain(row.id);
+      if (row.queue_job_id === base) break;
+      await new Promise((r) => setTimeout(r, 200));
+    }
     expect(row.queue_job_id).toBe(base);
     expect(await getReductionQueue().getJob(base)).toBeTruthy();
     const reducer = startReductionWorker({ name: `sweep-reducer-${tag}`, sweep: false });
@@ -459,6 +465,8 @@ describe('a split request whose merge job the queue lost', () => {
     } finally {
       await chunker.close();
       await reducer.close();
+      // give the lease up, or the next test file's sweeps wait 90 s for it
+      await releaseLease(SWEEP_LEASE, `sweep-test-${tag}`);
     }
     expect(await models.ScanResult.count({ where: { scan_id: scanId } })).toBe(1);
     const result = await models.ScanResult.findOne({ where: { scan_id: scanId } });
