@@ -78,6 +78,9 @@ export const ENV_HELP = {
   LOG_LEVEL: 'optional: debug, info, warn or error (default info)',
   TRUSTED_PROXY_HOPS:
     'optional: how many reverse proxies in front of Lobeline append to x-forwarded-for (default 0: the client address is the socket address)',
+  EVENT_SPLIT_EVENTS:
+    'optional: event files with more events than this are reduced as chunk jobs spread over the workers (default 20000000)',
+  EVENT_CHUNK_JOB_EVENTS: 'optional: events per chunk job of a split event file (default 5000000)',
 } as const;
 
 export const envSchema = z.object({
@@ -111,6 +114,17 @@ export const envSchema = z.object({
     z.enum(['debug', 'info', 'warn', 'error']).default('info'),
   ),
   TRUSTED_PROXY_HOPS: z.preprocess(blank, z.coerce.number().int().min(0).max(10).default(0)),
+  // event files spread over workers (lib/queue/event-flow.ts)
+  EVENT_SPLIT_EVENTS: z.preprocess(blank, z.coerce.number().int().min(1).default(20_000_000)),
+  EVENT_CHUNK_JOB_EVENTS: z.preprocess(
+    blank,
+    z.coerce
+      .number()
+      .int()
+      .min(1000)
+      .max(2 ** 31)
+      .default(5_000_000),
+  ),
 });
 
 export type Env = z.infer<typeof envSchema>;

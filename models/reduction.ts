@@ -77,6 +77,11 @@ export class ReductionJob extends Model<InferAttributes<ReductionJob>, InferCrea
   declare requested_by: number | null;
   declare started_at: Date | null;
   declare finished_at: Date | null;
+  /** Event files split into chunk jobs (lib/queue/event-flow.ts): chunks in all and chunks stored; else null. */
+  declare chunks_total: CreationOptional<number | null>;
+  declare chunks_done: CreationOptional<number | null>;
+  /** Chunk runs that were repeats (set by the merge). */
+  declare chunks_redone: CreationOptional<number | null>;
   declare created_at: CreationOptional<Date>;
   declare updated_at: CreationOptional<Date>;
 }
@@ -167,6 +172,9 @@ export function initReductionModels(sequelize: Sequelize): void {
       requested_by: fk(true),
       started_at: { type: DataTypes.DATE(3), allowNull: true },
       finished_at: { type: DataTypes.DATE(3), allowNull: true },
+      chunks_total: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
+      chunks_done: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
+      chunks_redone: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
       ...stampColumns(),
     },
     { sequelize, tableName: 'reduction_jobs', ...modelOptions },

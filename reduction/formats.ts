@@ -123,6 +123,28 @@ export const detectorCalibrationSchema = z
 export type DetectorCalibrationInput = z.input<typeof detectorCalibrationSchema>;
 export type DetectorCalibration = z.output<typeof detectorCalibrationSchema>;
 
+/**
+ * Optional extension for event campaigns (FORMATS §1.1): a calibration that holds a `spectrometer` object (possibly
+ * empty: every value from the files) and neither `center_px` nor `momentum_per_pixel_au` is a calibration for event
+ * files only. Event files need no detector-image fields (their momenta come from the spectrometer values and land
+ * on the grid of the settings); image scans refuse such a calibration. Every other field keeps its meaning.
+ */
+export const eventCalibrationSchema = detectorCalibrationSchema.extend({
+  center_px: detectorCalibrationSchema.shape.center_px.optional(),
+  momentum_per_pixel_au: detectorCalibrationSchema.shape.momentum_per_pixel_au.optional(),
+  spectrometer: detectorCalibrationSchema.shape.spectrometer.unwrap(),
+});
+export type EventCalibration = z.output<typeof eventCalibrationSchema>;
+/** A calibration of either kind (what a result of an event scan records). */
+export type AnyCalibration = DetectorCalibration | EventCalibration;
+
+/** Whether a calibration body is one for event files only (see eventCalibrationSchema). */
+export function isEventOnlyCalibration(value: unknown): boolean {
+  if (value === null || typeof value !== 'object' || Array.isArray(value)) return false;
+  const v = value as Record<string, unknown>;
+  return 'spectrometer' in v && !('center_px' in v) && !('momentum_per_pixel_au' in v);
+}
+
 // ANALYSIS SETTINGS (FORMATS §3) //
 
 export const DEFAULT_SETTINGS = {
@@ -443,7 +465,8 @@ export interface LobelineResult {
   format: 'lobeline.result';
   version: 1;
   input: ResultInput;
-  calibration: DetectorCalibration;
+  /** The calibration version used (for an event scan possibly one without detector-image fields). */
+  calibration: AnyCalibration;
   settings: AnalysisSettings;
   software: { name: 'lobeline'; version: string };
   steps: StepResult[];
@@ -500,6 +523,18 @@ export function parseCalibration(
   value: unknown,
 ): { ok: true; value: DetectorCalibration } | { ok: false; problems: string[] } {
   const r = detectorCalibrationSchema.safeParse(value);
+  return r.success ? { ok: true, value: r.data } : { ok: false, problems: describeIssues('calibration', r.error) };
+}
+
+/**
+ * Parses a calibration of either kind: one for event files only (eventCalibrationSchema) when it has a
+ * `spectrometer` object and no detector-image fields, else an image calibration (FORMATS §2).
+ */
+export function parseAnyCalibration(
+  value: unknown,
+): { ok: true; value: AnyCalibration } | { ok: false; problems: string[] } {
+  if (!isEventOnlyCalibration(value)) return parseCalibration(value);
+  const r = eventCalibrationSchema.safeParse(value);
   return r.success ? { ok: true, value: r.data } : { ok: false, problems: describeIssues('calibration', r.error) };
 }
 

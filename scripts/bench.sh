@@ -23,6 +23,8 @@ SECTIONS=(
   "EVENTS|npx tsx scripts/bench/events.ts"
   # event files from disk to a result: events/s and peak memory per size (reduction/hdf5/event-reader.ts)
   "EVENTS-FILE|npx tsx scripts/bench/events-file.ts"
+  # one event file through the queue as chunk jobs: speed-up with 1, 2, 4 worker processes; peak RSS 10⁷ vs 10⁸
+  "EVENTS-FLOW|npx tsx scripts/bench/events-flow.ts"
   # 20 signed-in HTTP clients on the running app (start the app and run N5 once first; see the script's header).
   "LOAD|npx tsx scripts/bench/load-app.ts"
   # precision of the lobe angles (several minutes; scripts/bench/precision.ts --realisations 10 for a quick look)

@@ -55,11 +55,15 @@ async function main(): Promise<number> {
   const { startFixityWorker } = await import('@/lib/jobs/fixity');
   const archive = startArchiveWorker({ name });
   const fixity = startFixityWorker({ name });
+  // Chunk jobs of large event files (lib/queue/event-flow.ts), as many at once as reductions.
+  const { startEventChunkWorker } = await import('@/lib/jobs/event-chunk');
+  const chunks = startEventChunkWorker({ concurrency, name });
   await Promise.all([
     worker.waitUntilReady(),
     verify.worker.waitUntilReady(),
     archive.worker.waitUntilReady(),
     fixity.worker.waitUntilReady(),
+    chunks.worker.waitUntilReady(),
   ]);
   log.info('reduction worker ready', { name, concurrency });
   console.log(`Lobeline reduction worker ${name} is waiting for jobs (concurrency ${concurrency}). Ctrl-C stops it.`);
@@ -74,7 +78,7 @@ async function main(): Promise<number> {
     process.once('SIGINT', () => stop('SIGINT'));
     process.once('SIGTERM', () => stop('SIGTERM'));
   });
-  await Promise.all([close(), verify.close(), archive.close(), fixity.close()]);
+  await Promise.all([close(), verify.close(), archive.close(), fixity.close(), chunks.close()]);
   const { closeFixityQueue } = await import('@/lib/jobs/fixity');
   const { closeArchiveQueue } = await import('@/lib/jobs/archive');
   await Promise.all([closeFixityQueue(), closeArchiveQueue()]);

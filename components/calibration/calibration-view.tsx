@@ -11,7 +11,7 @@ import { Badge, Button, EmptyState, ErrorState, LoadingBlock, PageHeader, Panel 
 import { apiFetch } from '@/lib/api/client';
 import type { ApprovalPreviewDto, VersionDto, VersionKind } from '@/lib/db/queries/calibrations';
 import { formatDateTime } from '@/lib/format';
-import { type DetectorCalibration, parseCalibration, parseSettings } from '@/reduction/formats';
+import { type DetectorCalibration, parseAnyCalibration, parseSettings } from '@/reduction/formats';
 import { BenchEntry } from './bench-entry';
 import { VersionEditor } from './version-editor';
 import { fitWindowWords, peakModelWords } from './version-forms';
@@ -32,9 +32,13 @@ function spectrometerWords(sp: DetectorCalibration['spectrometer']): string {
 
 function summary(kind: VersionKind, body: unknown): string {
   if (kind === 'calibration') {
-    const r = parseCalibration(body);
+    const r = parseAnyCalibration(body);
     if (!r.ok) return 'not a valid calibration';
     const c = r.value;
+    if (c.center_px === undefined || c.momentum_per_pixel_au === undefined) {
+      const sp = spectrometerWords(c.spectrometer);
+      return `for event files only${sp ? sp.replace(' · event files:', ':') : ': every spectrometer value from the files'}`;
+    }
     return `centre (${formatNumber(c.center_px[0], 5)}, ${formatNumber(c.center_px[1], 5)}) px · ${formatNumber(c.momentum_per_pixel_au, 4)} a.u./px · rotation ${formatNumber(c.rotation_deg, 4)}°${c.mirror ? ' · mirrored' : ''}${c.bad_pixels.length ? ` · ${c.bad_pixels.length} bad pixels` : ''}${spectrometerWords(c.spectrometer)}`;
   }
   // Stored bodies may be partial (FORMATS §3: completed from the defaults), so show the completed values.

@@ -8,7 +8,7 @@ import { inputClass } from '@/components/ui/input-class';
 import { type ApiError, apiFetch } from '@/lib/api/client';
 import type { VersionDto, VersionKind } from '@/lib/db/queries/calibrations';
 import { problemForUser } from '@/lib/field-labels';
-import { parseCalibration, parseSettings } from '@/reduction/formats';
+import { parseAnyCalibration, parseSettings } from '@/reduction/formats';
 import { calibrationToForm, type FormState, formToCalibration, formToSettings, settingsToForm } from './version-forms';
 
 // The control comes in as `children`, inside the label, so the label is associated with it.
@@ -73,7 +73,7 @@ export function VersionEditor({
   });
   function save() {
     const body = kind === 'calibration' ? formToCalibration(f, baseBody) : formToSettings(f, baseBody);
-    const r = kind === 'calibration' ? parseCalibration(body) : parseSettings(body);
+    const r = kind === 'calibration' ? parseAnyCalibration(body) : parseSettings(body);
     if (!r.ok) {
       setProblems(r.problems.map((p) => problemForUser(p)));
       return;
@@ -100,6 +100,10 @@ export function VersionEditor({
       </p>
       {kind === 'calibration' ? (
         <div className={grid}>
+          <p className="text-micro text-ink-600 sm:col-span-2" data-testid="event-calibration-hint">
+            For a campaign of event files (delay-line detectors) leave the centre and the momentum per pixel blank: the
+            version then holds the spectrometer values below only.
+          </p>
           <Row label="Centre x₀" hint="pixels (column)">
             {text('center_x')}
           </Row>

@@ -57,9 +57,13 @@ export function formToCalibration(f: FormState, base: Record<string, unknown> | 
     .map((l) => l.trim())
     .filter(Boolean)
     .map((l) => l.split(/[\s,;]+/).map(Number));
+  // blank centre and scale: a calibration for event files only (FORMATS §1.1, reduction/formats.ts
+  // eventCalibrationSchema), which needs no detector-image fields
+  const eventOnly = blank(f.center_x) && blank(f.center_y) && blank(f.momentum_per_pixel_au);
   const out: Record<string, unknown> = {
-    center_px: [num(f.center_x), num(f.center_y)],
-    momentum_per_pixel_au: num(f.momentum_per_pixel_au),
+    ...(eventOnly
+      ? {}
+      : { center_px: [num(f.center_x), num(f.center_y)], momentum_per_pixel_au: num(f.momentum_per_pixel_au) }),
     rotation_deg: num(f.rotation_deg),
     mirror: !!f.mirror,
     detector_ellipticity: { ratio: num(f.ellipticity_ratio), axis_deg: num(f.ellipticity_axis_deg) },
@@ -71,7 +75,7 @@ export function formToCalibration(f: FormState, base: Record<string, unknown> | 
   const sp: Record<string, unknown> = {};
   for (const k of SPECTROMETER_FIELDS) if (!blank(f[`sp_${k}`])) sp[k] = num(f[`sp_${k}`]);
   if (!blank(f.sp_center_x) || !blank(f.sp_center_y)) sp.detector_center = [num(f.sp_center_x), num(f.sp_center_y)];
-  if (Object.keys(sp).length > 0) out.spectrometer = sp;
+  if (Object.keys(sp).length > 0 || eventOnly) out.spectrometer = sp;
   return out;
 }
 

@@ -158,6 +158,12 @@ export function ScanView({
             <span className="text-small text-ink-700">
               {openJob.status === 'running' ? 'Reducing' : 'Waiting for a worker'} · attempt{' '}
               {Math.max(1, openJob.attempts)}
+              {openJob.chunksTotal != null ? (
+                <span data-testid="job-chunks">
+                  {' '}
+                  · {openJob.chunksDone ?? 0} of {openJob.chunksTotal} event chunks counted
+                </span>
+              ) : null}
             </span>
             <div
               className="h-2 flex-1 overflow-hidden rounded-full bg-ink-100"

@@ -3,7 +3,7 @@
 // held at a time; the reducer and the writer keep their own bounded state (N6).
 
 import { createEventReducer } from '@/reduction/events/reduce-events';
-import type { AnalysisSettings, DetectorCalibration, LobelineResult } from '@/reduction/formats';
+import type { AnalysisSettings, AnyCalibration, DetectorCalibration, LobelineResult } from '@/reduction/formats';
 import type { EventScanFile } from '@/reduction/hdf5/event-reader';
 import { loadH5wasmNode } from '@/reduction/hdf5/node';
 import type { ScanFile } from '@/reduction/hdf5/reader';
@@ -77,8 +77,10 @@ export async function runReduction(
   }
 }
 
-export interface RunEventReductionInput extends Omit<RunReductionInput, 'scan' | 'onStep'> {
+export interface RunEventReductionInput extends Omit<RunReductionInput, 'scan' | 'onStep' | 'calibration'> {
   scan: EventScanFile;
+  /** The calibration version (an image one, or one for event files only; only `spectrometer` applies). */
+  calibration: AnyCalibration;
   /** Called after each chunk with events done and events in all (awaited, like `onStep`). */
   onEvents?: (done: number, total: number) => Promise<void> | void;
 }

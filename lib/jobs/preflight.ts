@@ -2,8 +2,8 @@
 // Each problem is a sentence a physicist reads without the code: which number, what it should be, what it is.
 
 import { formatNumber } from '@/lib/format';
-import type { AnalysisSettings, DetectorCalibration, ScanMetadata } from '@/reduction/formats';
-import { parseCalibration, parseSettings } from '@/reduction/formats';
+import type { AnalysisSettings, AnyCalibration, DetectorCalibration, ScanMetadata } from '@/reduction/formats';
+import { isEventOnlyCalibration, parseAnyCalibration, parseCalibration, parseSettings } from '@/reduction/formats';
 import { ReductionRefusedError } from './failure';
 
 const fmt = (v: number) =>
@@ -24,6 +24,12 @@ export function preflight(
   settingsBody: unknown,
   labels: { calibration: string; settings: string },
 ): { calibration: DetectorCalibration; settings: AnalysisSettings } {
+  if (isEventOnlyCalibration(calibrationBody)) {
+    throw new ReductionRefusedError(
+      `${labels.calibration} is a calibration for event files (spectrometer values only, no detector centre or ` +
+        'momentum scale); this scan is a detector image. Reduce it with an image calibration of the campaign.',
+    );
+  }
   const c = parseCalibration(calibrationBody);
   const s = parseSettings(settingsBody);
   const problems: string[] = [];
@@ -104,8 +110,8 @@ export function preflightEvents(
   calibrationBody: unknown,
   settingsBody: unknown,
   labels: { calibration: string; settings: string },
-): { calibration: DetectorCalibration; settings: AnalysisSettings } {
-  const c = parseCalibration(calibrationBody);
+): { calibration: AnyCalibration; settings: AnalysisSettings } {
+  const c = parseAnyCalibration(calibrationBody);
   const s = parseSettings(settingsBody);
   const problems: string[] = [];
   if (!c.ok) problems.push(...c.problems.map((p) => `${labels.calibration}: ${p}`));

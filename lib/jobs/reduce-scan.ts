@@ -29,10 +29,11 @@ import {
   ScanResultStep,
   Team,
 } from '@/models';
-import { type LobelineResult, parseCalibration, SOFTWARE_VERSION } from '@/reduction/formats';
+import { type LobelineResult, parseAnyCalibration, SOFTWARE_VERSION } from '@/reduction/formats';
 import { loadH5wasmNode, openScanOrEventsPath } from '@/reduction/hdf5/node';
 import { ScanFileRefusedError } from '@/reduction/hdf5/problems';
 import { runEventReduction, runReduction } from './engine';
+import { handOffEventFile, shouldSplitEvents } from './event-split';
 import { describeAttempt, explainFailure, ReductionRefusedError } from './failure';
 import { notifyReductionFailure } from './notify';
 import { preflight, preflightEvents } from './preflight';
@@ -76,7 +77,7 @@ function progressReporter(jobId: number, ctx: JobContext) {
 }
 
 /** Points the scan at an existing result (used when the requested versions were already reduced). */
-async function adoptExistingResult(existing: ScanResult, jobId: number): Promise<ReductionJobOutcome> {
+export async function adoptExistingResult(existing: ScanResult, jobId: number): Promise<ReductionJobOutcome> {
   await getDb().transaction(async (transaction) => {
     await Scan.update(
       {
@@ -207,7 +208,7 @@ export async function processReduction(data: ReductionJobData, ctx: JobContext):
 
     // 2. Open and check everything before the first frame (or event). An event file takes the calibration's
     // spectrometer values over its own.
-    const calParsed = parseCalibration(cal.body);
+    const calParsed = parseAnyCalibration(cal.body);
     const opened = await openScanOrEventsPath(scanPath, {
       spectrometer: calParsed.ok ? (calParsed.value.spectrometer ?? null) : null,
     });
@@ -216,6 +217,17 @@ export async function processReduction(data: ReductionJobData, ctx: JobContext):
     const labels = { calibration: `calibration v${cal.version}`, settings: `settings v${set.version}` };
     const outPath = path.join(workDir, 'result.h5');
     let result: LobelineResult;
+    if (opened.kind === 'events' && shouldSplitEvents(opened.scan.events.nEvents)) {
+      // 3'. A large event file: chunk jobs spread over the workers, and a merge job that finishes this request
+      // (./event-split.ts). The request stays 'running'; the merge commits its result.
+      preflightEvents(cal.body, set.body, labels);
+      return await handOffEventFile({
+        data,
+        scan: opened.scan,
+        overrides,
+        readerWarnings: opened.warnings,
+      });
+    }
     if (opened.kind === 'events') {
       // 3. Events chunk by chunk, histogrammed per step, through the reducer into the result file.
       const { calibration, settings } = preflightEvents(cal.body, set.body, labels);
@@ -306,7 +318,7 @@ export async function processReduction(data: ReductionJobData, ctx: JobContext):
   }
 }
 
-interface CommitInput {
+export interface CommitInput {
   scan: Scan;
   rawFileId: number;
   calibrationId: number;
@@ -339,7 +351,7 @@ export function headlineOffset(result: LobelineResult): { offset: number | null;
   return nPlain ? { offset: plain / nPlain, err: null } : { offset: null, err: null };
 }
 
-async function commitResult(input: CommitInput): Promise<ReductionJobOutcome> {
+export async function commitResult(input: CommitInput): Promise<ReductionJobOutcome> {
   const { result } = input;
   const head = headlineOffset(result);
   try {

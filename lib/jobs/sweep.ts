@@ -115,6 +115,9 @@ export async function sweepLostReductions(options: SweepOptions): Promise<SweepR
       report.givenUp.push(fresh.id);
       continue;
     }
+    // A split event file whose merge job was lost is planned again under the request's own id (its stored chunk
+    // parts are overwritten by the new chunk jobs, lib/queue/event-flow.ts).
+    const addId = fresh.chunks_total != null ? reductionJobId(row.scan_id, row.calibration_id, row.settings_id) : jobId;
     await addReductionJob(
       {
         scanId: fresh.scan_id,
@@ -122,9 +125,9 @@ export async function sweepLostReductions(options: SweepOptions): Promise<SweepR
         settingsId: fresh.settings_id,
         reductionJobId: fresh.id,
       },
-      jobId,
+      addId,
     );
-    await fresh.update({ status: 'queued', queue_job_id: jobId });
+    await fresh.update({ status: 'queued', queue_job_id: addId });
     await Scan.update(
       { status: 'queued', status_message: 'Queued again after the job queue lost the request.' },
       { where: { id: fresh.scan_id, status: { [Op.in]: ['queued', 'reducing'] } } },

@@ -11,6 +11,7 @@
 import { type Job, UnrecoverableError, Worker } from 'bullmq';
 import { log } from '@/lib/log';
 import { createRedisConnection } from '@/lib/queue/connection';
+import { EVENT_MERGE_JOB, eventMergeJobDataSchema } from '@/lib/queue/event-flow';
 import {
   REDUCTION_ATTEMPTS,
   REDUCTION_BACKOFF_TYPE,
@@ -20,8 +21,9 @@ import {
   reductionBackoffMs,
   reductionJobDataSchema,
 } from '@/lib/queue/reduction-queue';
+import { processEventMerge } from './event-merge';
 import { ReductionRefusedError } from './failure';
-import { markReductionFailed, processReduction } from './reduce-scan';
+import { type JobContext, markReductionFailed, processReduction } from './reduce-scan';
 import { startSweepTimer } from './sweep';
 
 const wlog = log.child({ surface: 'reduction', part: 'worker' });
@@ -49,8 +51,14 @@ function handler(onProgress: ReductionWorkerOptions['onProgress']) {
   return async (job: Job<ReductionJobData, ReductionJobOutcome>): Promise<ReductionJobOutcome> => {
     const parsed = reductionJobDataSchema.safeParse(job.data);
     if (!parsed.success) throw new UnrecoverableError(`malformed job payload for ${job.id}`);
+    // The parent of a split event file (lib/queue/event-flow.ts): merge the chunks' histograms, then analyse.
+    const merge = job.name === EVENT_MERGE_JOB ? eventMergeJobDataSchema.safeParse(job.data) : null;
+    if (merge && !merge.success) throw new UnrecoverableError(`malformed merge payload for ${job.id}`);
     try {
-      return await processReduction(parsed.data, {
+      const run = merge?.success
+        ? (_: ReductionJobData, c: JobContext) => processEventMerge(merge.data, c)
+        : processReduction;
+      return await run(parsed.data, {
         attemptsMade: job.attemptsMade,
         maxAttempts: job.opts.attempts ?? REDUCTION_ATTEMPTS,
         updateProgress: async (p) => {

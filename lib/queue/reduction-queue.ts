@@ -42,8 +42,11 @@ export type ReductionJobData = z.infer<typeof reductionJobDataSchema>;
 
 /** Result a finished job returns (kept only briefly by BullMQ; MariaDB holds the truth). */
 export interface ReductionJobOutcome {
-  resultId: number;
+  /** null when the job handed a large event file over to chunk jobs (lib/queue/event-flow.ts). */
+  resultId: number | null;
   reusedExisting: boolean;
+  /** Id of the merge job that will finish the request (split event files only). */
+  handedOffTo?: string;
 }
 
 /** `scan-<id>-cal-<c>-set-<s>`: the same scan with the same versions is one job, however often it is asked for. */

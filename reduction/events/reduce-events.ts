@@ -21,6 +21,7 @@
  */
 import {
   type AnalysisSettings,
+  type AnyCalibration,
   analysisSettingsSchema,
   DEFAULT_EVENT_SETTINGS,
   type DetectorCalibration,
@@ -65,7 +66,7 @@ export interface EventReducerOptions {
   /** Where each spectrometer value came from (recorded in the result). */
   spectrometerSource?: Record<string, 'file' | 'calibration' | 'default'>;
   /** The calibration version chosen (recorded in the result; only its `spectrometer` applies to events). */
-  calibration: DetectorCalibration;
+  calibration: AnyCalibration;
   settings: AnalysisSettings;
   sha256?: string | null;
   onStepArrays?: (index: number, arrays: StepArrays) => void;

@@ -9,7 +9,7 @@ import { getDb } from '@/lib/db';
 import { AppError } from '@/lib/errors';
 import type { VersionStatus } from '@/models';
 import { AnalysisSettingsVersion, Campaign, DetectorCalibrationVersion, ScanResult, User } from '@/models';
-import { parseCalibration, parseSettings } from '@/reduction/formats';
+import { parseAnyCalibration, parseSettings } from '@/reduction/formats';
 import { currentResultSql, firstOfItsFile } from './scans';
 
 // TYPES //
@@ -60,7 +60,7 @@ async function guard<T>(what: string, fn: () => Promise<T>): Promise<T> {
 
 /** Parses a body of the given kind, throwing 400 with one sentence per problem. */
 export function parseVersionBody(kind: VersionKind, body: unknown): unknown {
-  const r = kind === 'calibration' ? parseCalibration(body) : parseSettings(body);
+  const r = kind === 'calibration' ? parseAnyCalibration(body) : parseSettings(body);
   if (!r.ok) {
     throw new AppError(kind === 'calibration' ? 'bad_request:calibration' : 'bad_request:settings', {
       message: kind === 'calibration' ? 'The calibration is not valid.' : 'The analysis settings are not valid.',

@@ -354,6 +354,9 @@ export interface JobDto {
   id: number;
   status: string;
   progress: number;
+  /** A large event file reduced as chunk jobs: chunks stored so far and in all (null for a single job). */
+  chunksDone: number | null;
+  chunksTotal: number | null;
   attempts: number;
   errorMessage: string | null;
   calibrationId: number;
@@ -500,6 +503,8 @@ export async function getScanDetail({ scanId }: { scanId: number }): Promise<Sca
         id: j.id,
         status: j.status,
         progress: j.progress,
+        chunksDone: j.chunks_total == null ? null : (j.chunks_done ?? 0),
+        chunksTotal: j.chunks_total ?? null,
         attempts: j.attempts,
         errorMessage: j.error_message,
         calibrationId: j.calibration_id,
