@@ -50,7 +50,10 @@ async function main(): Promise<number> {
   const { worker, close } = startReductionWorker({ concurrency, name });
   // Large uploads are verified here too, off the web server's request path.
   const verify = startUploadVerifyWorker({ name });
-  await Promise.all([worker.waitUntilReady(), verify.worker.waitUntilReady()]);
+  // Model overlays of the comparison page that take long (the ensemble), one at a time.
+  const { startModelWorker } = await import('@/lib/jobs/model-job');
+  const models = startModelWorker({ name });
+  await Promise.all([worker.waitUntilReady(), verify.worker.waitUntilReady(), models.worker.waitUntilReady()]);
   log.info('reduction worker ready', { name, concurrency });
   console.log(`Lobeline reduction worker ${name} is waiting for jobs (concurrency ${concurrency}). Ctrl-C stops it.`);
   await new Promise<void>((resolve) => {
@@ -64,7 +67,7 @@ async function main(): Promise<number> {
     process.once('SIGINT', () => stop('SIGINT'));
     process.once('SIGTERM', () => stop('SIGTERM'));
   });
-  await Promise.all([close(), verify.close()]);
+  await Promise.all([close(), verify.close(), models.close()]);
   await closeSequelize();
   closeS3Client();
   closeMailTransport();
