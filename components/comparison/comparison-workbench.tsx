@@ -70,7 +70,7 @@ export interface SavedView {
 const MODEL_WORDS: Record<ModelName, { label: string; line: string }> = {
   simple_man: { label: 'simple-man (zero offset)', line: 'dotted line' },
   trajectory: { label: 'Coulomb-corrected single trajectory', line: 'solid line' },
-  ensemble: { label: 'Coulomb-corrected ensemble (queued run)', line: 'thick line' },
+  ensemble: { label: 'Coulomb-corrected ensemble', line: 'thick line, computed in the background' },
   keldysh_rutherford: { label: 'Keldysh–Rutherford estimate', line: 'dashed line' },
 };
 
