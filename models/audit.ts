@@ -73,7 +73,14 @@ export class ModelCacheEntry extends Model<InferAttributes<ModelCacheEntry>, Inf
   declare param_hash: string;
   declare model: string;
   declare params: Record<string, unknown>;
-  declare result: Record<string, unknown>;
+  /** Null while a queued run has not finished (migration 2026.12.06T06.00.00). */
+  declare result: Record<string, unknown> | null;
+  declare code_version: CreationOptional<string>;
+  declare state: CreationOptional<'queued' | 'running' | 'done' | 'failed'>;
+  declare progress_done: CreationOptional<number>;
+  declare progress_total: CreationOptional<number>;
+  declare error: CreationOptional<string | null>;
+  declare compute_ms: CreationOptional<number | null>;
   declare created_at: CreationOptional<Date>;
   declare updated_at: CreationOptional<Date>;
 }
@@ -146,7 +153,13 @@ export function initAuditModels(sequelize: Sequelize): void {
       param_hash: { type: DataTypes.CHAR(64), allowNull: false, unique: true },
       model: { type: DataTypes.STRING(32), allowNull: false },
       params: { type: DataTypes.JSON, allowNull: false },
-      result: { type: DataTypes.JSON, allowNull: false },
+      result: { type: DataTypes.JSON, allowNull: true },
+      code_version: { type: DataTypes.STRING(32), allowNull: false, defaultValue: '' },
+      state: { type: DataTypes.ENUM('queued', 'running', 'done', 'failed'), allowNull: false, defaultValue: 'done' },
+      progress_done: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, defaultValue: 0 },
+      progress_total: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, defaultValue: 0 },
+      error: { type: DataTypes.TEXT, allowNull: true },
+      compute_ms: { type: DataTypes.INTEGER.UNSIGNED, allowNull: true },
       ...stampColumns(),
     },
     { sequelize, tableName: 'model_cache', ...modelOptions },

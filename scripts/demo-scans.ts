@@ -59,6 +59,7 @@ export const DEMO_FILES: DemoFile[] = [
       intensityMinWcm2: 2e14,
       intensityMaxWcm2: 5e14,
       offsetDeg: 6,
+      offsetIntensityExponent: 0.08, // §10.7, He 800 nm: 6.29° → 5.63° from 2 to 8 × 10¹⁴ W/cm²
       seed: 8101,
       compression: 'gzip',
     },
@@ -81,6 +82,7 @@ export const DEMO_FILES: DemoFile[] = [
       intensityMinWcm2: 3e14,
       intensityMaxWcm2: 7e14,
       offsetDeg: 4.5,
+      offsetIntensityExponent: 0.08, // §10.7, He 800 nm: 6.29° → 5.63° from 2 to 8 × 10¹⁴ W/cm²
       counts: 3e5,
       seed: 8102,
       compression: 'none',
@@ -104,6 +106,7 @@ export const DEMO_FILES: DemoFile[] = [
       intensityMinWcm2: 1.5e14,
       intensityMaxWcm2: 4e14,
       offsetDeg: 7.5,
+      offsetIntensityExponent: 0.08, // §10.7, He 800 nm: 6.29° → 5.63° from 2 to 8 × 10¹⁴ W/cm²
       counts: 1.5e5,
       seed: 8103,
       compression: 'gzip',
@@ -147,7 +150,10 @@ export const DEMO_FILES: DemoFile[] = [
       steps: 5,
       intensityMinWcm2: 1e14,
       intensityMaxWcm2: 3e14,
-      offsetDeg: 9,
+      // §10.7's ensemble for Ar at 800 nm: 13.15° at 1×10¹⁴ and 11.85° at 2×10¹⁴ W/cm² (≈ I^−0.15)
+      offsetDeg: 13.15,
+      offsetRefIntensityWcm2: 1e14,
+      offsetIntensityExponent: 0.15,
       shrink: 0.05,
       seed: 8201,
       compression: 'gzip',

@@ -58,8 +58,12 @@ async function main(): Promise<number> {
   // Chunk jobs of large event files (lib/queue/event-flow.ts), as many at once as reductions.
   const { startEventChunkWorker } = await import('@/lib/jobs/event-chunk');
   const chunks = startEventChunkWorker({ concurrency, name });
+  // Model overlays of the comparison page that take long (the ensemble), one at a time.
+  const { startModelWorker } = await import('@/lib/jobs/model-job');
+  const models = startModelWorker({ name });
   await Promise.all([
     worker.waitUntilReady(),
+    models.worker.waitUntilReady(),
     verify.worker.waitUntilReady(),
     archive.worker.waitUntilReady(),
     fixity.worker.waitUntilReady(),
@@ -78,7 +82,7 @@ async function main(): Promise<number> {
     process.once('SIGINT', () => stop('SIGINT'));
     process.once('SIGTERM', () => stop('SIGTERM'));
   });
-  await Promise.all([close(), verify.close(), archive.close(), fixity.close(), chunks.close()]);
+  await Promise.all([close(), verify.close(), archive.close(), fixity.close(), chunks.close(), models.close()]);
   const { closeFixityQueue } = await import('@/lib/jobs/fixity');
   const { closeArchiveQueue } = await import('@/lib/jobs/archive');
   await Promise.all([closeFixityQueue(), closeArchiveQueue()]);

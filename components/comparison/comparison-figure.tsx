@@ -51,6 +51,7 @@ export interface ModelLine {
 export const MODEL_STROKES: Record<ModelName, { dash: string | undefined; color: string; width: number }> = {
   simple_man: { dash: '2 3', color: '#5a6b80', width: 1.4 },
   trajectory: { dash: undefined, color: '#2b3440', width: 1.8 },
+  ensemble: { dash: '1 0', color: '#1f5f8b', width: 2.6 },
   keldysh_rutherford: { dash: '8 4', color: '#7a8798', width: 1.5 },
 };
 

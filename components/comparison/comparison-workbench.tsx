@@ -70,6 +70,7 @@ export interface SavedView {
 const MODEL_WORDS: Record<ModelName, { label: string; line: string }> = {
   simple_man: { label: 'simple-man (zero offset)', line: 'dotted line' },
   trajectory: { label: 'Coulomb-corrected single trajectory', line: 'solid line' },
+  ensemble: { label: 'Coulomb-corrected ensemble', line: 'thick line, computed in the background' },
   keldysh_rutherford: { label: 'Keldysh–Rutherford estimate', line: 'dashed line' },
 };
 
@@ -147,6 +148,9 @@ export function ComparisonWorkbench({
           queryKey: ['comparison', 'models', mq],
           queryFn: () => apiFetch<{ curves: ModelCurve[] }>(`/api/comparisons/models?${mq}`),
           staleTime: Number.POSITIVE_INFINITY,
+          // a run on the model queue (the ensemble) answers with its progress: ask again until it is done
+          refetchInterval: (q: { state: { data?: { curves: ModelCurve[] } } }) =>
+            q.state.data?.curves.some((c) => c.state === 'queued' || c.state === 'running') ? 2_000 : false,
           meta: r,
         };
       }),
@@ -161,6 +165,9 @@ export function ComparisonWorkbench({
       if (mq?.error) modelProblems.push(mq.error.message);
     });
   const modelsLoading = modelQs.some((m) => m.isPending);
+  const modelRuns = [...curves.values()]
+    .flat()
+    .filter((c) => (c.state === 'queued' || c.state === 'running') && c.progress);
   const modelLines: ModelLine[] = [];
   for (const r of requests) {
     const cs = curves.get(r.params.key) ?? [];
@@ -699,6 +706,20 @@ export function ComparisonWorkbench({
               ) : null}
               {answer?.truncated ? <li className="text-flare-800">Only the first 20 000 steps are drawn.</li> : null}
               {spec.models.length && modelsLoading ? <li>Computing the models…</li> : null}
+              {modelRuns.map((c) => (
+                <li
+                  key={`run-${c.model}-${c.points[0]?.intensityWcm2 ?? 0}-${c.progress!.total}`}
+                  data-testid="model-progress"
+                >
+                  {MODEL_WORDS[c.model].label}: {c.state === 'queued' ? 'waiting for a worker' : 'running'},{' '}
+                  {c.progress!.done.toLocaleString('en')} of {c.progress!.total.toLocaleString('en')} trajectories
+                  <progress
+                    className="ml-2 inline-block h-2 w-32 align-middle"
+                    max={c.progress!.total || 1}
+                    value={c.progress!.done}
+                  />
+                </li>
+              ))}
               {noModelReason ? <li className="text-flare-800">{noModelReason}</li> : null}
               {modelNotes.map((n) => (
                 <li key={n}>{n}</li>
@@ -725,7 +746,7 @@ export function ComparisonWorkbench({
       {residuals.length ? (
         <Panel
           title="Data minus model"
-          description="In units of each point's statistical error; the last column adds the systematic error in quadrature where one is reported."
+          description="In units of each point’s statistical error (the ensemble’s own fit σ added in quadrature); the last column also adds the systematic error where one is reported."
           flush
         >
           <ResidualTable rows={residuals} labels={MODEL_WORDS} />
@@ -795,5 +816,6 @@ export function ComparisonWorkbench({
 const ASSUMPTIONS: Record<ModelName, string> = {
   simple_man: MODEL_TEXT.simple_man.assumptions,
   trajectory: MODEL_TEXT.trajectory.assumptions,
+  ensemble: MODEL_TEXT.ensemble.assumptions,
   keldysh_rutherford: MODEL_TEXT.keldysh_rutherford.assumptions,
 };

@@ -223,12 +223,40 @@ export function modelRequests(
   });
 }
 
-/** A model's value at a total-convention intensity on the requested list (exact match, as requested). */
+/**
+ * A model's value at a total-convention intensity: on the requested list (exact match), or, for a model computed on
+ * its own grid (the ensemble), interpolated linearly in log I between the two grid points around it (null outside).
+ */
 export function modelValueAt(curve: ModelCurve, intensityTotal: number, y: YQuantity): number | null {
+  const pick = (pt: ModelCurve['points'][number]) =>
+    y === 'offset' ? pt.offsetDeg : y === 'radius' ? pt.radiusAu : null;
+  if (curve.state && curve.state !== 'done') return null;
+  if (curve.sampling === 'grid') {
+    const pts = curve.points.filter((p) => pick(p) !== null).sort((a, b) => a.intensityWcm2 - b.intensityWcm2);
+    for (let i = 0; i + 1 < pts.length; i++) {
+      const a = pts[i]!;
+      const b = pts[i + 1]!;
+      if (intensityTotal < a.intensityWcm2 || intensityTotal > b.intensityWcm2) continue;
+      const t = Math.log(intensityTotal / a.intensityWcm2) / Math.log(b.intensityWcm2 / a.intensityWcm2);
+      return pick(a)! + t * (pick(b)! - pick(a)!);
+    }
+    return null;
+  }
   const k = Number(intensityTotal.toPrecision(8));
   const pt = curve.points.find((q) => Number(q.intensityWcm2.toPrecision(8)) === k);
   if (!pt) return null;
-  return y === 'offset' ? pt.offsetDeg : y === 'radius' ? pt.radiusAu : null;
+  return pick(pt);
+}
+
+/** The model's own statistical σ at an intensity (the ensemble's fit σ, interpolated like its value), else 0. */
+export function modelErrAt(curve: ModelCurve, intensityTotal: number, y: YQuantity): number {
+  if (y !== 'offset' || curve.sampling !== 'grid') return 0;
+  const v = modelValueAt(
+    { ...curve, points: curve.points.map((p) => ({ ...p, offsetDeg: p.offsetErrDeg ?? null })) },
+    intensityTotal,
+    'offset',
+  );
+  return v !== null && Number.isFinite(v) ? v : 0;
 }
 
 export interface ResidualRow {
@@ -273,8 +301,10 @@ export function residualTable(
           skipped++;
           continue;
         }
-        r.push((pp.y - m) / pp.err);
-        rSys.push((pp.y - m) / Math.sqrt(pp.err ** 2 + (pp.sys ?? 0) ** 2));
+        // a model with its own scatter (the ensemble) adds its σ in quadrature
+        const em = curve && f !== null ? modelErrAt(curve, pp.x * f, spec.axes.y) : 0;
+        r.push((pp.y - m) / Math.sqrt(pp.err ** 2 + em ** 2));
+        rSys.push((pp.y - m) / Math.sqrt(pp.err ** 2 + em ** 2 + (pp.sys ?? 0) ** 2));
       }
       const mean = r.length ? r.reduce((a, b) => a + b, 0) / r.length : null;
       const rms = (v: number[]) => (v.length ? Math.sqrt(v.reduce((a, b) => a + b * b, 0) / v.length) : null);

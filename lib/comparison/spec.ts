@@ -20,7 +20,7 @@ export const X_QUANTITIES = ['step', 'radius_intensity'] as const;
 export type XQuantity = (typeof X_QUANTITIES)[number];
 export const SERIES_BY = ['campaign', 'target', 'wavelength', 'ellipticity', 'calibration', 'scan'] as const;
 export type SeriesBy = (typeof SERIES_BY)[number];
-export const MODEL_NAMES = ['simple_man', 'trajectory', 'keldysh_rutherford'] as const;
+export const MODEL_NAMES = ['simple_man', 'trajectory', 'ensemble', 'keldysh_rutherford'] as const;
 export type ModelName = (typeof MODEL_NAMES)[number];
 
 /** Name and one-line assumptions of each model overlay (lib/comparison/models.ts computes them). */
@@ -34,6 +34,11 @@ export const MODEL_TEXT: Record<ModelName, { label: string; assumptions: string 
     label: 'Coulomb-corrected trajectory',
     assumptions:
       'One classical trajectory born at the field maximum at the exit Ip/F with zero velocity, laser plus −1/r force in an 8-cycle cos² pulse, Kepler asymptote; no rate averaging, non-adiabatic or many-electron effects (SCIENCE.md §10.3–10.5).',
+  },
+  ensemble: {
+    label: 'Coulomb-corrected ensemble',
+    assumptions:
+      '20 000 classical trajectories per intensity born over the central half of an 8-cycle cos² pulse with static ADK (m = 0) weights, exit Ip/F, Gaussian transverse velocities, −1/r force, Kepler asymptote; Gaussian + constant fit to the folded lobe, ± about 0.6° seed scatter (SCIENCE.md §10.7).',
   },
   keldysh_rutherford: {
     label: 'Keldysh–Rutherford estimate',
@@ -103,7 +108,7 @@ export const modelsQuerySchema = z.object({
     200,
     'intensities',
   ).refine((a) => a.length > 0, 'give at least one intensity'),
-  models: commaList(z.enum(MODEL_NAMES, { error: `must be one of ${MODEL_NAMES.join(', ')}` }), 3, 'models'),
+  models: commaList(z.enum(MODEL_NAMES, { error: `must be one of ${MODEL_NAMES.join(', ')}` }), 4, 'models'),
 });
 export type ModelsQuery = z.output<typeof modelsQuerySchema>;
 
@@ -134,7 +139,7 @@ export const comparisonSpecSchema = z.object({
   seriesBy: z.enum(SERIES_BY).default('campaign'),
   errorBars: z.boolean().default(true),
   systematics: z.boolean().default(true),
-  models: z.array(z.enum(MODEL_NAMES)).max(3).default([]),
+  models: z.array(z.enum(MODEL_NAMES)).max(4).default([]),
   convention: z.enum(CONVENTION_NAMES).nullable().default(null),
 });
 export type ComparisonSpec = z.output<typeof comparisonSpecSchema>;
@@ -255,7 +260,27 @@ export interface ModelCurve {
   /** One line: what the model assumes. */
   assumptions: string;
   /** Per requested intensity (total convention): offset (deg) and in-plane final momentum (a.u.), null where the model gives none. */
-  points: { intensityWcm2: number; offsetDeg: number | null; radiusAu: number | null }[];
+  points: {
+    intensityWcm2: number;
+    offsetDeg: number | null;
+    radiusAu: number | null;
+    /** Ensemble only: σ of the fitted offset and the lobe's rms width (deg). */
+    offsetErrDeg?: number | null;
+    widthDeg?: number | null;
+  }[];
   /** Why some or all values are missing, when they are. */
   note: string | null;
+  /**
+   * `done` (also when absent): the points are final. `queued`/`running`: a long run (the ensemble) is on the model
+   * queue, `progress` says how far; ask again. `failed`: `note` says why.
+   */
+  state?: 'queued' | 'running' | 'done' | 'failed';
+  progress?: { done: number; total: number } | null;
+  /**
+   * `grid`: the model was computed on its own intensity grid (the ensemble), not at the requested intensities; a
+   * value between two grid points is interpolated linearly in log I.
+   */
+  sampling?: 'requested' | 'grid';
+  /** Whether the answer came from the MariaDB cache. */
+  cached?: boolean;
 }

@@ -37,8 +37,14 @@ export interface SynthOptions {
   size: number;
   /** Expected signal counts per frame. */
   counts: number;
-  /** True offset angle (deg), positive in the sense of field rotation. */
+  /** True offset angle (deg), positive in the sense of field rotation; at offsetRefIntensityWcm2 when the next is ≠ 0. */
   offsetDeg: number;
+  /**
+   * Intensity dependence of the true offset: θ(I) = offsetDeg · (I / offsetRefIntensityWcm2)^(−exponent); 0 = the same
+   * offset at every step. The classical model of SCIENCE.md §10.7 falls roughly so: He 800 nm ≈ 0.08, Ar 800 nm ≈ 0.15.
+   */
+  offsetIntensityExponent: number;
+  offsetRefIntensityWcm2: number;
   seed: number;
   background: BackgroundLayout;
   distort: boolean;
@@ -165,6 +171,8 @@ export const DEFAULT_SYNTH_OPTIONS: SynthOptions = {
   size: 512,
   counts: 2e5,
   offsetDeg: 6,
+  offsetIntensityExponent: 0,
+  offsetRefIntensityWcm2: 4e14,
   seed: 1,
   background: 'none',
   distort: false,
@@ -389,10 +397,11 @@ export function planScan(partial: Partial<SynthOptions>): ScanPlan {
         fieldRatio: o.kind === 'bicircular' ? o.fieldRatio : null,
       });
       const r = pSm * (1 - o.shrink);
+      const off = o.offsetDeg * (I / o.offsetRefIntensityWcm2) ** -o.offsetIntensityExponent;
       const lobes = expected.map((e) => ({
-        angle_deg: wrapDeg(e + s * o.offsetDeg),
+        angle_deg: wrapDeg(e + s * off),
         expected_deg: e,
-        offset_deg: o.offsetDeg,
+        offset_deg: off,
         radius_au: r,
       }));
       steps.push({
@@ -401,7 +410,7 @@ export function planScan(partial: Partial<SynthOptions>): ScanPlan {
         shots: shots[k] as number,
         signal_counts: o.counts,
         lobes,
-        offset_deg: o.offsetDeg,
+        offset_deg: off,
         radius_au: r,
         intensity_Wcm2: I,
         intensity_from_radius_Wcm2: intensityFromRadiusWcm2({

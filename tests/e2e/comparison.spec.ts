@@ -154,6 +154,12 @@ test('the PI keeps a two-campaign comparison with a model; a team member opens i
   await expect(figure.locator('polyline[data-model="trajectory"]').first()).toBeVisible({ timeout: 60_000 });
   await expect(pi.page.getByTestId('residual-table')).toBeVisible();
   await expect(pi.page.getByTestId('assumptions-trajectory')).toContainText('zero velocity');
+  // the ensemble is a run on the model queue: the page shows its progress (trajectories done of the total)
+  await pi.page.getByTestId('model-ensemble').check();
+  await expect(pi.page.getByTestId('assumptions-ensemble')).toContainText('ADK');
+  await expect(pi.page.getByTestId('model-progress').first()).toContainText(/trajectories/, { timeout: 30_000 });
+  await pi.page.screenshot({ path: '.data/test/comparison-ensemble-progress.png', fullPage: true });
+  await pi.page.getByTestId('model-ensemble').uncheck();
   await expect(figure.locator('text', { hasText: 'cycle-averaged, total' })).toHaveCount(1); // convention on the axis
   const title = `He and Ar at 800 nm ${RUN}`;
   await pi.page.getByPlaceholder(/Neon offsets/).fill(title);

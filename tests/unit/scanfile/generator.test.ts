@@ -67,6 +67,27 @@ describe('truth', () => {
     const h = planScan({ kind: 'angular_streaking', steps: 1, helicity: -1, offsetDeg: 6 }).steps[0]!;
     expect(h.lobes.map((l) => l.angle_deg)).toEqual([84, -96]); // h = −1: SM lobes at +90°, −90°, offset clockwise
   });
+  it('an intensity-dependent true offset follows θ(I) = θ_ref (I/I_ref)^−k (Ar, 800 nm: SCIENCE.md §10.7 13.15° → 11.85°)', () => {
+    const plan = planScan({
+      kind: 'angular_streaking',
+      target: 'Ar',
+      steps: 2,
+      intensityMinWcm2: 1e14,
+      intensityMaxWcm2: 2e14,
+      offsetDeg: 13.15,
+      offsetRefIntensityWcm2: 1e14,
+      offsetIntensityExponent: Math.log(13.15 / 11.85) / Math.log(2),
+    });
+    expect(plan.steps[0]!.offset_deg).toBeCloseTo(13.15, 10);
+    expect(plan.steps[1]!.offset_deg).toBeCloseTo(11.85, 10);
+    // the lobes carry the same offset from their simple-man directions (−90°, +90° for h = +1)
+    for (const l of plan.steps[1]!.lobes) {
+      expect(l.angle_deg - (l.expected_deg as number)).toBeCloseTo(plan.steps[1]!.offset_deg!, 9);
+    }
+    // exponent 0 (the default): the same offset at every step
+    const flat = planScan({ kind: 'angular_streaking', steps: 3, offsetDeg: 6 });
+    expect(flat.steps.map((st) => st.offset_deg)).toEqual([6, 6, 6]);
+  });
   it('bicircular, r = 1, 2e14 W/cm² total: |p_SM| = 0.331368 a.u., lobes at −90°, 30°, 150° + offset (SCIENCE.md §5.4)', () => {
     const s = planScan({ kind: 'bicircular', steps: 1, intensityMinWcm2: 2e14, fieldRatio: 1, offsetDeg: 5 }).steps[0]!;
     expect(Math.abs((s.radius_au as number) - 0.331368)).toBeLessThan(2e-6);
