@@ -221,9 +221,10 @@ export function FileRegister() {
       sortable: true,
       render: (r) =>
         r.lastFixityAt ? (
-          <Badge tone={r.lastFixityOk ? 'good' : 'bad'}>
-            {r.lastFixityOk ? 'matched' : 'MISMATCH'} {formatDateTime(r.lastFixityAt)}
-          </Badge>
+          <div>
+            <Badge tone={r.lastFixityOk ? 'good' : 'bad'}>{r.lastFixityOk ? 'matched' : 'MISMATCH'}</Badge>
+            <div className="mt-0.5 whitespace-nowrap text-micro text-ink-600">{formatDateTime(r.lastFixityAt)}</div>
+          </div>
         ) : (
           <span className="text-ink-500">not yet checked</span>
         ),
