@@ -31,11 +31,8 @@ export const CAMPAIGN_2026 = 'Ne 800 nm elliptical (2026)';
 export const NEON_2025_EXCESS_DEG = 1.2;
 /** Invented: calibration v1 of 2025 has its momentum per pixel this factor too large (in-situ intensity × its square). */
 export const NEON_2025_V1_SCALE = 1.025;
-/**
- * The generator's power law, fitted per file, reproduces the model's numbers at every step within this (deg): the
- * model flattens above 3 × 10¹⁴ W/cm², which one power law over 1–3 × 10¹⁴ follows to 0.13° at worst.
- */
-export const PLAN_TOLERANCE_DEG = 0.15;
+/** The planted offsets equal the intended ones at every step within this (deg; only rounding). */
+export const PLAN_TOLERANCE_DEG = 1e-9;
 export const COMPARISON_TITLE = 'Ne 800 nm: does 2026 follow the Coulomb-corrected model better than 2025?';
 
 const OPERATOR = 'operator@harbor-point.example';
@@ -126,8 +123,8 @@ function linspace(a: number, b: number, n: number): number[] {
 }
 
 /**
- * The generation plan: per file, the trajectory model at its step intensities, and the generator's power law
- * θ(I) = θ_ref (I/I_ref)^(−b) fitted (least squares in log–log) to the intended offsets.
+ * The generation plan: per file, the trajectory model at its step intensities (computed now, with the code the
+ * comparison page draws), and the true offsets the generator plants step by step (its `offsetsDeg` option).
  */
 export async function planNeonFiles(): Promise<NeonFile[]> {
   const { modelCurve } = await import('@/lib/comparison/models');
@@ -139,15 +136,6 @@ export async function planNeonFiles(): Promise<NeonFile[]> {
       return p.offsetDeg;
     });
     const targetDeg = modelDeg.map((m) => m + (f.year === 2025 ? NEON_2025_EXCESS_DEG : 0));
-    // log θ = log θ_ref − b log(I/I_ref), I_ref the geometric mean of the steps
-    const iRef = Math.exp(intensities.reduce((s, i) => s + Math.log(i), 0) / intensities.length);
-    const xs = intensities.map((i) => Math.log(i / iRef));
-    const ys = targetDeg.map((t) => Math.log(t));
-    const my = ys.reduce((s, y) => s + y, 0) / ys.length;
-    const sxx = xs.reduce((s, x) => s + x * x, 0);
-    const sxy = xs.reduce((s, x, k) => s + x * (ys[k]! - my), 0);
-    const exponent = -sxy / sxx;
-    const offsetDeg = Math.exp(my);
     const range = `${f.iMin / 1e14}–${f.iMax / 1e14} × 10¹⁴ W/cm²`;
     return {
       fileName: f.fileName,
@@ -166,9 +154,8 @@ export async function planNeonFiles(): Promise<NeonFile[]> {
         steps: f.steps,
         intensityMinWcm2: f.iMin,
         intensityMaxWcm2: f.iMax,
-        offsetDeg,
-        offsetRefIntensityWcm2: iRef,
-        offsetIntensityExponent: exponent,
+        offsetDeg: targetDeg[0]!,
+        offsetsDeg: targetDeg,
         counts: f.counts ?? 2e5,
         seed: f.seed,
         compression: 'gzip',
