@@ -26,7 +26,7 @@ export function ResidualTable({
             <th className="px-4 py-2 text-right font-medium">mean data − model ({unit})</th>
             <th className="px-4 py-2 text-right font-medium">mean (data − model)/σ</th>
             <th className="px-4 py-2 text-right font-medium">rms</th>
-            <th className="px-4 py-2 text-right font-medium">largest |·|</th>
+            <th className="whitespace-nowrap px-4 py-2 text-right font-medium">largest |·|</th>
             <th className="px-4 py-2 text-right font-medium">rms, σ with systematic</th>
           </tr>
         </thead>
