@@ -216,6 +216,7 @@ if [ -f scripts/demo-scans.ts ] && [ -s "$SEED_OUT" ] && [ -n "$WORKER_PID" ] &&
   fi
   "$BIN/tsx" scripts/demo-events.ts 2>&1 | tee -a "$DEMO_OUT" || echo "WARNING: the demo event campaign could not be added." >&2
   [ -f scripts/demo-comparison.ts ] && { "$BIN/tsx" scripts/demo-comparison.ts || echo "WARNING: no demo comparison was kept." >&2; }
+  [ -f scripts/demo-neon.ts ] && { "$BIN/tsx" scripts/demo-neon.ts 2>&1 | tee -a "$DEMO_OUT" || echo "WARNING: the demo neon campaigns could not all be added." >&2; }
 fi
 
 [ -f scripts/demo-citation.ts ] && [ -s "$SEED_OUT" ] && { "$BIN/tsx" scripts/demo-citation.ts || echo "WARNING: demo citation data not added." >&2; }
@@ -231,6 +232,7 @@ if [ -s "$SEED_OUT" ]; then
 fi
 [ -z "$WORKER_PID" ] && echo "(No scripts/worker.ts yet: the reduction worker was not started.)"
 [ -s "${DEMO_OUT:-}" ] && grep -E '^demo scans:' "$DEMO_OUT" | tail -n 1 || true
+[ -s "${DEMO_OUT:-}" ] && grep -E '^demo neon:' "$DEMO_OUT" | tail -n 1 | sed "s|/comparisons/|$APP_URL/comparisons/|" || true
 echo "Mail sent by the app is kept in ${MAIL_CATCHER_DIR:-.data/dev/mail}. Press Ctrl-C to stop the web server and worker."
 
 set +e

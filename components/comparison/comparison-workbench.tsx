@@ -746,10 +746,10 @@ export function ComparisonWorkbench({
       {residuals.length ? (
         <Panel
           title="Data minus model"
-          description="In units of each point’s statistical error (the ensemble’s own fit σ added in quadrature); the last column also adds the systematic error where one is reported."
+          description="The mean difference in the drawn quantity’s unit, then in units of each point’s statistical error (the ensemble’s own fit σ added in quadrature); the last column also adds the systematic error where one is reported."
           flush
         >
-          <ResidualTable rows={residuals} labels={MODEL_WORDS} />
+          <ResidualTable rows={residuals} labels={MODEL_WORDS} unit={Y_LABELS[spec.axes.y].unit} />
         </Panel>
       ) : null}
 

@@ -265,6 +265,8 @@ export interface ResidualRow {
   n: number;
   /** Mean of (data − model)/σ_stat. */
   mean: number | null;
+  /** Mean of data − model in the y quantity's own unit (Y_LABELS), e.g. degrees for the offset. */
+  meanDiff: number | null;
   /** √(mean of squares) of (data − model)/σ_stat. */
   rms: number | null;
   /** Same with σ = √(σ_stat² + σ_sys²) where a systematic error is reported. */
@@ -288,6 +290,7 @@ export function residualTable(
     for (const model of models) {
       const r: number[] = [];
       const rSys: number[] = [];
+      const d: number[] = [];
       let skipped = 0;
       for (const pp of s.points) {
         const params = modelParamsOf(pp.point);
@@ -304,6 +307,7 @@ export function residualTable(
         // a model with its own scatter (the ensemble) adds its σ in quadrature
         const em = curve && f !== null ? modelErrAt(curve, pp.x * f, spec.axes.y) : 0;
         r.push((pp.y - m) / Math.sqrt(pp.err ** 2 + em ** 2));
+        d.push(pp.y - m);
         rSys.push((pp.y - m) / Math.sqrt(pp.err ** 2 + em ** 2 + (pp.sys ?? 0) ** 2));
       }
       const mean = r.length ? r.reduce((a, b) => a + b, 0) / r.length : null;
@@ -313,6 +317,7 @@ export function residualTable(
         model,
         n: r.length,
         mean,
+        meanDiff: d.length ? d.reduce((a, b) => a + b, 0) / d.length : null,
         rms: rms(r),
         rmsWithSys: rms(rSys),
         worst: r.length ? Math.max(...r.map(Math.abs)) : null,

@@ -45,6 +45,11 @@ export interface SynthOptions {
    */
   offsetIntensityExponent: number;
   offsetRefIntensityWcm2: number;
+  /**
+   * Optional: the true offset of every step (deg), one per step of an intensity scan, in place of the power law above
+   * (e.g. a model's own numbers, as scripts/demo-neon.ts plants them). Absent: the power law.
+   */
+  offsetsDeg?: number[];
   seed: number;
   background: BackgroundLayout;
   distort: boolean;
@@ -272,6 +277,8 @@ export function planScan(partial: Partial<SynthOptions>): ScanPlan {
   if (!(Number.isInteger(o.size) && o.size >= 32 && o.size <= 8192))
     throw new RangeError(`size must be 32…8192, got ${o.size}`);
   if (!(o.counts > 0)) throw new RangeError(`counts must be > 0, got ${o.counts}`);
+  if (o.offsetsDeg && !(o.offsetsDeg.length === o.steps && o.offsetsDeg.every(Number.isFinite)))
+    throw new RangeError(`offsetsDeg needs one finite offset per step (${o.steps}), got ${o.offsetsDeg.length}`);
   const iso = o.isotropicFraction ?? 0;
   if (!(iso >= 0 && iso <= 10)) throw new RangeError(`isotropicFraction must be 0…10, got ${iso}`);
   if (o.lobeWidthDeg !== undefined && !(o.lobeWidthDeg >= 1 && o.lobeWidthDeg <= 90)) {
@@ -397,7 +404,7 @@ export function planScan(partial: Partial<SynthOptions>): ScanPlan {
         fieldRatio: o.kind === 'bicircular' ? o.fieldRatio : null,
       });
       const r = pSm * (1 - o.shrink);
-      const off = o.offsetDeg * (I / o.offsetRefIntensityWcm2) ** -o.offsetIntensityExponent;
+      const off = o.offsetsDeg?.[k] ?? o.offsetDeg * (I / o.offsetRefIntensityWcm2) ** -o.offsetIntensityExponent;
       const lobes = expected.map((e) => ({
         angle_deg: wrapDeg(e + s * off),
         expected_deg: e,

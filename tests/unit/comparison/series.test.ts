@@ -139,6 +139,8 @@ describe('models', () => {
     expect(rows).toHaveLength(1);
     expect(rows[0]!.n).toBe(2);
     expect(rows[0]!.mean).toBeCloseTo(3, 12);
+    // the same in degrees: (1 + 2)/2
+    expect(rows[0]!.meanDiff).toBeCloseTo(1.5, 12);
     expect(rows[0]!.rms).toBeCloseTo(Math.sqrt((4 + 16) / 2), 12);
     expect(rows[0]!.worst).toBeCloseTo(4, 12);
     // with the systematic in quadrature: 1/√(0.25 + 0.04) and 2/√(0.25 + 1.44)
