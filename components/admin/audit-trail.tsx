@@ -332,7 +332,7 @@ export function AuditTrail({ scopeNote, campaigns }: { scopeNote: string; campai
         aria-label="Search the audit trail"
       >
         <div className="flex w-full flex-wrap items-end gap-x-3 gap-y-2">
-          <div className="flex flex-col gap-1">
+          <div className="flex w-full flex-col gap-1 sm:w-auto">
             <label htmlFor="audit-action" className="text-small text-ink-600">
               Kind of event
             </label>
@@ -343,7 +343,7 @@ export function AuditTrail({ scopeNote, campaigns }: { scopeNote: string; campai
                 setKind(e.target.value);
                 setPage(1);
               }}
-              className={compactInputClass('max-w-[18rem]')}
+              className={compactInputClass('w-full sm:w-[18rem]')}
             >
               <option value="">Every kind of event</option>
               <optgroup label="Who did what">
@@ -362,7 +362,7 @@ export function AuditTrail({ scopeNote, campaigns }: { scopeNote: string; campai
               </optgroup>
             </select>
           </div>
-          <div className="flex flex-col gap-1">
+          <div className="flex w-full flex-col gap-1 sm:w-auto">
             <label htmlFor="audit-campaign" className="text-small text-ink-600">
               Campaign
             </label>
@@ -373,7 +373,7 @@ export function AuditTrail({ scopeNote, campaigns }: { scopeNote: string; campai
                 setCampaignId(e.target.value);
                 setPage(1);
               }}
-              className={compactInputClass('max-w-[16rem]')}
+              className={compactInputClass('w-full sm:w-[16rem]')}
             >
               <option value="">Every campaign</option>
               {campaigns.map((c) => (

@@ -233,7 +233,7 @@ test('the audit trail shows version numbers, not database ids', async ({ page, b
 
   await signIn(page, DEMO.pi);
   await page.goto('/admin/audit');
-  await page.getByLabel('Kind of event').selectOption('calibration.');
+  await page.getByLabel('Kind of event').selectOption('area:calibration.');
   const table = page.getByTestId('audit-table');
   await expect(table.locator('tbody tr').first()).toBeVisible();
   const text = ((await table.locator('tbody').textContent()) ?? '').replace(/\s+/g, ' ');
@@ -252,7 +252,7 @@ test('the audit trail exports a date range as CSV and JSON', async ({ page }) =>
   expect(csv.suggestedFilename()).toMatch(/^lobeline-audit-.*\.csv$/);
   const body = await (await csv.createReadStream()).toArray();
   const records = csvRecords(Buffer.concat(body).toString('utf8'));
-  expect(records[0]?.join(',')).toBe('at_utc,action,who,team,object,outcome,details');
+  expect(records[0]?.join(',')).toBe('at_utc,action,who,team,campaign,object,sha256,outcome,details');
   expect(records.length).toBeGreaterThan(1);
   for (const r of records.slice(1)) expect(r[0]?.slice(0, 10), r.join(',')).toBe(today);
   const res = await page.request.get(`/api/audit/export?format=json&from=2000-01-01&to=2000-01-02`);
