@@ -747,7 +747,11 @@ function Bench({
               regions={regions}
               onClearRegions={() => setRegions([])}
               regionMode={mode === 'region'}
-              onRegionMode={(on) => setMode(on ? 'region' : 'centre')}
+              onRegionMode={(on) => {
+                setMode(on ? 'region' : 'centre');
+                // the frame is at the top of the page, the tool far below it: bring the frame to the pointer
+                if (on) document.querySelector('[data-testid="bench-detector"]')?.scrollIntoView({ block: 'center' });
+              }}
               onAccept={upd}
             />
           ) : null}
