@@ -320,7 +320,7 @@ function Bench({
                   </div>
                   <p className="text-micro text-ink-500">
                     Raw counts, log scale. Cross: centre; dashed circle: the fitted radius; squares: excluded pixels;
-                    white rectangles: background regions (drag in the “marks background” mode).
+                    violet rectangles: background regions (drag in the “marks background” mode).
                   </p>
                 </div>
                 {out ? (

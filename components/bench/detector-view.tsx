@@ -110,10 +110,12 @@ export function DetectorView({
       ctx.stroke();
       ctx.setLineDash([]);
     }
-    // background regions (and the one being dragged): white dashed rectangles over the pixels they hold
+    // background regions (and the one being dragged): violet dashed rectangles over the pixels they hold (the
+    // frame's quiet parts, where they go, are pale)
     const rects = drag ? [...regions, toRect(drag.a, drag.b)] : regions;
-    ctx.strokeStyle = '#ffffff';
-    ctx.fillStyle = 'rgba(255,255,255,0.18)';
+    ctx.strokeStyle = '#6d28d9';
+    ctx.lineWidth = 1.5;
+    ctx.fillStyle = 'rgba(109,40,217,0.16)';
     ctx.setLineDash([3, 3]);
     for (const q of rects) {
       const x = Math.min(q.x0, q.x1) * scale;

@@ -645,8 +645,9 @@ function RotationTool({
   return (
     <Section title="Rotation from a linear-polarization reference" testId="tool-rotation">
       <p className="text-micro text-ink-500">
-        With linear light the lobes lie along the polarization axis; its direction on the detector, about the current
-        centre, against the lab angle of that axis gives the rotation (modulo 180°).
+        With linear light the lobes lie along the polarization axis; their direction on the detector, about the current
+        centre, against their lab angle gives the rotation (modulo 180°). The lab angle starts at the file’s
+        polarization axis; change it when the lobes lie elsewhere.
       </p>
       {scansQ.isError ? <ErrorState message={scansQ.error.message} onRetry={() => scansQ.refetch()} /> : null}
       <div className="flex flex-wrap items-end gap-3 text-small text-ink-700">
@@ -673,7 +674,7 @@ function RotationTool({
           </select>
         </label>
         <label className="flex flex-col gap-1">
-          Lab angle of its polarization (°)
+          Lab angle of its lobes’ axis (°)
           <input
             type="number"
             step={0.1}

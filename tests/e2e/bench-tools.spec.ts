@@ -1,7 +1,7 @@
 // The bench's scale, background and rotation tools (issue 15, SCIENCE.md §7.1, §7.3, §7.4) as an analyst meets them.
 // Two generated scans (tests/e2e/helpers/make-bench-scan.ts, the project's forward model): one with ATI rings at a
-// known κ = 2×10⁻³ eV/px² and a background frame at shot ratio 1000/500 = 2, one single-lobe image at lab angle 40°
-// as the rotation reference; both on the distorted detector (rotation 4°). The campaign's calibration starts with the
+// known κ = 2×10⁻³ eV/px² and a background frame at shot ratio 1000/500 = 2, one two-lobe angular-streaking image
+// (ε = 0.3, no offset: lobes on one axis at a known lab angle) as the rotation reference; both on the distorted detector (rotation 4°). The campaign's calibration starts with the
 // scale 15 % off and no rotation. The analyst looks for rings, keeps the ATI rings, fits r² against n and uses the
 // scale (within 3 stated σ of the generator's); marks two corner regions, fits the background scale (within 3σ of
 // the shot ratio) and uses it; picks the reference scan, fits the rotation (4° within 3σ + 0.2°, our allowance) and
@@ -103,9 +103,13 @@ test('analyst fits the momentum scale from ATI rings, the background scale and t
     seed,
   ]);
   const refFile = makeScan(path.join(dir, `reference-${stamp}.h5`), [
+    '--kind',
+    'angular_streaking',
+    '--ellipticity',
+    '0.3',
+    '--offset-deg',
+    '0',
     '--distort',
-    '--image-angle',
-    '40',
     '--seed',
     String(Number(seed) + 1),
   ]);
@@ -116,6 +120,9 @@ test('analyst fits the momentum scale from ATI rings, the background scale and t
   const plan = JSON.parse(readFileSync(atiFile.replace(/\.h5$/, '.plan.json'), 'utf8')) as {
     atiRings: { radiiPx: number[]; kappaEvPerPx2: number };
   };
+  const refLobes = (
+    JSON.parse(readFileSync(refFile.replace(/\.h5$/, '.plan.json'), 'utf8')) as { lobeAnglesDeg: number[] }
+  ).lobeAnglesDeg;
   const wrong = { ...truthCal, momentum_per_pixel_au: truthCal.momentum_per_pixel_au * 1.15, rotation_deg: 0 };
 
   const analyst = await asUser(browser, DEMO.analyst);
@@ -196,7 +203,8 @@ test('analyst fits the momentum scale from ATI rings, the background scale and t
   // 3. Rotation from the reference scan.
   await a.getByTestId('tool-rotation-scan').selectOption(String(refId));
   await expect(a.getByTestId('tool-rotation-lab-axis')).toBeEnabled({ timeout: 30_000 });
-  await a.getByTestId('tool-rotation-lab-axis').fill('40');
+  // the lab axis of the reference's lobes (the generator's truth; for linear light, the polarization direction)
+  await a.getByTestId('tool-rotation-lab-axis').fill(String(refLobes[0]));
   await a.getByTestId('tool-rotation-fit').click();
   await expect(a.getByTestId('tool-rotation-result')).toBeVisible({ timeout: 30_000 });
   const [rot, rotErr] = await valueAndError(a, 'tool-rotation-angle');

@@ -3,7 +3,8 @@
 // becomes √(2κ/E_h), SCIENCE.md §7.1). Side files as scripts/make-example.ts writes them (FILE.calibration.json,
 // the calibration that undoes the generated detector) plus FILE.plan.json (shots, background shots, ATI truth).
 //   npx tsx tests/e2e/helpers/make-bench-scan.ts --out FILE.h5 --kind image [--ati] [--background per_step]
-//     [--size 192] [--counts 1e5] [--seed 1] [--image-angle 40] [--distort]
+//     [--size 192] [--counts 1e5] [--seed 1] [--image-angle 40] [--distort] [--ellipticity 0.87] [--offset-deg 6]
+//     [--steps 1]
 import { mkdirSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { parseArgs } from 'node:util';
@@ -26,6 +27,9 @@ const { values } = parseArgs({
     seed: { type: 'string', default: '1' },
     'image-angle': { type: 'string', default: '40' },
     distort: { type: 'boolean', default: false },
+    ellipticity: { type: 'string', default: '0.87' },
+    'offset-deg': { type: 'string', default: '6' },
+    steps: { type: 'string', default: '1' },
   },
 });
 if (!values.out) throw new Error('--out FILE.h5 is required');
@@ -37,6 +41,9 @@ const o: Partial<SynthOptions> = {
   imageAngleDeg: Number(values['image-angle']),
   background: values.background as SynthOptions['background'],
   distort: values.distort,
+  ellipticity: Number(values.ellipticity),
+  offsetDeg: Number(values['offset-deg']),
+  steps: Number(values.steps),
   ...(values.ati
     ? { atiRings: { e0Ev: 0.45, orders: [1, 2, 3, 4, 5], widthAu: 0.012, amplitude: 2, kappaEvPerPx2: BENCH_KAPPA } }
     : {}),
@@ -50,5 +57,14 @@ const base = out.replace(/\.h5$/, '');
 writeFileSync(`${base}.calibration.json`, `${JSON.stringify(plan.calibration, null, 2)}\n`);
 writeFileSync(
   `${base}.plan.json`,
-  `${JSON.stringify({ shots: plan.shots, backgroundShots: plan.backgroundShots, atiRings: plan.atiRings }, null, 2)}\n`,
+  `${JSON.stringify(
+    {
+      shots: plan.shots,
+      backgroundShots: plan.backgroundShots,
+      atiRings: plan.atiRings,
+      lobeAnglesDeg: plan.steps[0]!.lobes.map((l) => l.angle_deg),
+    },
+    null,
+    2,
+  )}\n`,
 );
