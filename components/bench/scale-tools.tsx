@@ -565,6 +565,7 @@ function BackgroundTool({
               size="sm"
               onClick={() => {
                 onAccept({ background: { subtract: true, scale_by: 'shots', factor: answer.scale } });
+                onRegionMode(false);
                 setAnswer(null);
               }}
               data-testid="tool-background-accept"
