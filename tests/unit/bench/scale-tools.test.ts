@@ -110,7 +110,7 @@ describe('background scale from marked regions (runTool)', () => {
   it('regionMask clips rectangles to the frame and accepts corners in any order', () => {
     const m = regionMask(10, 8, [{ x0: 12, y0: -3, x1: 8, y1: 1 }]);
     const on: number[] = [];
-    m.forEach((v, i) => v && on.push(i));
+    for (let i = 0; i < m.length; i++) if (m[i]) on.push(i);
     expect(on).toEqual([8, 9, 18, 19]);
   });
 
