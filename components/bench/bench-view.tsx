@@ -740,6 +740,8 @@ function Bench({
           {cal && frame ? <ToolsPanel frame={frame} calibration={cal} ringPx={radiusPx} onAccept={upd} /> : null}
           {cal && frame ? (
             <ScaleTools
+              // a new step starts the tools afresh (their rings, regions' fit and answers belong to a frame)
+              key={step}
               scanId={scanId}
               campaignId={campaign.campaign.id}
               frame={frame}
