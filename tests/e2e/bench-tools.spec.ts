@@ -3,7 +3,7 @@
 // known κ = 2×10⁻³ eV/px² and a background frame at shot ratio 1000/500 = 2, one two-lobe angular-streaking image
 // (ε = 0.3, no offset: lobes on one axis at a known lab angle) as the rotation reference; both on the distorted detector (rotation 4°). The campaign's calibration starts with the
 // scale 15 % off and no rotation. The analyst looks for rings, keeps the ATI rings, fits r² against n and uses the
-// scale (within 3 stated σ of the generator's); marks two corner regions, fits the background scale (within 3σ of
+// scale (within 3 stated σ of the generator's); marks three corner regions, fits the background scale (within 3σ of
 // the shot ratio) and uses it; picks the reference scan, fits the rotation (4° within 3σ + 0.2°, our allowance) and
 // uses it. The scale's allowance adds the ring-radius estimator's measured bias bound (see the check). Tolerances beyond the tools' own errors are ours and stated.
 import { execFileSync } from 'node:child_process';
@@ -190,9 +190,12 @@ test('analyst fits the momentum scale from ATI rings, the background scale and t
 
   // 2. Background scale from two corner regions.
   await a.getByTestId('tool-background-mark').click();
-  await drag(a, [0.02, 0.02], [0.13, 0.13]);
-  await drag(a, [0.87, 0.87], [0.98, 0.98]);
-  await expect(a.getByTestId('tool-background-regions')).toContainText('2 regions');
+  // three corners ≥ 85 px from the centre and ≥ 90° from the lobe at 40° (the fourth corner holds the lobe's
+  // direction); the rings end at 64 px, the lobe's peak at 74 px
+  await drag(a, [0.02, 0.02], [0.2, 0.2]);
+  await drag(a, [0.8, 0.8], [0.98, 0.98]);
+  await drag(a, [0.02, 0.8], [0.2, 0.98]);
+  await expect(a.getByTestId('tool-background-regions')).toContainText('3 regions');
   await a.getByTestId('tool-background-fit').click();
   await expect(a.getByTestId('tool-background-result')).toBeVisible({ timeout: 30_000 });
   const [k, kErr] = await valueAndError(a, 'tool-background-k');
