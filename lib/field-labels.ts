@@ -15,6 +15,7 @@ export const FIELD_LABELS: Record<string, string> = {
   'calibration.bad_pixels': 'Bad pixels',
   'calibration.background.subtract': 'Subtract the background frames',
   'calibration.background.scale_by': 'Background scaling',
+  'calibration.background.factor': 'Background scale (fitted)',
   'calibration.flat_field': 'Flat-field gain map',
   'settings.grid.p_max_au': 'Momentum grid half-width',
   'settings.grid.n': 'Grid cells per side',

@@ -182,8 +182,9 @@ export function buildInverseGain(cal: DetectorCalibration, nX: number, nY: numbe
 }
 
 /**
- * Background scale factor k = shots / background shots (FORMATS §2, `scale_by = "shots"`), 0 when the calibration
- * says not to subtract (`subtract = false` or `scale_by = "none"`).
+ * Background scale factor k = shots / background shots (FORMATS §2, `scale_by = "shots"`), or the calibration's
+ * fitted `background.factor` when it has one; 0 when the calibration says not to subtract (`subtract = false` or
+ * `scale_by = "none"`).
  *
  * @param cal - calibration
  * @param shots - laser shots behind the signal frame (> 0)
@@ -195,6 +196,8 @@ export function buildInverseGain(cal: DetectorCalibration, nX: number, nY: numbe
  */
 export function backgroundScale(cal: DetectorCalibration, shots: number, backgroundShots: number): number {
   if (!cal.background.subtract || cal.background.scale_by === 'none') return 0;
+  // a scale fitted on the bench (optional `factor`) replaces the shot ratio
+  if (cal.background.factor !== undefined) return cal.background.factor;
   if (!(shots > 0) || !Number.isFinite(shots)) throw new RangeError(`shots must be > 0, got ${shots}`);
   if (!(backgroundShots > 0) || !Number.isFinite(backgroundShots)) {
     throw new RangeError(`background shots must be > 0, got ${backgroundShots}`);

@@ -62,9 +62,19 @@ export const detectorCalibrationSchema = z
       .default({ ratio: 1, axis_deg: 0 }),
     /** Pixels (x, y) excluded from every sum; not zeroed, excluded. */
     bad_pixels: z.array(z.tuple([z.number().int().nonnegative(), z.number().int().nonnegative()])).default([]),
-    /** Background subtraction: counts − background · (shots / background shots) when scale_by is "shots". */
+    /**
+     * Background subtraction: counts − background · (shots / background shots) when scale_by is "shots".
+     * Optional extension (calibration bench, SCIENCE.md §7.4): `factor`, a background scale fitted in a region
+     * outside the lobes, used instead of the shot ratio when present (scale_by "none" still subtracts nothing).
+     */
     background: z
-      .object({ subtract: z.boolean().default(true), scale_by: z.enum(['shots', 'none']).default('shots') })
+      .object({
+        subtract: z.boolean().default(true),
+        scale_by: z.enum(['shots', 'none']).default('shots'),
+        factor: finite()
+          .refine((v) => v >= 0, 'must be zero or positive')
+          .optional(),
+      })
       .default({ subtract: true, scale_by: 'shots' }),
     /**
      * Optional extension (SCIENCE.md §7.5): flat-field gain map G[iy][ix] (n_y rows of n_x values, normalised by the

@@ -25,6 +25,8 @@ import type { BenchFrame } from './compute';
 import { factorFor } from './compute';
 import { Group, Knob, Switch } from './controls';
 import { type ClickMode, DetectorView } from './detector-view';
+import { ScaleTools } from './scale-tools';
+import type { PixelRect } from './tools';
 import { ToolsPanel } from './tools-panel';
 import { TrialPanel } from './trial-panel';
 import { useBenchWorker } from './use-bench-worker';
@@ -162,6 +164,7 @@ function Bench({
   const [full, setFull] = useState(false);
   const [mode, setMode] = useState<ClickMode>('centre');
   const [hotThreshold, setHotThreshold] = useState(0);
+  const [regions, setRegions] = useState<PixelRect[]>([]);
 
   // a calibration from the file when the campaign has none yet
   useEffect(() => {
@@ -283,6 +286,8 @@ function Bench({
                     ringRadiusPx={radiusPx}
                     mode={mode}
                     onPick={pick}
+                    regions={regions}
+                    onRegion={(r) => setRegions((rs) => [...rs, r])}
                   />
                   <div className="flex items-center gap-2 text-small text-ink-700" role="radiogroup">
                     <span>A click on the frame</span>
@@ -302,9 +307,20 @@ function Bench({
                     >
                       excludes a pixel
                     </Button>
+                    {frame.background ? (
+                      <Button
+                        size="sm"
+                        variant={mode === 'region' ? 'primary' : 'ghost'}
+                        onClick={() => setMode('region')}
+                        data-testid="mode-region"
+                      >
+                        marks background
+                      </Button>
+                    ) : null}
                   </div>
                   <p className="text-micro text-ink-500">
-                    Raw counts, log scale. Cross: centre; dashed circle: the fitted radius; squares: excluded pixels.
+                    Raw counts, log scale. Cross: centre; dashed circle: the fitted radius; squares: excluded pixels;
+                    violet rectangles: background regions (drag in the “marks background” mode).
                   </p>
                 </div>
                 {out ? (
@@ -624,7 +640,9 @@ function Bench({
                     hint={
                       frame.background === null
                         ? 'The file has no background frame.'
-                        : 'Scaled by the ratio of laser shots (signal / background).'
+                        : cal.background.factor !== undefined
+                          ? `Scaled by the fitted factor ${formatNumber(cal.background.factor, 5)}.`
+                          : 'Scaled by the ratio of laser shots (signal / background).'
                     }
                     onChange={(v) => upd({ background: { subtract: v, scale_by: v ? 'shots' : 'none' } })}
                     testId="background"
@@ -720,6 +738,25 @@ function Bench({
             )}
           </Panel>
           {cal && frame ? <ToolsPanel frame={frame} calibration={cal} ringPx={radiusPx} onAccept={upd} /> : null}
+          {cal && frame ? (
+            <ScaleTools
+              // a new step starts the tools afresh (their rings, regions' fit and answers belong to a frame)
+              key={step}
+              scanId={scanId}
+              campaignId={campaign.campaign.id}
+              frame={frame}
+              calibration={cal}
+              regions={regions}
+              onClearRegions={() => setRegions([])}
+              regionMode={mode === 'region'}
+              onRegionMode={(on) => {
+                setMode(on ? 'region' : 'centre');
+                // the frame is at the top of the page, the tool far below it: bring the frame to the pointer
+                if (on) document.querySelector('[data-testid="bench-detector"]')?.scrollIntoView({ block: 'center' });
+              }}
+              onAccept={upd}
+            />
+          ) : null}
         </div>
       </div>
 

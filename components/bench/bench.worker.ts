@@ -3,7 +3,7 @@
 // arrived (use-bench-worker.ts keeps just the latest pending state), so nothing queues up here.
 import type { DetectorCalibration } from '@/reduction/formats';
 import { type BenchFrame, type BenchOutput, type BenchRequest, computeBench } from './compute';
-import { type BenchTool, runTool, type ToolAnswer } from './tools';
+import { type BenchTool, runTool, type ToolAnswer, type ToolInput } from './tools';
 
 export type BenchWorkerRequest =
   | { type: 'load'; frame: BenchFrame }
@@ -16,6 +16,7 @@ export type BenchWorkerRequest =
       calibration: DetectorCalibration;
       tool: BenchTool;
       ringPx?: number | null;
+      input?: ToolInput;
     };
 
 export type BenchWorkerReply =
@@ -54,7 +55,7 @@ addEventListener('message', (e: MessageEvent<BenchWorkerRequest>) => {
   } else if (m.type === 'tool') {
     const t0 = performance.now();
     try {
-      const answer = runTool(m.frame, m.calibration, m.tool, m.ringPx ?? null);
+      const answer = runTool(m.frame, m.calibration, m.tool, m.ringPx ?? null, m.input ?? {});
       postMessage({ type: 'tool', id: m.id, answer, ms: performance.now() - t0 } satisfies BenchWorkerReply);
     } catch (err) {
       postMessage({ type: 'error', id: m.id, message: (err as Error).message } satisfies BenchWorkerReply);

@@ -4,9 +4,11 @@
 // analyst accepts it.
 import { useEffect, useRef, useState } from 'react';
 import { formatNumber } from '@/components/plots/scales';
+import { XYPlot } from '@/components/plots/xy-plot';
 import { Button, ErrorState, Panel } from '@/components/ui';
 import type { DetectorCalibration } from '@/reduction/formats';
 import type { BenchFrame } from './compute';
+import { SymmetryResidual } from './residual-image';
 import type { BenchTool, ToolAnswer } from './tools';
 import { createTrialRunner } from './use-bench-worker';
 
@@ -125,6 +127,7 @@ export function ToolsPanel({
             {answer.reason} Misfit per pixel {formatNumber(answer.chi2PerPixel, 3)}, residual rms{' '}
             {formatNumber(answer.residualRms, 3)} σ{answer.converged ? '' : ' · the search did not converge'}.
           </p>
+          <SymmetryResidual image={answer.residualImage} nX={answer.nX} nY={answer.nY} />
           {answer.warnings.length ? (
             <ul className="list-disc pl-5 text-micro text-flare-900">
               {answer.warnings.map((w) => (
@@ -160,6 +163,23 @@ export function ToolsPanel({
             (algebraic fit refined geometrically, {answer.points} points over {formatNumber(answer.coverageDeg, 3)}°,
             residual rms {formatNumber(answer.residualRms, 3)} px).
           </p>
+          <XYPlot
+            series={[
+              {
+                id: 'ring-residual',
+                label: 'ring radius − circle',
+                color: '#253043',
+                mode: 'points',
+                points: answer.residualAzimuthDeg.map((x, i) => ({ x, y: answer.residualPx[i]! })),
+              },
+            ]}
+            guides={[]}
+            xLabel="azimuth (°)"
+            yLabel="radial residual (px)"
+            xDomain={[-180, 180]}
+            height={160}
+            data-testid="tool-ring-residual"
+          />
           <ToolWarnings warnings={answer.warnings} />
           <div className="flex gap-2">
             <Button

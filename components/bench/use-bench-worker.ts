@@ -6,7 +6,7 @@ import type { DetectorCalibration } from '@/reduction/formats';
 import type { BenchWorkerReply, BenchWorkerRequest } from './bench.worker';
 import { type BenchAnswer, BenchChannel } from './channel';
 import type { BenchFrame, BenchOutput, BenchRequest } from './compute';
-import type { BenchTool, ToolAnswer } from './tools';
+import type { BenchTool, ToolAnswer, ToolInput } from './tools';
 
 export type { BenchAnswer };
 
@@ -79,12 +79,13 @@ export function createTrialRunner() {
       calibration: DetectorCalibration,
       tool: BenchTool,
       ringPx: number | null = null,
+      input: ToolInput = {},
     ): Promise<ToolAnswer> {
       id += 1;
       const my = id;
       return new Promise<ToolAnswer>((resolve, reject) => {
         waiting.set(my, { resolve, reject });
-        w.postMessage({ type: 'tool', id: my, frame, calibration, tool, ringPx } satisfies BenchWorkerRequest);
+        w.postMessage({ type: 'tool', id: my, frame, calibration, tool, ringPx, input } satisfies BenchWorkerRequest);
       });
     },
     close() {

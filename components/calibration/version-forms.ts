@@ -71,6 +71,9 @@ export function formToCalibration(f: FormState, base: Record<string, unknown> | 
     background: { subtract: !!f.background_subtract, scale_by: f.background_scale_by },
   };
   if (base && 'flat_field' in base) out.flat_field = base.flat_field;
+  // a background scale fitted on the bench has no form field: keep it
+  const baseBg = base?.background as { factor?: unknown } | undefined;
+  if (typeof baseBg?.factor === 'number') (out.background as Record<string, unknown>).factor = baseBg.factor;
   // spectrometer values for event files: only the fields filled in override the file's
   const sp: Record<string, unknown> = {};
   for (const k of SPECTROMETER_FIELDS) if (!blank(f[`sp_${k}`])) sp[k] = num(f[`sp_${k}`]);

@@ -81,7 +81,12 @@ export function preflight(
         'check “Momentum per pixel” in the detector calibration',
     );
   }
-  if (meta.background && cal.background.subtract && cal.background.scale_by === 'shots') {
+  if (
+    meta.background &&
+    cal.background.subtract &&
+    cal.background.scale_by === 'shots' &&
+    cal.background.factor === undefined
+  ) {
     if (meta.background.shots.some((v) => !(v > 0))) {
       problems.push(
         'the background frames state zero shots, so they cannot be scaled by shots; set background.scale_by to "none"',
