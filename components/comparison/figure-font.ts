@@ -18,7 +18,8 @@ function fontUrlOfPage(): string | null {
     for (const rule of Array.from(rules)) {
       if (!(rule instanceof CSSFontFaceRule)) continue;
       const m = /url\(["']?([^"')]+\.woff2)["']?\)/.exec(rule.style.getPropertyValue('src'));
-      if (m?.[1]) return m[1];
+      // the address is relative to the style sheet (e.g. ../media/…woff2), not to the page
+      if (m?.[1]) return new URL(m[1], sheet.href ?? document.baseURI).href;
     }
   }
   return null;
