@@ -6,7 +6,6 @@ import { useQueries, useQuery, useQueryClient } from '@tanstack/react-query';
 import { useRouter } from 'next/navigation';
 import { useMemo, useRef, useState } from 'react';
 import { downloadBlob } from '@/components/campaign/trend-export';
-import { pngWithFont, svgWithFont } from './figure-font';
 import { seriesStyle } from '@/components/plots/series-styles';
 import { Badge, Button, ConfirmDialog, EmptyState, ErrorState, LoadingBlock, PageHeader, Panel } from '@/components/ui';
 import { compactInputClass, inputClass } from '@/components/ui/input-class';
@@ -29,6 +28,7 @@ import { CONVENTION_NAMES, CONVENTION_WORDS } from '@/reduction/intensity-conven
 import { ChipFilter } from './chip-filter';
 import { ComparisonFigure, type ModelLine } from './comparison-figure';
 import { comparisonCsv, comparisonJson } from './export';
+import { pngWithFont, svgWithFont } from './figure-font';
 import { PhasePanel } from './phase-panel';
 import { ResidualTable } from './residual-table';
 import {
