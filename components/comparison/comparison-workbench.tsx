@@ -5,7 +5,7 @@
 import { useQueries, useQuery, useQueryClient } from '@tanstack/react-query';
 import { useRouter } from 'next/navigation';
 import { useMemo, useRef, useState } from 'react';
-import { downloadBlob, svgToPngBlob, svgToStandalone } from '@/components/campaign/trend-export';
+import { downloadBlob } from '@/components/campaign/trend-export';
 import { seriesStyle } from '@/components/plots/series-styles';
 import { Badge, Button, ConfirmDialog, EmptyState, ErrorState, LoadingBlock, PageHeader, Panel } from '@/components/ui';
 import { compactInputClass, inputClass } from '@/components/ui/input-class';
@@ -28,6 +28,7 @@ import { CONVENTION_NAMES, CONVENTION_WORDS } from '@/reduction/intensity-conven
 import { ChipFilter } from './chip-filter';
 import { ComparisonFigure, type ModelLine } from './comparison-figure';
 import { comparisonCsv, comparisonJson } from './export';
+import { pngWithFont, svgWithFont } from './figure-font';
 import { PhasePanel } from './phase-panel';
 import { ResidualTable } from './residual-table';
 import {
@@ -616,7 +617,13 @@ export function ComparisonWorkbench({
                 variant="secondary"
                 onClick={() => {
                   const svg = figureBox.current?.querySelector('svg') as SVGSVGElement | null;
-                  if (svg) downloadBlob(new Blob([svgToStandalone(svg)], { type: 'image/svg+xml' }), `${fileStem}.svg`);
+                  if (!svg) return;
+                  // the shipped font goes into the file (a data: URL), so that it looks the same everywhere
+                  svgWithFont(svg).then(
+                    (text) => downloadBlob(new Blob([text], { type: 'image/svg+xml' }), `${fileStem}.svg`),
+                    () =>
+                      setExportProblem('The font could not be put into the SVG; try again after reloading the page.'),
+                  );
                 }}
               >
                 Figure (SVG)
@@ -628,7 +635,7 @@ export function ComparisonWorkbench({
                   const svg = figureBox.current?.querySelector('svg') as SVGSVGElement | null;
                   if (!svg) return;
                   // 3 × the drawing's width: about 2300 px, 300 dpi over a 19 cm wide figure
-                  svgToPngBlob(svg, 3).then(
+                  pngWithFont(svg, 3).then(
                     (blob) => downloadBlob(blob, `${fileStem}.png`),
                     () => setExportProblem('The PNG could not be made in this browser; the SVG has the same figure.'),
                   );

@@ -9,6 +9,7 @@ import { Button, Panel } from '@/components/ui';
 import { compactInputClass } from '@/components/ui/input-class';
 import type { PhaseCurve } from '@/lib/comparison/spec';
 import { ComparisonFigure, type FigureSeries } from './comparison-figure';
+import { svgWithFont } from './figure-font';
 
 export const PHASE_CSV_COLUMNS = [
   'curve',
@@ -122,8 +123,11 @@ export function PhasePanel({ curves, fileStem }: { curves: PhaseCurve[]; fileSte
             variant="secondary"
             onClick={() => {
               const svg = box.current?.querySelector('svg') as SVGSVGElement | null;
-              if (svg)
-                downloadBlob(new Blob([svgToStandalone(svg)], { type: 'image/svg+xml' }), `${fileStem}-phase.svg`);
+              if (!svg) return;
+              const save = (text: string) =>
+                downloadBlob(new Blob([text], { type: 'image/svg+xml' }), `${fileStem}-phase.svg`);
+              // with the shipped font inside; should the font not be readable, the figure still comes (system font)
+              svgWithFont(svg).then(save, () => save(svgToStandalone(svg)));
             }}
           >
             Curves (SVG)

@@ -1,10 +1,13 @@
 'use client';
 // A momentum image (or phase map) drawn on a canvas, with axes in a.u., a colour bar, linear/log scale, zoom by
 // dragging a rectangle (reset button), and an SVG layer on top for overlays (lobe markers, simple-man directions,
-// regions). In `region` mode a drag reports a rectangle in data coordinates instead of zooming.
+// regions). In `region` mode a drag reports a rectangle in data coordinates instead of zooming. The frame, ticks and
+// axis titles and the colour legend (a ramp of the colour map, linear or log) are drawn by Observable Plot; the
+// image stays a canvas, because thousands of cells are faster as pixels than as SVG rectangles.
+import * as Plot from '@observablehq/plot';
 import { type ReactNode, useEffect, useMemo, useRef, useState } from 'react';
-import { type ColorMap, cssGradient } from './colormaps';
-import { formatNumber, linearScale, niceTicks } from './scales';
+import { type ColorMap, colorAt } from './colormaps';
+import { formatNumber, linearScale } from './scales';
 
 export interface HeatmapImage {
   nx: number;
@@ -69,6 +72,8 @@ export function Heatmap({
   ...rest
 }: HeatmapProps) {
   const canvasRef = useRef<HTMLCanvasElement>(null);
+  const axesRef = useRef<SVGGElement>(null);
+  const legendRef = useRef<HTMLDivElement>(null);
   const full: DataRect = useMemo(() => {
     // cell edges: half a cell beyond the first and last centre
     const dx = image.nx > 1 ? (image.xRange[1] - image.xRange[0]) / (image.nx - 1) : 1;
@@ -176,20 +181,92 @@ export function Heatmap({
     else setView(rect);
   }
 
-  const xt = niceTicks(view.x0, view.x1, 5);
-  const yt = niceTicks(view.y0, view.y1, 5);
   const zoomed = view.x0 !== full.x0 || view.x1 !== full.x1 || view.y0 !== full.y0 || view.y1 !== full.y1;
-  const cbTicks =
-    colorbarTicks ??
-    (log
-      ? niceLogTicks(vmin, vmax).map((v) => ({ value: v, label: formatNumber(v, 2) }))
-      : niceTicks(vmin, vmax, 5).map((v) => ({ value: v, label: formatNumber(v) })));
-  const cbPos = (v: number) => {
-    const t = log
-      ? (Math.log10(v) - Math.log10(vmin)) / (Math.log10(vmax) - Math.log10(vmin) || 1)
-      : (v - vmin) / (vmax - vmin || 1);
-    return M.t + ph * (1 - Math.min(1, Math.max(0, t)));
-  };
+
+  // Frame, ticks and axis titles of the viewed part: Plot's linear scales over the same pixel ranges as sx and sy.
+  useEffect(() => {
+    const g = axesRef.current;
+    if (!g) return;
+    const svg = Plot.plot({
+      width: SIZE,
+      height: SIZE,
+      marginLeft: M.l,
+      marginRight: M.r,
+      marginTop: M.t,
+      marginBottom: M.b,
+      x: { domain: [view.x0, view.x1] },
+      y: { domain: [view.y0, view.y1] },
+      style: {
+        fontFamily: 'inherit',
+        fontSize: '11px',
+        color: '#4b5a6c',
+        background: 'transparent',
+        overflow: 'visible',
+      },
+      marks: [
+        Plot.frame({ stroke: '#5a6b80' }),
+        Plot.axisX({
+          ticks: 5,
+          tickSize: 4,
+          tickPadding: 3,
+          stroke: '#5a6b80',
+          tickFormat: (v: number) => formatNumber(v, 2),
+          label: xLabel,
+          labelAnchor: 'center',
+          labelArrow: 'none',
+          labelOffset: 34,
+        }),
+        Plot.axisY({
+          ticks: 5,
+          tickSize: 4,
+          tickPadding: 3,
+          stroke: '#5a6b80',
+          tickFormat: (v: number) => formatNumber(v, 2),
+          label: yLabel,
+          labelAnchor: 'center',
+          labelArrow: 'none',
+          labelOffset: 40,
+        }),
+      ],
+    }) as SVGSVGElement;
+    svg.setAttribute('x', '0');
+    svg.setAttribute('y', '0');
+    svg.style.pointerEvents = 'none';
+    svg.setAttribute('data-plot', 'axes');
+    g.replaceChildren(svg);
+    return () => svg.remove();
+  }, [view, xLabel, yLabel]);
+
+  // The colour legend: a ramp of the colour map over [vmin, vmax] on a linear or log scale, with Plot's ticks (or the
+  // caller's, e.g. −π … π for a phase).
+  useEffect(() => {
+    const host = legendRef.current;
+    if (!host) return;
+    const legend = Plot.legend({
+      color: {
+        type: log && !colormap.cyclic ? 'log' : 'linear',
+        domain: [vmin, vmax],
+        interpolate: (t: number) => colorAt(colormap, t),
+      },
+      label: valueLabel,
+      width: SIZE - M.l - M.r + 24,
+      marginLeft: 12,
+      marginRight: 12,
+      ticks: colorbarTicks ? colorbarTicks.map((t) => t.value) : log ? niceLogTicks(vmin, vmax) : 5,
+      tickFormat: (v: number) =>
+        colorbarTicks?.find((t) => t.value === v)?.label ?? formatNumber(v, log ? 2 : undefined),
+      style: { fontFamily: 'inherit', fontSize: '10px', color: '#4b5a6c', background: 'transparent' },
+    }) as unknown as SVGSVGElement;
+    legend.removeAttribute('width');
+    legend.removeAttribute('height');
+    legend.classList.add('w-full');
+    legend.setAttribute('role', 'img');
+    legend.setAttribute('aria-label', `colour legend: ${valueLabel}`);
+    legend.setAttribute('data-testid', 'colour-legend');
+    legend.setAttribute('data-scale', log && !colormap.cyclic ? 'log' : 'linear');
+    host.replaceChildren(legend);
+    return () => legend.remove();
+  }, [colormap, log, vmin, vmax, valueLabel, colorbarTicks]);
 
   return (
     <div className="flex min-w-0 items-start gap-3" data-testid={rest['data-testid']}>
@@ -225,7 +302,7 @@ export function Heatmap({
                 <rect x={M.l} y={M.t} width={pw} height={ph} />
               </clipPath>
             </defs>
-            <rect x={M.l} y={M.t} width={pw} height={ph} fill="none" stroke="#5a6b80" />
+            <g ref={axesRef} />
             <g clipPath="url(#hm-plot)">{overlay?.((x, y) => [sx(x), sy(y)], view)}</g>
             {drag ? (
               <rect
@@ -238,32 +315,6 @@ export function Heatmap({
                 strokeDasharray="4 3"
               />
             ) : null}
-            {xt.map((v) => (
-              <g key={`x${v}`}>
-                <line x1={sx(v)} x2={sx(v)} y1={M.t + ph} y2={M.t + ph + 4} stroke="#5a6b80" />
-                <text x={sx(v)} y={M.t + ph + 16} textAnchor="middle" className="fill-ink-600 text-[11px]">
-                  {formatNumber(v, 2)}
-                </text>
-              </g>
-            ))}
-            {yt.map((v) => (
-              <g key={`y${v}`}>
-                <line x1={M.l - 4} x2={M.l} y1={sy(v)} y2={sy(v)} stroke="#5a6b80" />
-                <text x={M.l - 7} y={sy(v) + 4} textAnchor="end" className="fill-ink-600 text-[11px]">
-                  {formatNumber(v, 2)}
-                </text>
-              </g>
-            ))}
-            <text x={M.l + pw / 2} y={SIZE - 6} textAnchor="middle" className="fill-ink-800 text-[12px]">
-              {xLabel}
-            </text>
-            <text
-              transform={`translate(13 ${M.t + ph / 2}) rotate(-90)`}
-              textAnchor="middle"
-              className="fill-ink-800 text-[12px]"
-            >
-              {yLabel}
-            </text>
           </svg>
         </div>
         {zoomed ? (
@@ -275,30 +326,10 @@ export function Heatmap({
             Reset zoom
           </button>
         ) : null}
-      </div>
-      <div className="flex shrink-0 flex-col items-start">
-        <svg viewBox={`0 0 78 ${SIZE}`} width={78} className="h-auto" style={{ maxHeight: SIZE }} role="img">
-          <title>{`colour bar: ${valueLabel}`}</title>
-          <foreignObject x={4} y={M.t} width={14} height={ph}>
-            <div style={{ width: 14, height: ph, background: cssGradient(colormap) }} />
-          </foreignObject>
-          <rect x={4} y={M.t} width={14} height={ph} fill="none" stroke="#5a6b80" />
-          {cbTicks.map((t) => (
-            <g key={t.label}>
-              <line x1={18} x2={22} y1={cbPos(t.value)} y2={cbPos(t.value)} stroke="#5a6b80" />
-              <text x={25} y={cbPos(t.value) + 4} className="fill-ink-600 text-[10px]">
-                {t.label}
-              </text>
-            </g>
-          ))}
-          <text
-            transform={`translate(72 ${M.t + ph / 2}) rotate(-90)`}
-            textAnchor="middle"
-            className="fill-ink-700 text-[11px]"
-          >
-            {valueLabel}
-          </text>
-        </svg>
+        <div
+          ref={legendRef}
+          style={{ marginLeft: `${((M.l - 12) / SIZE) * 100}%`, width: `${((pw + 24) / SIZE) * 100}%` }}
+        />
       </div>
     </div>
   );

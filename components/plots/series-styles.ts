@@ -51,3 +51,54 @@ export function markerPath(shape: MarkerShape, x: number, y: number, r: number):
       return `M${f(x - r)} ${f(y)}A${f(r)} ${f(r)} 0 1 0 ${f(x + r)} ${f(y)}A${f(r)} ${f(r)} 0 1 0 ${f(x - r)} ${f(y)}Z`;
   }
 }
+
+/**
+ * The marker outline of `shape` as a symbol object for Observable Plot's `symbol` option (the d3-shape symbol
+ * interface: `draw(context, size)` with `size` the area in px², so that r = √(size/π) is the half-size of
+ * markerPath). Same outlines as markerPath, so the plots and their legends agree.
+ */
+export function plotSymbol(shape: MarkerShape): {
+  draw(
+    ctx: {
+      moveTo(x: number, y: number): void;
+      lineTo(x: number, y: number): void;
+      closePath(): void;
+      arc(x: number, y: number, r: number, a0: number, a1: number): void;
+    },
+    size: number,
+  ): void;
+} {
+  return {
+    draw(ctx, size) {
+      const r = Math.sqrt(size / Math.PI);
+      switch (shape) {
+        case 'diamond':
+          ctx.moveTo(0, -r * 1.25);
+          ctx.lineTo(r * 1.25, 0);
+          ctx.lineTo(0, r * 1.25);
+          ctx.lineTo(-r * 1.25, 0);
+          break;
+        case 'square':
+          ctx.moveTo(-r, -r);
+          ctx.lineTo(r, -r);
+          ctx.lineTo(r, r);
+          ctx.lineTo(-r, r);
+          break;
+        case 'triangle-up':
+          ctx.moveTo(0, -r * 1.3);
+          ctx.lineTo(r * 1.2, r * 0.9);
+          ctx.lineTo(-r * 1.2, r * 0.9);
+          break;
+        case 'triangle-down':
+          ctx.moveTo(0, r * 1.3);
+          ctx.lineTo(r * 1.2, -r * 0.9);
+          ctx.lineTo(-r * 1.2, -r * 0.9);
+          break;
+        default:
+          ctx.moveTo(r, 0);
+          ctx.arc(0, 0, r, 0, 2 * Math.PI);
+      }
+      ctx.closePath();
+    },
+  };
+}

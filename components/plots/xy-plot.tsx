@@ -1,20 +1,12 @@
 'use client';
-// An SVG plot of one or more series (lines and/or points with vertical error bars) on linear or log axes, with
-// tick labels, axis titles and an optional legend. Lobeline's own design: framed plot area, ticks inside, no grid fill.
-import { type ReactNode, useId, useRef } from 'react';
-import {
-  extent,
-  formatNumber,
-  type LinearScale,
-  linearScale,
-  logScale,
-  logTicks,
-  niceTicks,
-  positiveExtent,
-} from './scales';
-import { type MarkerShape, markerPath } from './series-styles';
+// A plot of one or more series (lines and/or points with vertical error bars) on linear or log axes, with tick
+// labels, axis titles and an optional legend, drawn by Observable Plot (scales, ticks, axes, marks) into an SVG.
+// Lobeline's own look: framed plot area, ticks inside, dashed horizontal guides, the app's font and ink colours.
+import * as Plot from '@observablehq/plot';
+import { type ReactNode, useEffect, useRef } from 'react';
+import { extent, formatNumber, logTicks, positiveExtent } from './scales';
+import { type MarkerShape, markerPath, plotSymbol } from './series-styles';
 import { usePlotWidth } from './use-plot-width';
-
 export interface XYPoint {
   x: number;
   y: number;
@@ -62,6 +54,174 @@ const W_MAX = 640;
 const W_MIN = 260;
 const M = { l: 64, r: 16, t: 14, b: 44 };
 
+type Pt = XYPoint & { lo?: number; hi?: number };
+
+/** The Plot options of an XY plot of `width` px (exported for the unit test; the component renders them). */
+export function xyPlotOptions(
+  props: Required<
+    Pick<XYPlotProps, 'series' | 'xLabel' | 'yLabel' | 'guides' | 'height' | 'xTickFormat' | 'xScale' | 'yScale'>
+  > &
+    Pick<XYPlotProps, 'xDomain' | 'yDomain'>,
+  width: number,
+): Plot.PlotOptions {
+  const { series, xLabel, yLabel, guides, height, xTickFormat, xScale, yScale, xDomain, yDomain } = props;
+  const all = series.flatMap((s) => s.points);
+  const xd =
+    xDomain ??
+    (xScale === 'log' ? positiveExtent(all.map((p) => p.x)) : null) ??
+    extent(
+      all.map((p) => p.x),
+      undefined,
+      0.02,
+    );
+  const yd =
+    yDomain ??
+    (yScale === 'log' ? positiveExtent(all.map((p) => p.y)) : null) ??
+    extent(
+      all.map((p) => p.y),
+      all.map((p) => p.yErr ?? null),
+    );
+  const xLog = xScale === 'log' && xd[0] > 0;
+  const yLog = yScale === 'log' && yd[0] > 0;
+  const ok = (p: XYPoint) => Number.isFinite(p.x) && Number.isFinite(p.y) && (!xLog || p.x > 0) && (!yLog || p.y > 0);
+  // a log axis shows only positive values; an error bar reaching below zero is cut at the bottom of the frame
+  const cut = (v: number) => (yLog && !(v > 0) ? yd[0] : v);
+  const marks: Plot.Markish[] = [
+    Plot.frame({ fill: '#fbfcfd', stroke: '#a5b2c1' }),
+    Plot.gridY({
+      stroke: '#e6eaef',
+      strokeOpacity: 1,
+      strokeDasharray: '2 4',
+      ...(yLog ? { ticks: logTicks(yd[0], yd[1]) } : { ticks: 5 }),
+    }),
+    Plot.axisX({
+      tickSize: -5,
+      tickPadding: 9,
+      stroke: '#5a6b80',
+      fill: 'currentColor',
+      tickFormat: xTickFormat,
+      ticks: xLog ? logTicks(xd[0], xd[1]) : width < 420 ? 4 : 6,
+      label: xLabel,
+      labelAnchor: 'center',
+      labelArrow: 'none',
+      labelOffset: 38,
+    }),
+    Plot.axisY({
+      tickSize: -5,
+      tickPadding: 8,
+      stroke: '#5a6b80',
+      fill: 'currentColor',
+      tickFormat: (v: number) => formatNumber(v),
+      ticks: yLog ? logTicks(yd[0], yd[1]) : 5,
+      label: yLabel,
+      labelAnchor: 'center',
+      labelArrow: 'none',
+      labelOffset: 52,
+    }),
+  ];
+  guides.forEach((g, i) => {
+    marks.push(Plot.ruleX([g.x], { stroke: g.color, strokeDasharray: '5 3', clip: true }));
+    if (g.label)
+      marks.push(
+        Plot.text([g.x], {
+          x: (v: number) => v,
+          frameAnchor: 'top',
+          dy: 12 + (i % 2) * 12,
+          dx: 4,
+          textAnchor: 'start',
+          text: () => g.label,
+          fill: g.color,
+          fontSize: 10,
+          clip: true,
+        }),
+      );
+  });
+  for (const s of series) {
+    const mode = s.mode ?? 'line';
+    const pts = s.points.filter(ok);
+    if (mode !== 'points' && pts.length > 1)
+      marks.push(
+        Plot.line(pts, {
+          x: 'x',
+          y: 'y',
+          stroke: s.color,
+          strokeWidth: s.width ?? 1.6,
+          strokeDasharray: s.dashed ? '6 4' : undefined,
+          clip: true,
+          // the path carries its series and colour, so that tests and exports can find a series' line
+          render(index, scales, values, dimensions, context, next) {
+            const g = next?.(index, scales, values, dimensions, context) as SVGElement | null;
+            for (const path of g?.querySelectorAll('path') ?? []) {
+              path.setAttribute('stroke', s.color);
+              path.setAttribute('data-line', s.id);
+            }
+            return g ?? null;
+          },
+        }),
+      );
+    if (mode === 'line') continue;
+    const bars: Pt[] = pts
+      .filter((p) => p.yErr != null && Number.isFinite(p.yErr) && p.yErr > 0)
+      .map((p) => ({ ...p, lo: cut(p.y - (p.yErr as number)), hi: cut(p.y + (p.yErr as number)) }));
+    if (bars.length) {
+      marks.push(Plot.ruleX(bars, { x: 'x', y1: 'lo', y2: 'hi', stroke: s.color, strokeWidth: 1.2, clip: true }));
+      const cap = {
+        draw(c: CanvasPath) {
+          c.moveTo(-3, 0);
+          c.lineTo(3, 0);
+        },
+      };
+      for (const end of ['lo', 'hi'] as const)
+        marks.push(
+          Plot.dot(bars, { x: 'x', y: end, symbol: cap, stroke: s.color, strokeWidth: 1.2, fill: 'none', clip: true }),
+        );
+    }
+    const shape = s.shape ?? 'diamond';
+    marks.push(
+      Plot.dot(pts, {
+        x: 'x',
+        y: 'y',
+        symbol: plotSymbol(shape),
+        r: 3.4,
+        fill: (p: XYPoint) => (p.hollow ? '#ffffff' : s.color),
+        stroke: s.color,
+        strokeWidth: 1.3,
+        title: (p: XYPoint) => p.title ?? null,
+        clip: true,
+        render(index, scales, values, dimensions, context, next) {
+          const g = next?.(index, scales, values, dimensions, context) as SVGElement | null;
+          const paths = g ? [...g.querySelectorAll('path')] : [];
+          paths.forEach((path, k) => {
+            path.setAttribute('data-marker', shape);
+            if (pts[index[k] as number]?.hollow) path.setAttribute('data-hollow', 'true');
+          });
+          return g ?? null;
+        },
+      }),
+    );
+  }
+  return {
+    width,
+    height,
+    marginLeft: M.l,
+    marginRight: M.r,
+    marginTop: M.t,
+    marginBottom: M.b,
+    x: { type: xLog ? 'log' : 'linear', domain: xd },
+    y: { type: yLog ? 'log' : 'linear', domain: yd },
+    color: { type: 'identity' },
+    style: {
+      fontFamily: 'inherit',
+      fontSize: '11px',
+      color: '#4b5a6c',
+      background: 'transparent',
+      overflow: 'visible',
+    },
+    ariaLabel: `${yLabel} against ${xLabel}`,
+    marks,
+  };
+}
+
 export function XYPlot({
   series,
   xLabel,
@@ -76,131 +236,29 @@ export function XYPlot({
   yScale = 'linear',
   ...rest
 }: XYPlotProps) {
-  const clip = useId().replace(/:/g, '');
   const figureRef = useRef<HTMLElement>(null);
+  const hostRef = useRef<HTMLDivElement>(null);
   const W = usePlotWidth(figureRef, W_MIN, W_MAX);
-  const all = series.flatMap((s) => s.points);
-  const xLog = xScale === 'log';
-  const yLog = yScale === 'log';
-  const xd =
-    xDomain ??
-    (xLog ? positiveExtent(all.map((p) => p.x)) : null) ??
-    extent(
-      all.map((p) => p.x),
-      undefined,
-      0.02,
-    );
-  const yd =
-    yDomain ??
-    (yLog ? positiveExtent(all.map((p) => p.y)) : null) ??
-    extent(
-      all.map((p) => p.y),
-      all.map((p) => p.yErr ?? null),
-    );
-  const x: LinearScale = xLog && xd[0] > 0 ? logScale(xd, [M.l, W - M.r]) : linearScale(xd, [M.l, W - M.r]);
-  const y: LinearScale = yLog && yd[0] > 0 ? logScale(yd, [height - M.b, M.t]) : linearScale(yd, [height - M.b, M.t]);
-  const xt = xLog ? logTicks(xd[0], xd[1]) : niceTicks(xd[0], xd[1], W < 420 ? 4 : 6);
-  const yt = yLog ? logTicks(yd[0], yd[1]) : niceTicks(yd[0], yd[1], 5);
-  // a log axis shows only positive values; an error bar reaching below zero is cut at the bottom of the frame
-  const yAt = (v: number) => (yLog && !(v > 0) ? height - M.b : y(v));
+  // biome-ignore lint/correctness/useExhaustiveDependencies: xTickFormat is often an inline closure; the plot is redrawn when its data or axes change
+  useEffect(() => {
+    const host = hostRef.current;
+    if (!host) return;
+    const svg = Plot.plot(
+      xyPlotOptions({ series, xLabel, yLabel, guides, height, xTickFormat, xScale, yScale, xDomain, yDomain }, W),
+    ) as SVGSVGElement;
+    svg.classList.add('w-full', 'select-none');
+    svg.setAttribute('role', 'img');
+    svg.setAttribute('data-x-scale', xScale);
+    svg.setAttribute('data-y-scale', yScale);
+    // the viewBox is the drawing's size; CSS scales it to the figure's width
+    svg.removeAttribute('width');
+    svg.removeAttribute('height');
+    host.replaceChildren(svg);
+    return () => svg.remove();
+  }, [series, xLabel, yLabel, guides, height, xScale, yScale, xDomain, yDomain, W]);
   return (
     <figure ref={figureRef} className="w-full min-w-0 max-w-3xl" data-testid={rest['data-testid']}>
-      <svg
-        viewBox={`0 0 ${W} ${height}`}
-        className="w-full select-none"
-        role="img"
-        aria-label={`${yLabel} against ${xLabel}`}
-        data-x-scale={xScale}
-        data-y-scale={yScale}
-      >
-        <defs>
-          <clipPath id={clip}>
-            <rect x={M.l} y={M.t} width={W - M.l - M.r} height={height - M.t - M.b} />
-          </clipPath>
-        </defs>
-        <rect x={M.l} y={M.t} width={W - M.l - M.r} height={height - M.t - M.b} fill="#fbfcfd" stroke="#a5b2c1" />
-        {xt.map((v) => (
-          <g key={`x${v}`}>
-            <line x1={x(v)} x2={x(v)} y1={height - M.b} y2={height - M.b - 5} stroke="#5a6b80" />
-            <text x={x(v)} y={height - M.b + 15} textAnchor="middle" className="fill-ink-600 text-[11px]">
-              {xTickFormat(v)}
-            </text>
-          </g>
-        ))}
-        {yt.map((v) => (
-          <g key={`y${v}`}>
-            <line x1={M.l} x2={M.l + 5} y1={y(v)} y2={y(v)} stroke="#5a6b80" />
-            <line x1={M.l} x2={W - M.r} y1={y(v)} y2={y(v)} stroke="#e6eaef" strokeDasharray="2 4" />
-            <text x={M.l - 7} y={y(v) + 4} textAnchor="end" className="fill-ink-600 text-[11px]">
-              {formatNumber(v)}
-            </text>
-          </g>
-        ))}
-        <text x={(M.l + W - M.r) / 2} y={height - 6} textAnchor="middle" className="fill-ink-800 text-[12px]">
-          {xLabel}
-        </text>
-        <text
-          transform={`translate(14 ${(M.t + height - M.b) / 2}) rotate(-90)`}
-          textAnchor="middle"
-          className="fill-ink-800 text-[12px]"
-        >
-          {yLabel}
-        </text>
-        <g clipPath={`url(#${clip})`}>
-          {guides.map((g, i) => (
-            <g key={`g${g.x}-${g.label ?? ''}-${g.color}`}>
-              <line x1={x(g.x)} x2={x(g.x)} y1={M.t} y2={height - M.b} stroke={g.color} strokeDasharray="5 3" />
-              {g.label ? (
-                <text x={x(g.x) + 4} y={M.t + 12 + (i % 2) * 12} className="text-[10px]" fill={g.color}>
-                  {g.label}
-                </text>
-              ) : null}
-            </g>
-          ))}
-          {series.map((s) => {
-            const mode = s.mode ?? 'line';
-            const pts = s.points.filter(
-              (p) => Number.isFinite(x(p.x)) && Number.isFinite(y(p.y)) && Number.isFinite(p.x) && Number.isFinite(p.y),
-            );
-            return (
-              <g key={s.id}>
-                {mode !== 'points' && pts.length > 1 ? (
-                  <polyline
-                    fill="none"
-                    stroke={s.color}
-                    strokeWidth={s.width ?? 1.6}
-                    strokeDasharray={s.dashed ? '6 4' : undefined}
-                    points={pts.map((p) => `${x(p.x).toFixed(1)},${y(p.y).toFixed(1)}`).join(' ')}
-                  />
-                ) : null}
-                {mode !== 'line'
-                  ? pts.map((p) => (
-                      <g key={`${p.x}:${p.y}:${p.title ?? ''}`}>
-                        {p.yErr != null && Number.isFinite(p.yErr) && p.yErr > 0 ? (
-                          <g stroke={s.color} strokeWidth={1.2}>
-                            <line x1={x(p.x)} x2={x(p.x)} y1={yAt(p.y - p.yErr)} y2={yAt(p.y + p.yErr)} />
-                            <line x1={x(p.x) - 3} x2={x(p.x) + 3} y1={yAt(p.y - p.yErr)} y2={yAt(p.y - p.yErr)} />
-                            <line x1={x(p.x) - 3} x2={x(p.x) + 3} y1={yAt(p.y + p.yErr)} y2={yAt(p.y + p.yErr)} />
-                          </g>
-                        ) : null}
-                        <path
-                          d={markerPath(s.shape ?? 'diamond', x(p.x), y(p.y), 3.4)}
-                          fill={p.hollow ? '#ffffff' : s.color}
-                          stroke={s.color}
-                          strokeWidth={1.3}
-                          data-marker={s.shape ?? 'diamond'}
-                          data-hollow={p.hollow ? 'true' : undefined}
-                        >
-                          {p.title ? <title>{p.title}</title> : null}
-                        </path>
-                      </g>
-                    ))
-                  : null}
-              </g>
-            );
-          })}
-        </g>
-      </svg>
+      <div ref={hostRef} style={{ aspectRatio: `${W} / ${height}` }} />
       {legend && series.length > 1 ? (
         <figcaption className="mt-1 flex flex-wrap gap-x-4 gap-y-1 pl-16 text-micro text-ink-600">
           {series.map((s) => (

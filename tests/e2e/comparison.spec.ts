@@ -5,7 +5,7 @@
 //   under a fixed address;
 // - an analyst of the team opens that address: the same figure; the exported CSV holds exactly the API's numbers
 //   (RFC 4180 reading; every drawn point once, values equal to the JSON doubles) and the SVG holds every series
-//   and the model line; the PNG is a PNG at 3 × the drawing's width.
+//   and the model line; the PNG is a PNG at 3 × the drawing's width; both carry the shipped font.
 // What is checked is what the page gives against what the API says, not the physics (that is in the unit tests).
 import { execFileSync } from 'node:child_process';
 import { mkdtempSync, readFileSync } from 'node:fs';
@@ -242,6 +242,66 @@ test('the PI keeps a two-campaign comparison with a model; a team member opens i
   expect([...png.subarray(0, 8)]).toEqual([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]);
   const viewBoxWidth = Number(/viewBox="0 0 ([\d.]+) /.exec(svgText)?.[1]);
   expect(png.readUInt32BE(16)).toBe(Math.round(viewBoxWidth * 3));
+  // The shipped font is in the SVG: an @font-face whose data: URL holds exactly the bytes of app/fonts' woff2.
+  const embedded = /url\(data:font\/woff2;base64,([A-Za-z0-9+/=]+)\)/.exec(svgText);
+  expect(embedded, 'an @font-face with the woff2 as a data: URL').not.toBeNull();
+  expect(
+    Buffer.from((embedded as RegExpExecArray)[1] as string, 'base64').equals(
+      readFileSync('app/fonts/InterVariable.woff2'),
+    ),
+  ).toBe(true);
+  // ...and the PNG was drawn with it: in the same browser, the exported SVG drawn at 3× gives the PNG's pixels,
+  // while the same SVG without its @font-face (the text falls back to another face) gives visibly different ones.
+  const pixelsOff = await an.page.evaluate(
+    async ({ svg, pngB64 }) => {
+      const draw = async (src: string) => {
+        const img = new Image();
+        img.src = src;
+        await img.decode();
+        const c = document.createElement('canvas');
+        c.width = img.naturalWidth;
+        c.height = img.naturalHeight;
+        const ctx = c.getContext('2d') as CanvasRenderingContext2D;
+        ctx.drawImage(img, 0, 0);
+        return ctx.getImageData(0, 0, c.width, c.height).data;
+      };
+      const fromSvg = async (text: string) => {
+        const vb = /viewBox="0 0 ([\d.]+) ([\d.]+)"/.exec(text) as RegExpExecArray;
+        const url = URL.createObjectURL(new Blob([text], { type: 'image/svg+xml' }));
+        const img = new Image();
+        img.src = url;
+        await img.decode();
+        const c = document.createElement('canvas');
+        c.width = Math.round(Number(vb[1]) * 3);
+        c.height = Math.round(Number(vb[2]) * 3);
+        const ctx = c.getContext('2d') as CanvasRenderingContext2D;
+        ctx.drawImage(img, 0, 0, c.width, c.height);
+        URL.revokeObjectURL(url);
+        return ctx.getImageData(0, 0, c.width, c.height).data;
+      };
+      const exported = await draw(`data:image/png;base64,${pngB64}`);
+      const differing = (a: Uint8ClampedArray, b: Uint8ClampedArray) => {
+        if (a.length !== b.length) return Number.POSITIVE_INFINITY;
+        let n = 0;
+        for (let i = 0; i < a.length; i += 4)
+          if (
+            Math.abs((a[i] as number) - (b[i] as number)) +
+              Math.abs((a[i + 1] as number) - (b[i + 1] as number)) +
+              Math.abs((a[i + 2] as number) - (b[i + 2] as number)) >
+            24
+          )
+            n++;
+        return n;
+      };
+      return {
+        withFont: differing(exported, await fromSvg(svg)),
+        withoutFont: differing(exported, await fromSvg(svg.replace(/@font-face\{[^}]*\}/, ''))),
+      };
+    },
+    { svg: svgText, pngB64: png.toString('base64') },
+  );
+  expect(pixelsOff.withFont).toBeLessThan(50);
+  expect(pixelsOff.withoutFont).toBeGreaterThan(500);
   await an.page.screenshot({ path: '.data/test/comparison-analyst.png', fullPage: true });
   await an.context.close();
 });

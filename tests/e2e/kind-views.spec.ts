@@ -73,7 +73,7 @@ test('a two-colour phase scan shows no angular-streaking overlays, fits or inten
   await expect(page.getByTestId('momentum-image').locator('canvas')).toBeVisible();
   await expect(page.getByTestId('angular-plot')).toBeVisible();
   // no fitted lobe model, no lobe guides' legend, no lobe / simple-man legend under the image
-  await expect(page.getByTestId('angular-plot').locator(`polyline[stroke="${FIT_COLOR}"]`)).toHaveCount(0);
+  await expect(page.getByTestId('angular-plot').locator(`path[data-line][stroke="${FIT_COLOR}"]`)).toHaveCount(0);
   await expect(page.getByTestId('angular-legend')).toHaveCount(0);
   await expect(page.getByText('simple-man direction (−A at the field maximum)')).toHaveCount(0);
   await expect(page.getByTestId('momentum-plain-note')).toBeVisible();
@@ -106,7 +106,7 @@ test('a bicircular scan draws every lobe model around its lobe, none across the 
   await uploadAndOpen(page, 'Ne 1300 nm bicircular', file);
   const plot = page.getByTestId('angular-plot');
   await expect(plot).toBeVisible();
-  const fits = plot.locator(`polyline[stroke="${FIT_COLOR}"]`);
+  const fits = plot.locator(`path[data-line][stroke="${FIT_COLOR}"]`);
   await expect(fits.first()).toBeVisible();
   // x of the plot frame: the axis runs from −180° to 180° across the frame's width (viewBox units)
   const frame = await plot
@@ -115,9 +115,10 @@ test('a bicircular scan draws every lobe model around its lobe, none across the 
     .evaluate((r) => Number(r.getAttribute('width')));
   const spans = await fits.evaluateAll((els) =>
     els.map((el) => {
-      const xs = (el.getAttribute('points') ?? '')
-        .trim()
-        .split(/\s+/)
+      // the line's path: "M x,y L x,y …" (absolute coordinates, as Observable Plot's line mark writes it)
+      const xs = (el.getAttribute('d') ?? '')
+        .split(/[ML]/)
+        .filter((p) => p.trim() !== '')
         .map((p) => Number(p.split(',')[0]));
       return Math.max(...xs) - Math.min(...xs);
     }),
