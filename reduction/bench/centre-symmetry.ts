@@ -4,18 +4,24 @@
  * the mirror about the polarization axis for parallel linear ω–2ω, and the 120° rotation for bicircular light.
  *
  * Method: for a candidate centre c, every used pixel p is compared with the image at its partner T_c(p) = c + G(p − c),
- * sampled bilinearly, where G = A⁻¹ T_lab A carries the lab-frame symmetry T_lab through the candidate calibration's
- * 2×2 map A (inversion: G = −1 whatever A is). The cost S(c) = Σ_p [I(p) − Ĩ(T_c p)]² / v_p is Poisson-weighted with
- * v_p = max(I(p) + Σ_i w_i² I_i, 1), the counting variance of the difference (w_i the four bilinear weights; using it
- * and not I(p) + Ĩ keeps the expected noise part of S independent of the sub-pixel phase of the partner, so the
- * minimum is not pulled toward half-pixel positions). S is minimised by a Nelder–Mead simplex, then a quadratic
- * surface through S on a 5 × 5 grid of ½-pixel spacing refines the minimum and gives the Hessian H_S.
+ * sampled by Catmull–Rom bicubic interpolation (or bilinearly on request), where G = A⁻¹ T_lab A carries the lab-frame
+ * symmetry T_lab through the candidate calibration's 2×2 map A (inversion: G = −1 whatever A is). The cost
+ * S(c) = Σ_p [I(p) − Ĩ(T_c p)]² / v_p is Poisson-weighted with v_p = max(|I(p)| + Σ_i w_i² |I_i|, 1), the counting
+ * variance of the difference (w_i the interpolation weights; using it and not I(p) + Ĩ keeps the expected noise part
+ * of S independent of the sub-pixel phase of the partner, so the minimum is not pulled toward half-pixel positions).
+ * A Nelder–Mead simplex finds the basin; Newton steps on the analytic gradient ∇S then find the minimum itself (a
+ * quadratic surface through S over ±1 px, used before, put its vertex 0.03 px off on 2.6 px-wide rings).
  *
- * Errors: every pair (or triple) of symmetric pixels enters S two (three) times, so S = 2χ² for the pair symmetries
- * and 1.5χ² for the three-fold one, where χ² is the profile χ² over the unknown symmetric image; hence
- * Cov(c) = f·H_S⁻¹ with f = 4 (inversion, mirror) or 3 (three-fold) (derived here), scaled up by the reduced χ²
- * of the populated pixels when it exceeds 1 (model misfit); checked against the scatter over Poisson realisations
- * in tests/unit/reduction/bench/centre-symmetry.test.ts. A mirror fixes only the coordinate across the axis: the
+ * Errors (derived here, see scoreStatistics): the centre solves ∇S = 0, so to first order
+ * Cov(c) = H⁻¹ Var(∇S) H⁻¹ (sandwich) with ∇S linear in the counts, ∇S = Σ_j a_j I_j, Var(∇S) = Σ_j a_j a_jᵀ |I_j|:
+ * a_j collects pixel j as itself and as an interpolation tap of every partner it serves (one partner for a pair
+ * symmetry, two rotated ones for the three-fold), so the pairing and the correlation that interpolation puts
+ * between neighbouring samples are in it exactly; H = E[∂²S/∂c²] is the Gauss–Newton sum with the counting-noise
+ * parts of (∂r/∂c)(∂r/∂c)ᵀ and r ∂²r/∂c² subtracted (their expectation is what makes a curvature from the data too
+ * large at low counts per pixel). The fixed factors used before (Cov = 4 H_S⁻¹ pairs, 3 H_S⁻¹ triples) hold only
+ * without interpolation and at high counts. The covariance is scaled up by the misfit per populated pixel when it
+ * exceeds 1; checked against the scatter over 100 Poisson realisations per symmetry in
+ * tests/unit/reduction/bench/centre-symmetry.test.ts. A mirror fixes only the coordinate across the axis: the
  * search is one-dimensional along that direction and the centre along the axis stays at the start.
  */
 import { calibrationMatrix } from '../calibration';
@@ -71,14 +77,17 @@ export interface CentreValue {
 
 export interface CentreDiagnostics {
   symmetry: CentreSymmetry;
-  /** S/n at the minimum (≈ 1 when the image is symmetric to counting noise). */
+  /**
+   * Misfit per pixel Σ(I − Ĩ)² / Σv over the compared pixels, a reduced χ² that is ≈ 1 when the image is symmetric
+   * to counting noise at any count level (E[(I − Ĩ)²] = E[v] for Poisson counts; empty pixels add to neither sum).
+   */
   chi2PerPixel: number;
-  /** S/n over pixels with at least 4 counts of variance (the misfit scale applied to the errors when > 1). */
+  /** The same over pixels with at least 4 counts of variance (the misfit scale applied to the errors when > 1). */
   chi2PerPopulatedPixel: number;
   populatedPixels: number;
   pixelsUsed: number;
   evaluations: number;
-  /** Hessian of S at the minimum, px⁻². */
+  /** Expected Hessian of S at the minimum (Gauss–Newton, counting-noise parts removed), px⁻². */
   hessian: number[];
   /** Covariance of (x, y), px². */
   covariance: number[];
