@@ -5,10 +5,16 @@
  * of the fitted centre is compared with the mean reported standard error (±20 %; the ratio itself scatters by
  * ≈ 1/√(2·99) = 7 % over 100 realisations).
  */
+import { readFileSync } from 'node:fs';
+import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { findCentreBySymmetry, symmetryForKind } from '@/reduction/bench/centre-symmetry';
 import { calibrationMatrix } from '@/reduction/calibration';
 import { expected, frameOf, generatedFile, meanSd, plan, realise, rngOf } from './helpers';
+
+const REF = JSON.parse(
+  readFileSync(path.resolve(import.meta.dirname, '../../../fixtures/bench/bench-reference.json'), 'utf8'),
+);
 
 const REALISATIONS = 100;
 /** Generous: 100 fits of 128 × 128 px on a busy 2-core machine (no timing is asserted). */
@@ -58,6 +64,35 @@ describe('findCentreBySymmetry on generated images with a known centre', () => {
       // (no assertion on warnings: without noise, the interpolation misfit is many "counting σ" at 10⁶ counts)
     });
   }
+
+  it('noiseless frames: the centre agrees with scipy (map_coordinates order 3 + minimize on the same objective)', () => {
+    // reference: tests/fixtures/bench/make_bench_reference.py renders the same frames again in numpy and minimises
+    // the Poisson-weighted symmetric difference with scipy's cubic B-spline partner (an interpolant other than ours)
+    const cases = REF.centre.cases as {
+      symmetry: 'inversion' | 'three-fold';
+      centre: number[];
+      probe_pixels: number[][];
+    }[];
+    for (const ref of cases) {
+      const kind = ref.symmetry === 'inversion' ? 'angular_streaking' : 'bicircular';
+      const p = plan({ kind, size: 128, distort: true, steps: 1, counts: 1e6 });
+      const frame = expected(p);
+      // the same frame: the numpy rendering's probe pixels (1e-9 relative, or 1e-12 counts where nearly empty)
+      for (const [x, y, v] of ref.probe_pixels) {
+        expect(Math.abs(frame[y! * 128 + x!]! - v!)).toBeLessThan(1e-9 * Math.abs(v!) + 1e-12);
+      }
+      const f = findCentreBySymmetry(frameOf(p, frame), {
+        symmetry: ref.symmetry,
+        calibration: p.calibration,
+        startPx: [64, 62],
+      });
+      // scipy's centre is within 6e-4 px of the truth (its interpolant's offset); ours within 5e-5 px
+      expect(Math.abs(f.value.x - ref.centre[0]!)).toBeLessThan(1e-3);
+      expect(Math.abs(f.value.y - ref.centre[1]!)).toBeLessThan(1e-3);
+      expect(Math.abs(ref.centre[0]! - REF.centre.truth[0])).toBeLessThan(1e-3);
+      expect(Math.abs(ref.centre[1]! - REF.centre.truth[1])).toBeLessThan(1e-3);
+    }
+  });
 
   it(
     'inversion: 100 Poisson realisations at 2×10⁵ counts scatter as the reported errors say (±20 %)',
