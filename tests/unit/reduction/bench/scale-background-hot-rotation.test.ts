@@ -47,7 +47,7 @@ describe('fitAtiScale', () => {
     expect(f.stdErr.kappaEvPerPx2).toBeLessThan(1e-15);
   });
 
-  it('rings of a generated image: κ within 2σ of the truth and the reported σκ honest over 30 realisations', () => {
+  it('rings of a generated image: κ unbiased to 5e-4 and the reported σκ honest (±20 %) over 100 realisations', () => {
     const kappa = 2e-3;
     const p = plan({
       kind: 'image',
@@ -62,7 +62,7 @@ describe('fitAtiScale', () => {
     const rng = rngOf(31);
     const ks: number[] = [];
     const es: number[] = [];
-    for (let k = 0; k < 30; k++) {
+    for (let k = 0; k < 100; k++) {
       const radii = atiRingRadii(frameOf(p, realise(mean, rng)), {
         centrePx: p.calibration.center_px,
         guessesPx: t.radiiPx.map((r) => r + 0.5),
@@ -80,10 +80,12 @@ describe('fitAtiScale', () => {
     }
     const s = meanSd(ks);
     const e = meanSd(es).mean;
-    // measured bias −1.2e-3 relative (the ring-radius estimator); bound 2e-3
-    expect(Math.abs(s.mean - kappa)).toBeLessThan(2e-3 * kappa);
-    expect(s.sd / e).toBeGreaterThan(0.7);
-    expect(s.sd / e).toBeLessThan(1.3);
+    // before: bias −1.2e-3 relative, also on the noiseless frame (a Gaussian + constant per ring on the slope of the
+    // broad lobes put the radii 0.02 … 0.04 px out); with a linear background: −1.9e-5 noiseless, and over these 100
+    // realisations (seed 31) measured −1.75e-4 ± 0.9e-4, scatter/error 0.87 (before 0.84 over 30)
+    expect(Math.abs(s.mean - kappa)).toBeLessThan(5e-4 * kappa);
+    expect(s.sd / e).toBeGreaterThan(0.8);
+    expect(s.sd / e).toBeLessThan(1.2);
   });
 });
 
