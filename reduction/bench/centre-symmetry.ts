@@ -488,6 +488,13 @@ export function findCentreBySymmetry(frame: BenchFrame, options: CentreOptions):
       `The image differs from its ${symmetry} partner by more than counting noise (χ² per populated pixel ${chi2Scale.toFixed(2)}): a detector background, hot pixels, a wrong calibration or the wrong symmetry; the errors are scaled up by it.`,
     );
   }
+  let negative = 0;
+  for (let k = 0; k < idx.length; k++) if (cnt[idx[k]!]! < 0) negative++;
+  if (negative > 0.01 * idx.length) {
+    warnings.push(
+      `${negative} compared pixels are negative (a background-subtracted frame): the errors assume counting noise |I| per pixel, which is too small where a background was subtracted, so they are lower bounds and a background that is not symmetric moves the centre.`,
+    );
+  }
   const moved = Math.hypot(x - start[0], y - start[1]);
   if (moved > 10 * searchPx) {
     warnings.push(`The centre moved ${moved.toFixed(1)} px from the start; check it is not a different feature.`);
