@@ -4,25 +4,38 @@
  * the mirror about the polarization axis for parallel linear ω–2ω, and the 120° rotation for bicircular light.
  *
  * Method: for a candidate centre c, every used pixel p is compared with the image at its partner T_c(p) = c + G(p − c),
- * sampled bilinearly, where G = A⁻¹ T_lab A carries the lab-frame symmetry T_lab through the candidate calibration's
- * 2×2 map A (inversion: G = −1 whatever A is). The cost S(c) = Σ_p [I(p) − Ĩ(T_c p)]² / v_p is Poisson-weighted with
- * v_p = max(I(p) + Σ_i w_i² I_i, 1), the counting variance of the difference (w_i the four bilinear weights; using it
- * and not I(p) + Ĩ keeps the expected noise part of S independent of the sub-pixel phase of the partner, so the
- * minimum is not pulled toward half-pixel positions). S is minimised by a Nelder–Mead simplex, then a quadratic
- * surface through S on a 5 × 5 grid of ½-pixel spacing refines the minimum and gives the Hessian H_S.
+ * sampled by Catmull–Rom bicubic interpolation (or bilinearly on request), where G = A⁻¹ T_lab A carries the lab-frame
+ * symmetry T_lab through the candidate calibration's 2×2 map A (inversion: G = −1 whatever A is). The cost
+ * S(c) = Σ_p [I(p) − Ĩ(T_c p)]² / v_p is Poisson-weighted with v_p = max(|I(p)| + Σ_i w_i² |I_i|, 1), the counting
+ * variance of the difference (w_i the interpolation weights; using it and not I(p) + Ĩ keeps the expected noise part
+ * of S independent of the sub-pixel phase of the partner, so the minimum is not pulled toward half-pixel positions).
+ * A Nelder–Mead simplex finds the basin; Newton steps on the analytic gradient ∇S then find the minimum itself (a
+ * quadratic surface through S over ±1 px, used before, put its vertex 0.03 px off on 2.6 px-wide rings).
  *
- * Errors: every pair (or triple) of symmetric pixels enters S two (three) times, so S = 2χ² for the pair symmetries
- * and 1.5χ² for the three-fold one, where χ² is the profile χ² over the unknown symmetric image; hence
- * Cov(c) = f·H_S⁻¹ with f = 4 (inversion, mirror) or 3 (three-fold) (derived here), scaled up by the reduced χ²
- * of the populated pixels when it exceeds 1 (model misfit); checked against the scatter over Poisson realisations
- * in tests/unit/reduction/bench/centre-symmetry.test.ts. A mirror fixes only the coordinate across the axis: the
+ * Errors (derived here, see scoreStatistics): the centre solves ∇S = 0, so to first order
+ * Cov(c) = H⁻¹ Var(∇S) H⁻¹ (sandwich) with ∇S linear in the counts, ∇S = Σ_j a_j I_j, Var(∇S) = Σ_j a_j a_jᵀ |I_j|:
+ * a_j collects pixel j as itself and as an interpolation tap of every partner it serves (one partner for a pair
+ * symmetry, two rotated ones for the three-fold), so the pairing and the correlation that interpolation puts
+ * between neighbouring samples are in it exactly; H = E[∂²S/∂c²] is the Gauss–Newton sum with the counting-noise
+ * parts of (∂r/∂c)(∂r/∂c)ᵀ and r ∂²r/∂c² subtracted (their expectation is what makes a curvature from the data too
+ * large at low counts per pixel). The fixed factors used before (Cov = 4 H_S⁻¹ pairs, 3 H_S⁻¹ triples) hold only
+ * without interpolation and at high counts. The covariance is scaled up by the misfit per populated pixel when it
+ * exceeds 1; checked against the scatter over 100 Poisson realisations per symmetry in
+ * tests/unit/reduction/bench/centre-symmetry.test.ts. A mirror fixes only the coordinate across the axis: the
  * search is one-dimensional along that direction and the centre along the axis stays at the start.
  */
 import { calibrationMatrix } from '../calibration';
 import type { DetectorCalibration, ExperimentKind } from '../formats';
 import { fitParabola } from '../parabola';
-import { nelderMead2, quadraticSurface } from './quadratic';
-import { type BenchFrame, type BenchToolResult, bilinear, inverse2, requireFrame } from './types';
+import { nelderMead2 } from './quadratic';
+import {
+  type BenchFrame,
+  type BenchToolResult,
+  interpolationStencil,
+  inverse2,
+  newStencil,
+  requireFrame,
+} from './types';
 
 // TYPES //
 
@@ -49,6 +62,11 @@ export interface CentreOptions {
   rMaxPx?: number;
   /** Initial simplex size, pixels (default 3). */
   searchPx?: number;
+  /**
+   * How the partner Ĩ(T p) is sampled: 'bicubic' (Catmull–Rom, 4 × 4 pixels; default) or 'bilinear' (2 × 2; the
+   * interpolation offset of narrow rings is several times larger).
+   */
+  sampling?: 'bicubic' | 'bilinear';
 }
 
 export interface CentreValue {
@@ -59,14 +77,17 @@ export interface CentreValue {
 
 export interface CentreDiagnostics {
   symmetry: CentreSymmetry;
-  /** S/n at the minimum (≈ 1 when the image is symmetric to counting noise). */
+  /**
+   * Misfit per pixel Σ(I − Ĩ)² / Σv over the compared pixels, a reduced χ² that is ≈ 1 when the image is symmetric
+   * to counting noise at any count level (E[(I − Ĩ)²] = E[v] for Poisson counts; empty pixels add to neither sum).
+   */
   chi2PerPixel: number;
-  /** S/n over pixels with at least 4 counts of variance (the misfit scale applied to the errors when > 1). */
+  /** The same over pixels with at least 4 counts of variance (the misfit scale applied to the errors when > 1). */
   chi2PerPopulatedPixel: number;
   populatedPixels: number;
   pixelsUsed: number;
   evaluations: number;
-  /** Hessian of S at the minimum, px⁻². */
+  /** Expected Hessian of S at the minimum (Gauss–Newton, counting-noise parts removed), px⁻². */
   hessian: number[];
   /** Covariance of (x, y), px². */
   covariance: number[];
@@ -217,34 +238,85 @@ export function findCentreBySymmetry(frame: BenchFrame, options: CentreOptions):
     }
   }
   const idx = Int32Array.from(used);
-  const sample = { value: 0, variance: 0 };
+  const sampling = options.sampling ?? 'bicubic';
+  if (sampling !== 'bicubic' && sampling !== 'bilinear') {
+    throw new RangeError(`sampling must be bicubic or bilinear, got "${sampling}"`);
+  }
+  const order = sampling === 'bicubic' ? 3 : 1;
 
   /** S(c) and the number of compared pixels; writes residuals when `res` is given. */
-  const evaluate = (cx: number, cy: number, res: Float64Array | null): [number, number, number, number] => {
+  // the cost's inner loop on typed copies (value and variance only; the stencil with derivatives is for the statistics)
+  const cnt = Float64Array.from(counts as ArrayLike<number>);
+  const acnt = cnt.map(Math.abs);
+  const ok = new Uint8Array(nX * nY).fill(1);
+  if (mask) for (let i = 0; i < ok.length; i++) ok[i] = mask[i] ? 1 : 0;
+  const wx = new Float64Array(4);
+  const wy = new Float64Array(4);
+  const sampled = { value: 0, variance: 0 };
+  /** Ĩ(q) and Σw²|I| into `sampled`; false outside the frame or next to a masked pixel. */
+  const sample = (x: number, y: number): boolean => {
+    if (!(x >= 0 && y >= 0 && x <= nX - 1 && y <= nY - 1)) return false;
+    let ix = Math.floor(x);
+    let iy = Math.floor(y);
+    if (ix === nX - 1) ix--;
+    if (iy === nY - 1) iy--;
+    const fx = x - ix;
+    const fy = y - iy;
+    if (order === 1) {
+      const i00 = iy * nX + ix;
+      if (!(ok[i00] && ok[i00 + 1] && ok[i00 + nX] && ok[i00 + nX + 1])) return false;
+      const w00 = (1 - fx) * (1 - fy);
+      const w10 = fx * (1 - fy);
+      const w01 = (1 - fx) * fy;
+      const w11 = fx * fy;
+      sampled.value = w00 * cnt[i00]! + w10 * cnt[i00 + 1]! + w01 * cnt[i00 + nX]! + w11 * cnt[i00 + nX + 1]!;
+      sampled.variance =
+        w00 * w00 * acnt[i00]! +
+        w10 * w10 * acnt[i00 + 1]! +
+        w01 * w01 * acnt[i00 + nX]! +
+        w11 * w11 * acnt[i00 + nX + 1]!;
+      return true;
+    }
+    if (ix < 1 || iy < 1 || ix + 2 > nX - 1 || iy + 2 > nY - 1) return false;
+    catmullRomWeights(fx, wx);
+    catmullRomWeights(fy, wy);
+    let value = 0;
+    let variance = 0;
+    for (let j = 0; j < 4; j++) {
+      const row = (iy - 1 + j) * nX + ix - 1;
+      const wj = wy[j]!;
+      for (let i = 0; i < 4; i++) {
+        const p = row + i;
+        if (!ok[p]) return false;
+        const w = wx[i]! * wj;
+        value += w * cnt[p]!;
+        variance += w * w * acnt[p]!;
+      }
+    }
+    sampled.value = value;
+    sampled.variance = variance;
+    return true;
+  };
+
+  /** S(c) and the number of compared pixels; writes residuals when `res` is given. */
+  const evaluate = (cx: number, cy: number, res: Float64Array | null): [number, number] => {
     let s = 0;
     let n = 0;
-    let sPop = 0;
-    let nPop = 0;
     for (let k = 0; k < idx.length; k++) {
       const i = idx[k]!;
       const ux = (i % nX) - cx;
       const uy = Math.floor(i / nX) - cy;
       const qx = cx + g[0]! * ux + g[1]! * uy;
       const qy = cy + g[2]! * ux + g[3]! * uy;
-      if (!bilinear(frame, qx, qy, sample)) continue;
-      const c = counts[i]!;
-      const raw = Math.abs(c) + sample.variance;
-      const v = Math.max(raw, 1);
-      const r = c - sample.value;
+      if (!sample(qx, qy)) continue;
+      const c = cnt[i]!;
+      const v = Math.max(acnt[i]! + sampled.variance, 1);
+      const r = c - sampled.value;
       s += (r * r) / v;
       n++;
-      if (raw >= POPULATED) {
-        sPop += (r * r) / v;
-        nPop++;
-      }
       if (res) res[i] = r / Math.sqrt(v);
     }
-    return [s, n, sPop, nPop];
+    return [s, n];
   };
   const minPixels = 50;
   const cost = (cx: number, cy: number): number => {
@@ -263,8 +335,10 @@ export function findCentreBySymmetry(frame: BenchFrame, options: CentreOptions):
   if (!(searchPx > 0)) throw new RangeError(`searchPx must be > 0, got ${searchPx}`);
   let x = start[0];
   let y = start[1];
-  let hess: Float64Array = new Float64Array(4).fill(Number.NaN);
-  let hinv: Float64Array | null = null;
+  /** Whether the cost has a clear minimum (positive curvature of the sampled surface or parabola). */
+  let hasMinimum = false;
+  /** Mirror only: the unit direction across the axis (the one coordinate the symmetry fixes). */
+  let across: [number, number] | null = null;
   let evaluations = 0;
   let converged = true;
   let freeDirection: [number, number] | null = null;
@@ -303,49 +377,122 @@ export function findCentreBySymmetry(frame: BenchFrame, options: CentreOptions):
     if (par && par.c > 0) {
       const h = 2 * par.c;
       if (Math.abs(par.vertex - bestT) <= 1) t = par.vertex;
-      hess = Float64Array.of(h * ex * ex, h * ex * ey, h * ex * ey, h * ey * ey);
-      // covariance confined to e−: (1/h) e− e−ᵀ
-      hinv = Float64Array.of((ex * ex) / h, (ex * ey) / h, (ex * ey) / h, (ey * ey) / h);
+      hasMinimum = h > 0;
     } else {
       warnings.push('The cost has no clear minimum across the axis: the image may not have this mirror symmetry.');
     }
+    if (hasMinimum) {
+      // Newton steps on ∂S/∂t = eᵀ∇S from the parabola's vertex (the vertex of a parabola through ±1 px is pulled by
+      // the cost's cubic terms and its curvature is not the local one)
+      const t0 = t;
+      for (let it = 0; it < 12; it++) {
+        const q = scoreStatistics(frame, idx, g, order, start[0] + t * ex, start[1] + t * ey);
+        const gt = ex * q.gradient[0]! + ey * q.gradient[1]!;
+        const h1 = ex * ex * q.hessian[0]! + 2 * ex * ey * q.hessian[1]! + ey * ey * q.hessian[3]!;
+        const h2 = ex * ex * q.gaussNewton[0]! + 2 * ex * ey * q.gaussNewton[1]! + ey * ey * q.gaussNewton[3]!;
+        const h = h1 > 0 ? h1 : h2;
+        if (!(h > 0)) break;
+        const step = Math.max(-0.25, Math.min(0.25, -gt / h));
+        t += step;
+        evaluations++;
+        if (Math.abs(step) < 1e-5) break;
+      }
+      if (Math.abs(t - t0) > 1) t = t0;
+    }
     x = start[0] + t * ex;
     y = start[1] + t * ey;
+    across = [ex, ey];
     warnings.push(
       `A mirror fixes only the centre across the polarization axis; along the axis (direction ${freeDirection[0].toFixed(3)}, ${freeDirection[1].toFixed(3)} in pixels) it stays at the start: take that coordinate from a ring fit or the phase-averaged image.`,
     );
   } else {
-    const nm = nelderMead2(cost, start[0], start[1], searchPx, 0.02, 600);
-    evaluations = nm.evaluations + 25;
+    const nm = nelderMead2(cost, start[0], start[1], searchPx, 0.05, 600);
+    evaluations = nm.evaluations;
     converged = nm.converged;
     if (!nm.converged) warnings.push('The simplex search did not settle within its budget; the centre may be rough.');
-    const quad = quadraticSurface(cost, nm.x, nm.y, 0.5, 2);
     x = nm.x;
     y = nm.y;
-    if (quad?.positiveDefinite) {
-      hess = quad.hessian;
-      hinv = inverse2(hess);
-      if (Math.hypot(quad.x - nm.x, quad.y - nm.y) <= 1) {
-        x = quad.x;
-        y = quad.y;
-      } else {
-        warnings.push('The cost is not quadratic about the simplex minimum; the centre is the simplex minimum.');
+    // Newton steps on ∇S = 0 from the simplex minimum, with the analytic gradient and expected Hessian of S (see
+    // scoreStatistics): the vertex of a quadratic surface through S is pulled by S's cubic terms (0.03 px on 2.6 px
+    // wide rings over ±1 px), and its curvature, aliased by the higher terms, shrinks the centre's response to the
+    // data (scatter 0.8 of the error)
+    for (let it = 0; it < 12; it++) {
+      const q = scoreStatistics(frame, idx, g, order, x, y);
+      let hinv = positiveDefinite(q.hessian) ? inverse2(q.hessian) : null;
+      if (!hinv) hinv = inverse2(q.gaussNewton);
+      if (!hinv) break;
+      let sx = -(hinv[0]! * q.gradient[0]! + hinv[1]! * q.gradient[1]!);
+      let sy = -(hinv[2]! * q.gradient[0]! + hinv[3]! * q.gradient[1]!);
+      const len = Math.hypot(sx, sy);
+      if (len > 0.25) {
+        sx *= 0.25 / len;
+        sy *= 0.25 / len;
       }
-    } else {
-      warnings.push('The cost has no clear minimum (flat or saddle-shaped): the image may not have this symmetry.');
+      x += sx;
+      y += sy;
+      evaluations++;
+      if (len < 1e-5) break;
+    }
+    if (!(Math.hypot(x - nm.x, y - nm.y) <= 1)) {
+      x = nm.x;
+      y = nm.y;
+      warnings.push('The cost is not smooth about the simplex minimum; the centre is the simplex minimum.');
     }
   }
   const residual = new Float64Array(nX * nY).fill(Number.NaN);
-  const [sMin, nMin, sPop, nPop] = evaluate(x, y, residual);
-  const chi2 = sMin / nMin;
-  // misfit scale from the pixels where counting noise is near-Gaussian (the floor v ≥ 1 makes sparse pixels count
-  // less than 1 each in S, so S/n over all pixels says nothing about misfit)
-  const chi2Scale = nPop >= 50 ? sPop / nPop : 1;
-  const f = symmetry === 'three-fold' ? 3 : 4;
-  const cov = hinv ? hinv.map((v) => v * f * Math.max(chi2Scale, 1) * (nRef / nMin)) : null;
+  const [, nMin] = evaluate(x, y, residual);
+  const stats = scoreStatistics(frame, idx, g, order, x, y);
+  if (!across) {
+    hasMinimum = positiveDefinite(stats.hessian);
+    if (!hasMinimum) {
+      warnings.push('The cost has no clear minimum (flat or saddle-shaped): the image may not have this symmetry.');
+    }
+  }
+  // misfit: Σ(I − Ĩ)² / Σv, for Poisson counts E[(I − Ĩ)²] = E[v] exactly, so ≈ 1 at any count level
+  const chi2 = stats.sumV > 0 ? stats.sumR2 / stats.sumV : Number.NaN;
+  const chi2Scale = stats.popN >= 50 && stats.popSumV > 0 ? stats.popSumR2 / stats.popSumV : 1;
+  // sandwich: Cov = H⁻¹ Var(∇S) H⁻¹ with H = E[∂²S/∂c²] = 2 Σ_p (∂r_p/∂c)(∂r_p/∂c)ᵀ / v_p (the Gauss–Newton form:
+  // the noise part of S is flat in c by the choice of v; the curvature of the sampled cost surface is not used,
+  // it carries the realisation's noise and, over ±1 px, the fall-off of narrow rings)
+  const hgn = stats.hessian;
+  const vs = stats.scoreCov;
+  let cov: Float64Array | null = null;
+  if (hasMinimum && across) {
+    const [ex, ey] = across;
+    const h = ex * ex * hgn[0]! + 2 * ex * ey * hgn[1]! + ey * ey * hgn[3]!;
+    const ve = ex * ex * vs[0]! + 2 * ex * ey * vs[1]! + ey * ey * vs[3]!;
+    const varE = h > 0 ? ve / (h * h) : Number.NaN;
+    cov = Float64Array.of(varE * ex * ex, varE * ex * ey, varE * ex * ey, varE * ey * ey);
+  } else if (hasMinimum) {
+    const hinv = inverse2(hgn);
+    if (hinv) {
+      const t0 = hinv[0]! * vs[0]! + hinv[1]! * vs[2]!;
+      const t1 = hinv[0]! * vs[1]! + hinv[1]! * vs[3]!;
+      const t2 = hinv[2]! * vs[0]! + hinv[3]! * vs[2]!;
+      const t3 = hinv[2]! * vs[1]! + hinv[3]! * vs[3]!;
+      cov = Float64Array.of(
+        t0 * hinv[0]! + t1 * hinv[2]!,
+        t0 * hinv[1]! + t1 * hinv[3]!,
+        t2 * hinv[0]! + t3 * hinv[2]!,
+        t2 * hinv[1]! + t3 * hinv[3]!,
+      );
+    }
+  }
+  if (cov) {
+    const k = Math.max(chi2Scale, 1);
+    for (let i = 0; i < 4; i++) cov[i] = cov[i]! * k;
+  }
+  const nPop = stats.popN;
   if (chi2Scale > 1.5) {
     warnings.push(
       `The image differs from its ${symmetry} partner by more than counting noise (χ² per populated pixel ${chi2Scale.toFixed(2)}): a detector background, hot pixels, a wrong calibration or the wrong symmetry; the errors are scaled up by it.`,
+    );
+  }
+  let negative = 0;
+  for (let k = 0; k < idx.length; k++) if (cnt[idx[k]!]! < 0) negative++;
+  if (negative > 0.01 * idx.length) {
+    warnings.push(
+      `${negative} compared pixels are negative (a background-subtracted frame): the errors assume counting noise |I| per pixel, which is too small where a background was subtracted, so they are lower bounds and a background that is not symmetric moves the centre.`,
     );
   }
   const moved = Math.hypot(x - start[0], y - start[1]);
@@ -368,12 +515,205 @@ export function findCentreBySymmetry(frame: BenchFrame, options: CentreOptions):
       populatedPixels: nPop,
       pixelsUsed: nMin,
       evaluations,
-      hessian: Array.from(hess),
+      hessian: Array.from(hgn),
       covariance: cov ? Array.from(cov) : [Number.NaN, Number.NaN, Number.NaN, Number.NaN],
       startPx: [start[0], start[1]],
       converged,
       freeDirection,
     },
     warnings,
+  };
+}
+
+function positiveDefinite(h: ArrayLike<number>): boolean {
+  return h[0]! > 0 && h[0]! * h[3]! - h[1]! * h[2]! > 0;
+}
+
+/** Catmull–Rom weights of the samples at −1, 0, 1, 2 for a phase t ∈ [0, 1] (as in {@link interpolationStencil}). */
+function catmullRomWeights(t: number, w: Float64Array): void {
+  const t2 = t * t;
+  const t3 = t2 * t;
+  w[0] = 0.5 * (-t3 + 2 * t2 - t);
+  w[1] = 0.5 * (3 * t3 - 5 * t2 + 2);
+  w[2] = 0.5 * (-3 * t3 + 4 * t2 + t);
+  w[3] = 0.5 * (t3 - t2);
+}
+
+/**
+ * Counting statistics of S at a centre: the covariance of its gradient ∇S = Σ_p 2 r_p ∂r_p/∂c / v_p under Poisson
+ * noise, and the misfit sums. ∇S is linear in the counts through r_p = I_p − Σ_j w_pj I_j (first order, v_p and
+ * ∂r_p/∂c held at their values): ∇S = Σ_j a_j I_j with a_j = Σ_p (2 ∂r_p/∂c / v_p)(δ_jp − w_pj), so
+ * Var(∇S) = Σ_j a_j a_jᵀ Var(I_j), Var(I_j) = |I_j|. Every pixel enters as itself and as a tap of the partners of
+ * the pixels it is a partner of (two for a pair symmetry, two rotations for the three-fold one), with its
+ * interpolation weights: this is what makes the errors honest where a fixed factor on the curvature is not.
+ */
+function scoreStatistics(
+  frame: BenchFrame,
+  idx: Int32Array,
+  g: Float64Array,
+  order: 1 | 3,
+  cx: number,
+  cy: number,
+): {
+  scoreCov: Float64Array;
+  hessian: Float64Array;
+  gaussNewton: Float64Array;
+  gradient: Float64Array;
+  sumR2: number;
+  sumV: number;
+  popSumR2: number;
+  popSumV: number;
+  popN: number;
+} {
+  const { nX, nY, counts } = frame;
+  const ax = new Float64Array(nX * nY);
+  const ay = new Float64Array(nX * nY);
+  const st = newStencil();
+  // ∂(T p)/∂c = 1 − G
+  const m0 = 1 - g[0]!;
+  const m1 = -g[1]!;
+  const m2 = -g[2]!;
+  const m3 = 1 - g[3]!;
+  let sumR2 = 0;
+  let sumV = 0;
+  let popSumR2 = 0;
+  let popSumV = 0;
+  let popN = 0;
+  let hxx = 0;
+  let hxy = 0;
+  let hyy = 0;
+  let extraXX = 0;
+  let extraXY = 0;
+  let extraYY = 0;
+  let gnXX = 0;
+  let gnXY = 0;
+  let gnYY = 0;
+  let gradX = 0;
+  let gradY = 0;
+  for (let k = 0; k < idx.length; k++) {
+    const i = idx[k]!;
+    const ux = (i % nX) - cx;
+    const uy = Math.floor(i / nX) - cy;
+    const qx = cx + g[0]! * ux + g[1]! * uy;
+    const qy = cy + g[2]! * ux + g[3]! * uy;
+    if (!interpolationStencil(frame, qx, qy, order, st)) continue;
+    let value = 0;
+    let variance = 0;
+    let gx = 0;
+    let gy = 0;
+    // counting covariance of ∇Ĩ, and ½∇(Σ w² I) (the change of the partner's variance with its position)
+    let cxx = 0;
+    let cxy = 0;
+    let cyy = 0;
+    let wx = 0;
+    let wy = 0;
+    // ∇∇Ĩ and its counting covariance with Ĩ (Σ w ∇∇w |I|)
+    let qxx = 0;
+    let qxy = 0;
+    let qyy = 0;
+    let nxx = 0;
+    let nxy = 0;
+    let nyy = 0;
+    for (let t = 0; t < st.n; t++) {
+      const c = counts[st.index[t]!]!;
+      const a = Math.abs(c);
+      const w = st.weight[t]!;
+      const ddx = st.dx[t]!;
+      const ddy = st.dy[t]!;
+      value += w * c;
+      variance += w * w * a;
+      gx += ddx * c;
+      gy += ddy * c;
+      cxx += ddx * ddx * a;
+      cxy += ddx * ddy * a;
+      cyy += ddy * ddy * a;
+      wx += w * ddx * a;
+      wy += w * ddy * a;
+      const exx = st.dxx[t]!;
+      const exy = st.dxy[t]!;
+      const eyy = st.dyy[t]!;
+      qxx += exx * c;
+      qxy += exy * c;
+      qyy += eyy * c;
+      nxx += w * exx * a;
+      nxy += w * exy * a;
+      nyy += w * eyy * a;
+    }
+    const c = counts[i]!;
+    const raw = Math.abs(c) + variance;
+    const v = Math.max(raw, 1);
+    const r = c - value;
+    sumR2 += r * r;
+    sumV += raw;
+    if (raw >= POPULATED) {
+      popSumR2 += r * r;
+      popSumV += raw;
+      popN++;
+    }
+    // ∂r/∂c = −(1 − G)ᵀ ∇Ĩ
+    const dx = -(m0 * gx + m2 * gy);
+    const dy = -(m1 * gx + m3 * gy);
+    const sx = (2 * dx) / v;
+    const sy = (2 * dy) / v;
+    // E[d dᵀ] = d̄ d̄ᵀ + Cov(d), Cov(d) = (1 − G)ᵀ Cov(∇Ĩ) (1 − G): the noise part is taken off the curvature
+    const kxx = m0 * m0 * cxx + 2 * m0 * m2 * cxy + m2 * m2 * cyy;
+    const kxy = m0 * m1 * cxx + (m0 * m3 + m1 * m2) * cxy + m2 * m3 * cyy;
+    const kyy = m1 * m1 * cxx + 2 * m1 * m3 * cxy + m3 * m3 * cyy;
+    // r ∂²r/∂c∂cᵀ with ∂²r = −Mᵀ ∇∇Ĩ M (M = 1 − G), less its counting expectation +Mᵀ (Σ w ∇∇w |I|) M
+    const bxx = r * qxx + nxx;
+    const bxy = r * qxy + nxy;
+    const byy = r * qyy + nyy;
+    const uxx = m0 * m0 * bxx + 2 * m0 * m2 * bxy + m2 * m2 * byy;
+    const uxy = m0 * m1 * bxx + (m0 * m3 + m1 * m2) * bxy + m2 * m3 * byy;
+    const uyy = m1 * m1 * bxx + 2 * m1 * m3 * bxy + m3 * m3 * byy;
+    gnXX += sx * dx;
+    gnXY += sx * dy;
+    gnYY += sy * dy;
+    hxx += sx * dx - (2 * kxx + 2 * uxx) / v;
+    hxy += sx * dy - (2 * kxy + 2 * uxy) / v;
+    hyy += sy * dy - (2 * kyy + 2 * uyy) / v;
+    gradX += sx * r;
+    gradY += sy * r;
+    if (raw >= 1) {
+      // ∂v/∂c = 2 (1 − G)ᵀ Σ w ∇w |I|; the term −r² ∂v/∂c / v² of ∇S adds Var(r²)(∂v)²/v⁴ = 2 (∂v)²/v²
+      const vx = 2 * (m0 * wx + m2 * wy);
+      const vy = 2 * (m1 * wx + m3 * wy);
+      gradX -= (r * r * vx) / (v * v);
+      gradY -= (r * r * vy) / (v * v);
+      extraXX += (2 * vx * vx) / (v * v);
+      extraXY += (2 * vx * vy) / (v * v);
+      extraYY += (2 * vy * vy) / (v * v);
+    }
+    ax[i] = ax[i]! + sx;
+    ay[i] = ay[i]! + sy;
+    for (let t = 0; t < st.n; t++) {
+      const j = st.index[t]!;
+      const w = st.weight[t]!;
+      ax[j] = ax[j]! - sx * w;
+      ay[j] = ay[j]! - sy * w;
+    }
+  }
+  let vxx = 0;
+  let vxy = 0;
+  let vyy = 0;
+  for (let j = 0; j < ax.length; j++) {
+    const x = ax[j]!;
+    const y = ay[j]!;
+    if (x === 0 && y === 0) continue;
+    const c = Math.abs(counts[j]!);
+    vxx += x * x * c;
+    vxy += x * y * c;
+    vyy += y * y * c;
+  }
+  return {
+    scoreCov: Float64Array.of(vxx + extraXX, vxy + extraXY, vxy + extraXY, vyy + extraYY),
+    hessian: Float64Array.of(hxx, hxy, hxy, hyy),
+    gaussNewton: Float64Array.of(gnXX, gnXY, gnXY, gnYY),
+    gradient: Float64Array.of(gradX, gradY),
+    sumR2,
+    sumV,
+    popSumR2,
+    popSumV,
+    popN,
   };
 }

@@ -106,3 +106,129 @@ export function inverse2(h: ArrayLike<number>): Float64Array | null {
   if (!(Math.abs(det) > 0) || !Number.isFinite(det)) return null;
   return Float64Array.of(h[3]! / det, -h[1]! / det, -h[2]! / det, h[0]! / det);
 }
+
+/** Taps of one interpolated sample: pixel indices, weights, and the weights of ∂/∂x and ∂/∂y. */
+export interface Stencil {
+  /** Number of taps used (4 bilinear, 16 bicubic). */
+  n: number;
+  index: Int32Array;
+  weight: Float64Array;
+  /** Weights of the sample's derivative along x and y (per pixel). */
+  dx: Float64Array;
+  dy: Float64Array;
+  /** Weights of its second derivatives ∂²/∂x², ∂²/∂x∂y, ∂²/∂y² (per pixel²; bilinear: ∂²/∂x² = ∂²/∂y² = 0). */
+  dxx: Float64Array;
+  dxy: Float64Array;
+  dyy: Float64Array;
+}
+
+/** A stencil with room for 16 taps. */
+export function newStencil(): Stencil {
+  return {
+    n: 0,
+    index: new Int32Array(16),
+    weight: new Float64Array(16),
+    dx: new Float64Array(16),
+    dy: new Float64Array(16),
+    dxx: new Float64Array(16),
+    dxy: new Float64Array(16),
+    dyy: new Float64Array(16),
+  };
+}
+
+/** Catmull–Rom weights of the samples at −1, 0, 1, 2 for a phase t ∈ [0, 1], and of their two derivatives. */
+function catmullRom(t: number, w: Float64Array, d: Float64Array, d2: Float64Array): void {
+  const t2 = t * t;
+  const t3 = t2 * t;
+  w[0] = 0.5 * (-t3 + 2 * t2 - t);
+  w[1] = 0.5 * (3 * t3 - 5 * t2 + 2);
+  w[2] = 0.5 * (-3 * t3 + 4 * t2 + t);
+  w[3] = 0.5 * (t3 - t2);
+  d[0] = 0.5 * (-3 * t2 + 4 * t - 1);
+  d[1] = 0.5 * (9 * t2 - 10 * t);
+  d[2] = 0.5 * (-9 * t2 + 8 * t + 1);
+  d[3] = 0.5 * (3 * t2 - 2 * t);
+  d2[0] = -3 * t + 2;
+  d2[1] = 9 * t - 5;
+  d2[2] = -9 * t + 4;
+  d2[3] = 3 * t - 1;
+}
+
+const CR = {
+  wx: new Float64Array(4),
+  dx: new Float64Array(4),
+  d2x: new Float64Array(4),
+  wy: new Float64Array(4),
+  dy: new Float64Array(4),
+  d2y: new Float64Array(4),
+};
+
+/**
+ * The interpolation stencil at (x, y) (pixel-centre coordinates): bilinear (order 1, 2 × 2 taps) or Catmull–Rom
+ * bicubic (order 3, 4 × 4 taps; interpolating, exact for quadratics, continuous first derivative) [common practice:
+ * E. Catmull, R. Rom 1974; the cubic convolution kernel with a = −½ of R. Keys, IEEE Trans. ASSP 29, 1153 (1981)].
+ *
+ * @param frame - frame (only its shape and mask are read)
+ * @param x - column coordinate
+ * @param y - row coordinate
+ * @param order - 1 or 3
+ * @param out - receives the taps
+ * @returns false (out untouched) when a tap falls outside the frame or on a masked pixel
+ */
+export function interpolationStencil(frame: BenchFrame, x: number, y: number, order: 1 | 3, out: Stencil): boolean {
+  const { nX, nY, mask } = frame;
+  if (!(x >= 0 && y >= 0 && x <= nX - 1 && y <= nY - 1)) return false;
+  let ix = Math.floor(x);
+  let iy = Math.floor(y);
+  if (ix === nX - 1) ix--;
+  if (iy === nY - 1) iy--;
+  const fx = x - ix;
+  const fy = y - iy;
+  if (order === 1) {
+    const i00 = iy * nX + ix;
+    const idx = [i00, i00 + 1, i00 + nX, i00 + nX + 1];
+    if (mask && !(mask[idx[0]!] && mask[idx[1]!] && mask[idx[2]!] && mask[idx[3]!])) return false;
+    out.n = 4;
+    out.index.set(idx);
+    out.weight[0] = (1 - fx) * (1 - fy);
+    out.weight[1] = fx * (1 - fy);
+    out.weight[2] = (1 - fx) * fy;
+    out.weight[3] = fx * fy;
+    out.dx[0] = -(1 - fy);
+    out.dx[1] = 1 - fy;
+    out.dx[2] = -fy;
+    out.dx[3] = fy;
+    out.dy[0] = -(1 - fx);
+    out.dy[1] = -fx;
+    out.dy[2] = 1 - fx;
+    out.dy[3] = fx;
+    out.dxx.fill(0, 0, 4);
+    out.dyy.fill(0, 0, 4);
+    out.dxy[0] = 1;
+    out.dxy[1] = -1;
+    out.dxy[2] = -1;
+    out.dxy[3] = 1;
+    return true;
+  }
+  if (ix < 1 || iy < 1 || ix + 2 > nX - 1 || iy + 2 > nY - 1) return false;
+  catmullRom(fx, CR.wx, CR.dx, CR.d2x);
+  catmullRom(fy, CR.wy, CR.dy, CR.d2y);
+  let k = 0;
+  for (let j = 0; j < 4; j++) {
+    const row = (iy - 1 + j) * nX + ix - 1;
+    for (let i = 0; i < 4; i++) {
+      const p = row + i;
+      if (mask && !mask[p]) return false;
+      out.index[k] = p;
+      out.weight[k] = CR.wx[i]! * CR.wy[j]!;
+      out.dx[k] = CR.dx[i]! * CR.wy[j]!;
+      out.dy[k] = CR.wx[i]! * CR.dy[j]!;
+      out.dxx[k] = CR.d2x[i]! * CR.wy[j]!;
+      out.dxy[k] = CR.dx[i]! * CR.dy[j]!;
+      out.dyy[k] = CR.wx[i]! * CR.d2y[j]!;
+      k++;
+    }
+  }
+  out.n = 16;
+  return true;
+}

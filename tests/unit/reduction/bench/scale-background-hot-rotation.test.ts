@@ -9,7 +9,7 @@ import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { atiRingRadii, fitAtiScale } from '@/reduction/bench/ati-scale';
 import { fitBackgroundScale } from '@/reduction/bench/background-scale';
-import { findHotPixels } from '@/reduction/bench/hot-pixels';
+import { findHotPixels, logBinomialUpperTail } from '@/reduction/bench/hot-pixels';
 import { fitRotationFromReference } from '@/reduction/bench/rotation';
 import { photonEnergyEv } from '@/reduction/constants';
 import { renderDetectorBackground } from '@/reduction/synth/model';
@@ -47,7 +47,7 @@ describe('fitAtiScale', () => {
     expect(f.stdErr.kappaEvPerPx2).toBeLessThan(1e-15);
   });
 
-  it('rings of a generated image: κ within 2σ of the truth and the reported σκ honest over 30 realisations', () => {
+  it('rings of a generated image: κ unbiased to 5e-4 and the reported σκ honest (±20 %) over 100 realisations', () => {
     const kappa = 2e-3;
     const p = plan({
       kind: 'image',
@@ -62,7 +62,7 @@ describe('fitAtiScale', () => {
     const rng = rngOf(31);
     const ks: number[] = [];
     const es: number[] = [];
-    for (let k = 0; k < 30; k++) {
+    for (let k = 0; k < 100; k++) {
       const radii = atiRingRadii(frameOf(p, realise(mean, rng)), {
         centrePx: p.calibration.center_px,
         guessesPx: t.radiiPx.map((r) => r + 0.5),
@@ -80,10 +80,12 @@ describe('fitAtiScale', () => {
     }
     const s = meanSd(ks);
     const e = meanSd(es).mean;
-    // measured bias −1.2e-3 relative (the ring-radius estimator); bound 2e-3
-    expect(Math.abs(s.mean - kappa)).toBeLessThan(2e-3 * kappa);
-    expect(s.sd / e).toBeGreaterThan(0.7);
-    expect(s.sd / e).toBeLessThan(1.3);
+    // before: bias −1.2e-3 relative, also on the noiseless frame (a Gaussian + constant per ring on the slope of the
+    // broad lobes put the radii 0.02 … 0.04 px out); with a linear background: −1.9e-5 noiseless, and over these 100
+    // realisations (seed 31) measured −1.75e-4 ± 0.9e-4, scatter/error 0.87 (before 0.84 over 30)
+    expect(Math.abs(s.mean - kappa)).toBeLessThan(5e-4 * kappa);
+    expect(s.sd / e).toBeGreaterThan(0.8);
+    expect(s.sd / e).toBeLessThan(1.2);
   });
 });
 
@@ -150,32 +152,109 @@ describe('findHotPixels', () => {
     });
     const { counts } = await generatedFile(p, 'hot-pixels');
     const f = findHotPixels(frameOf(p, counts));
-    expect(f.value.pixels.map(([x, y]) => `${x},${y}`).sort()).toEqual(hot.map(([x, y]) => `${x},${y}`).sort());
-    expect(f.value.count).toBe(5);
+    const found = f.value.pixels.map(([x, y]) => `${x},${y}`);
+    // the four on the dark background are always found; (70, 33) with 25 extra counts sits on the steep outer flank
+    // of a lobe (expected 4.2 counts, neighbours 0 … 17) at the detection limit of the family-wise test (see below)
+    for (const [x, y] of hot.filter(([x]) => x !== 70)) expect(found).toContain(`${x},${y}`);
+    // nothing else is flagged
+    expect(found.every((k) => hot.some(([x, y]) => `${x},${y}` === k))).toBe(true);
   });
 
-  it('no false alarms in 20 realisations without hot pixels; all found in 20 realisations with them', () => {
+  it('no false alarms in 40 realisations without hot pixels; all found in 40 realisations with them', () => {
     const p = plan({ kind: 'angular_streaking', size: 128, steps: 1, counts: 2e5, hotPixels: hot });
     const mean = expected(p);
     const rng = rngOf(51);
-    let falseAlarms = 0;
+    let falseAlarmsClean = 0;
+    let falseAlarmsWithHot = 0;
     let missed = 0;
-    for (let k = 0; k < 20; k++) {
+    let flankFound = 0;
+    const hotSet = new Set(hot.map(([x, y]) => y * 128 + x));
+    for (let k = 0; k < 40; k++) {
       const clean = realise(mean, rng);
-      falseAlarms += findHotPixels(frameOf(p, clean)).value.count;
+      falseAlarmsClean += findHotPixels(frameOf(p, clean)).value.count;
       const withHot = realise(mean, rng);
       for (const [x, y, c] of hot) withHot[y * 128 + x] = withHot[y * 128 + x]! + c;
       const f = findHotPixels(frameOf(p, withHot));
       const set = new Set(f.value.indices);
-      for (const [x, y] of hot) if (!set.has(y * 128 + x)) missed++;
-      const hotSet = new Set(hot.map(([x, y]) => y * 128 + x));
-      falseAlarms += f.value.indices.filter((i) => !hotSet.has(i)).length;
+      for (const [x, y] of hot) {
+        if (x === 70) flankFound += set.has(y * 128 + x) ? 1 : 0;
+        else if (!set.has(y * 128 + x)) missed++;
+      }
+      falseAlarmsWithHot += f.value.indices.filter((i) => !hotSet.has(i)).length;
     }
-    // α = 1e-3 per frame would give 0.04 false alarms over 40 frames if λ were exact; the neighbour estimate of λ
-    // is low on the crest of the 2.6 px wide lobes, so some crest pixels are flagged (measured: 9 in 40 frames of
-    // 16 384 pixels). Bound: at most one per two frames on average; every hot pixel of ≥ 15 extra counts found.
-    expect(falseAlarms).toBeLessThanOrEqual(20);
+    // family-wise α = 1e-3 per frame (Bonferroni over 16 384 pixels; the conditional binomial test is exact on a
+    // flat or linear line, conservative where the brightest agreeing line is chosen): expected ≤ 80 × 1e-3 = 0.08
+    // false alarms over these 80 frames. Before (3 × 3 median level): 9 in 40 frames, on the lobes' crest pixels.
+    expect(falseAlarmsClean).toBe(0);
+    expect(falseAlarmsWithHot).toBe(0);
+    // every planted pixel on the dark background (15 … 200 extra counts) found in every frame
     expect(missed).toBe(0);
+    // (70, 33): 25 extra counts on 4.2 expected, neighbours 0 … 17; the level is known only from the neighbours, so
+    // the exact conditional test reaches α/n ≈ 6e-8 here in most frames only (measured 29 of 40 with this pixel alone,
+    // seed 51); the former 3 × 3 median test, which took the level as known, found it always, with 9 false alarms
+    expect(flankFound).toBeGreaterThanOrEqual(10);
+  });
+
+  it('finds clusters of two and three touching hot pixels (a pair, a run of three, an L), on and off the lobes', () => {
+    const p = plan({ kind: 'angular_streaking', size: 128, steps: 1, counts: 2e5 });
+    const mean = expected(p);
+    const [cx, cy] = p.calibration.center_px.map(Math.round) as [number, number];
+    // lobes near ±90° at ≈ 22 px from the centre: the run of three sits on the upper lobe's crest
+    const groups: [number, number][][] = [
+      [
+        [20, 20],
+        [21, 20],
+      ],
+      [
+        [cx - 1, cy - 22],
+        [cx, cy - 22],
+        [cx + 1, cy - 22],
+      ],
+      [
+        [100, 100],
+        [101, 100],
+        [100, 101],
+      ],
+      [
+        [cx + 20, cy],
+        [cx + 21, cy + 1],
+      ],
+    ];
+    const rng = rngOf(52);
+    let missed = 0;
+    let falseAlarms = 0;
+    let clustersRight = 0;
+    const planted = new Set(groups.flat().map(([x, y]) => y * 128 + x));
+    for (let k = 0; k < 40; k++) {
+      const c = realise(mean, rng);
+      for (const [x, y] of groups.flat()) c[y * 128 + x] = c[y * 128 + x]! + 60 + mean[y * 128 + x]!;
+      const f = findHotPixels(frameOf(p, c));
+      const set = new Set(f.value.indices);
+      for (const i of planted) if (!set.has(i)) missed++;
+      falseAlarms += f.value.indices.filter((i) => !planted.has(i)).length;
+      const clusters = f.value.clusters!.map((g) => g.join(','));
+      if (
+        groups.every((g) =>
+          clusters.includes(
+            g
+              .map(([x, y]) => y * 128 + x)
+              .sort((a, b) => a - b)
+              .join(','),
+          ),
+        )
+      ) {
+        clustersRight++;
+      }
+    }
+    expect(missed).toBe(0);
+    expect(falseAlarms).toBe(0);
+    expect(clustersRight).toBe(40);
+  });
+
+  it('the binomial tail against scipy.stats.binom.sf values (exact sums)', () => {
+    for (const t of REF.binomial_tail) {
+      expectRel(Math.exp(logBinomialUpperTail(t.c, t.n, t.p)), t.sf, 1e-9, `P(X ≥ ${t.c} | ${t.n}, ${t.p})`);
+    }
   });
 });
 
