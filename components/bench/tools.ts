@@ -155,14 +155,25 @@ export function correctedFrame(frame: BenchFrame, cal: DetectorCalibration) {
     );
   }
   const counts = new Float64Array(nX * nY);
+  // Counting variance of each corrected pixel: raw counts + k² × background counts, times the gain correction squared.
+  const variance = new Float64Array(nX * nY);
   for (let p = 0; p < counts.length; p++) {
     if (mask[p] === 0) continue;
-    let v = frame.counts[p]!;
-    if (k !== 0 && frame.background) v -= k * frame.background[p]!;
-    if (invGain) v *= invGain[p]!;
+    const raw = frame.counts[p]!;
+    let v = raw;
+    let s2 = Math.abs(raw);
+    if (k !== 0 && frame.background) {
+      v -= k * frame.background[p]!;
+      s2 += k * k * Math.abs(frame.background[p]!);
+    }
+    if (invGain) {
+      v *= invGain[p]!;
+      s2 *= invGain[p]! * invGain[p]!;
+    }
     counts[p] = v;
+    variance[p] = s2;
   }
-  return { nX, nY, counts, mask };
+  return { nX, nY, counts, mask, variance };
 }
 
 /**

@@ -107,6 +107,15 @@ export type CentreResult = BenchToolResult<
 
 // VARIABLES //
 
+/**
+ * Counting variance of each pixel: the frame's own `variance` when it carries one (a background-subtracted or
+ * flat-fielded frame: raw counts + k² × background, times the gain correction squared), else |counts| (Poisson).
+ */
+function pixelVariance(frame: BenchFrame): Float64Array {
+  if (frame.variance) return Float64Array.from(frame.variance as ArrayLike<number>, (v) => Math.max(0, v));
+  return Float64Array.from(frame.counts as ArrayLike<number>, Math.abs);
+}
+
 /** Pixels whose difference has at least this counting variance count as populated (near-Gaussian noise). */
 const POPULATED = 4;
 
@@ -247,7 +256,7 @@ export function findCentreBySymmetry(frame: BenchFrame, options: CentreOptions):
   /** S(c) and the number of compared pixels; writes residuals when `res` is given. */
   // the cost's inner loop on typed copies (value and variance only; the stencil with derivatives is for the statistics)
   const cnt = Float64Array.from(counts as ArrayLike<number>);
-  const acnt = cnt.map(Math.abs);
+  const acnt = pixelVariance(frame);
   const ok = new Uint8Array(nX * nY).fill(1);
   if (mask) for (let i = 0; i < ok.length; i++) ok[i] = mask[i] ? 1 : 0;
   const wx = new Float64Array(4);
@@ -490,7 +499,7 @@ export function findCentreBySymmetry(frame: BenchFrame, options: CentreOptions):
   }
   let negative = 0;
   for (let k = 0; k < idx.length; k++) if (cnt[idx[k]!]! < 0) negative++;
-  if (negative > 0.01 * idx.length) {
+  if (!frame.variance && negative > 0.01 * idx.length) {
     warnings.push(
       `${negative} compared pixels are negative (a background-subtracted frame): the errors assume counting noise |I| per pixel, which is too small where a background was subtracted, so they are lower bounds and a background that is not symmetric moves the centre.`,
     );
@@ -566,6 +575,7 @@ function scoreStatistics(
   popN: number;
 } {
   const { nX, nY, counts } = frame;
+  const pv = pixelVariance(frame);
   const ax = new Float64Array(nX * nY);
   const ay = new Float64Array(nX * nY);
   const st = newStencil();
@@ -616,7 +626,7 @@ function scoreStatistics(
     let nyy = 0;
     for (let t = 0; t < st.n; t++) {
       const c = counts[st.index[t]!]!;
-      const a = Math.abs(c);
+      const a = pv[st.index[t]!]!;
       const w = st.weight[t]!;
       const ddx = st.dx[t]!;
       const ddy = st.dy[t]!;
@@ -640,7 +650,7 @@ function scoreStatistics(
       nyy += w * eyy * a;
     }
     const c = counts[i]!;
-    const raw = Math.abs(c) + variance;
+    const raw = pv[i]! + variance;
     const v = Math.max(raw, 1);
     const r = c - value;
     sumR2 += r * r;
@@ -700,7 +710,7 @@ function scoreStatistics(
     const x = ax[j]!;
     const y = ay[j]!;
     if (x === 0 && y === 0) continue;
-    const c = Math.abs(counts[j]!);
+    const c = pv[j]!;
     vxx += x * x * c;
     vxy += x * y * c;
     vyy += y * y * c;

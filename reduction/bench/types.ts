@@ -17,6 +17,11 @@ export interface BenchFrame {
   counts: ArrayLike<number>;
   /** Optional validity mask of the same layout (1 = use, 0 = excluded, e.g. bad pixels). */
   mask?: ArrayLike<number> | null;
+  /**
+   * Optional counting variance per pixel, same layout. Needed when `counts` are not raw counts (a subtracted
+   * background, a flat field): then |counts| understates the noise. The centre finder uses it when given.
+   */
+  variance?: ArrayLike<number> | null;
 }
 
 /** The common envelope of a tool's answer. */
