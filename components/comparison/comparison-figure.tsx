@@ -386,7 +386,7 @@ export function comparisonFigureOptions(props: ComparisonFigureProps, width: num
           if (st.dash) line.setAttribute('stroke-dasharray', st.dash);
           g.appendChild(line);
         }
-        const t = el('text', { x: kx + 20, y: ky + 10, fill: '#27313d', 'font-size': 11 });
+        const t = el('text', { x: kx + 20, y: ky + 10, fill: '#27313d', 'font-size': 11, 'text-anchor': 'start' });
         t.textContent = e.label;
         g.appendChild(t);
         key.appendChild(g);
