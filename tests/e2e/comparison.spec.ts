@@ -151,7 +151,7 @@ test('the PI keeps a two-campaign comparison with a model; a team member opens i
   await pi.page.getByTestId('model-trajectory').check();
   const figure = pi.page.getByTestId('comparison-figure').locator('svg');
   await expect(figure).toHaveAttribute('data-series-count', '2', { timeout: 30_000 });
-  await expect(figure.locator('polyline[data-model="trajectory"]').first()).toBeVisible({ timeout: 60_000 });
+  await expect(figure.locator('[data-model="trajectory"]').first()).toBeVisible({ timeout: 60_000 });
   await expect(pi.page.getByTestId('residual-table')).toBeVisible();
   await expect(pi.page.getByTestId('assumptions-trajectory')).toContainText('zero velocity');
   // the ensemble is a run on the model queue: the page shows its progress (trajectories done of the total)
@@ -177,7 +177,7 @@ test('the PI keeps a two-campaign comparison with a model; a team member opens i
   await expect(an.page.getByRole('heading', { name: title })).toBeVisible();
   const svg = an.page.getByTestId('comparison-figure').locator('svg');
   await expect(svg).toHaveAttribute('data-series-count', '2', { timeout: 30_000 });
-  await expect(svg.locator('polyline[data-model="trajectory"]').first()).toBeVisible({ timeout: 60_000 });
+  await expect(svg.locator('[data-model="trajectory"]').first()).toBeVisible({ timeout: 60_000 });
   await expect(an.page.getByTestId('hidden-notice')).toHaveCount(0);
   await expect(an.page.getByTestId('save-panel')).toHaveCount(0); // keeping is the PI's
 
