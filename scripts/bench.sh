@@ -31,6 +31,8 @@ SECTIONS=(
   "PRECISION|npx tsx scripts/bench/precision.ts"
   # model overlays of the comparison page: single trajectories computed and from the cache (issue 13)
   "MODELS|npx tsx scripts/bench/comparison-models.ts"
+  # the same overlays answered from the MariaDB cache against computing them (needs the services: `npm start`)
+  "MODELS-CACHE|npx tsx scripts/bench/model-cache.ts"
   # calibration bench (issue 15): control change → drawn frame in Chromium, and a 20-scan trial in its worker
   "BENCH|npx tsx scripts/bench/bench-latency.ts"
 )
