@@ -7,8 +7,8 @@
  * - one Coulomb-corrected trajectory per intensity (§10.5 procedure) for the same 20 intensities, computed afresh
  *   (a new parameter set each repetition) and answered again from the in-process memo; the Keldysh–Rutherford
  *   estimate and the simple-man line beside them. Median of 5.
- * The MariaDB cache's answer (lib/comparison/model-cache.ts) is one indexed row read by its hash and is not
- * measured here (this bench runs without services).
+ * The MariaDB cache's answer (lib/comparison/model-cache.ts) is measured by MODELS-CACHE (scripts/bench/model-cache.ts),
+ * which needs the services; this one runs without them.
  */
 import { fork } from 'node:child_process';
 import { computeEnsembleCurve, ENSEMBLE_SEED, ENSEMBLE_TRAJECTORIES, modelCurve } from '@/lib/comparison/models';
