@@ -14,6 +14,7 @@ import { apiFetch } from '@/lib/api/client';
 import type { DetectorCalibration } from '@/reduction/formats';
 import type { BenchFrame } from './compute';
 import type { RingSuggestion } from './radial-peaks';
+import { ToolWarnings, UseOrDiscard } from './tool-result';
 import type { BenchTool, PixelRect, ToolAnswer, ToolInput } from './tools';
 import { createTrialRunner } from './use-bench-worker';
 import { decodeFrame, type RawFrameResponse } from './wire';
@@ -95,17 +96,6 @@ function Section({ title, children, testId }: { title: string; children: React.R
       <h3 className="text-micro font-semibold tracking-wide text-ink-500 uppercase">{title}</h3>
       {children}
     </section>
-  );
-}
-
-function Warnings({ warnings, testId }: { warnings: string[]; testId?: string }) {
-  if (!warnings.length) return null;
-  return (
-    <ul className="list-disc pl-5 text-micro text-flare-900" data-testid={testId}>
-      {warnings.map((w) => (
-        <li key={w}>{w}</li>
-      ))}
-    </ul>
   );
 }
 
@@ -271,7 +261,7 @@ function AtiScaleTool({
           <p className="text-micro text-ink-500">
             Consecutive orders are assumed: leave no ring out between two ticked.
           </p>
-          <Warnings warnings={density.warnings} />
+          <ToolWarnings warnings={density.warnings} />
         </>
       ) : null}
       {error ? <ErrorState message={error} /> : null}
@@ -348,22 +338,13 @@ function AtiScaleTool({
               ))}
             </tbody>
           </table>
-          <Warnings warnings={answer.warnings} />
-          <div className="flex gap-2">
-            <Button
-              size="sm"
-              onClick={() => {
-                onAccept({ momentum_per_pixel_au: answer.alpha });
-                setAnswer(null);
-              }}
-              data-testid="tool-ati-accept"
-            >
-              Use this scale
-            </Button>
-            <Button size="sm" variant="ghost" onClick={() => setAnswer(null)}>
-              Discard
-            </Button>
-          </div>
+          <ToolWarnings warnings={answer.warnings} />
+          <UseOrDiscard
+            label="Use this scale"
+            testId="tool-ati-accept"
+            onUse={() => onAccept({ momentum_per_pixel_au: answer.alpha })}
+            onClose={() => setAnswer(null)}
+          />
         </div>
       ) : null}
     </Section>
@@ -559,7 +540,7 @@ function BackgroundTool({
           {answerKey !== regionKey ? (
             <p className="text-micro text-flare-900">The regions changed since this fit; fit again.</p>
           ) : null}
-          <Warnings warnings={answer.warnings} testId="tool-background-warnings" />
+          <ToolWarnings warnings={answer.warnings} testId="tool-background-warnings" />
           <div className="flex gap-2">
             <Button
               size="sm"
@@ -750,22 +731,13 @@ function RotationTool({
             Residual rms about the two-fold model {formatNumber(answer.residualRms, 3)} counts per bin. The rotation now
             is {formatNumber(calibration.rotation_deg, 4)}°.
           </p>
-          <Warnings warnings={answer.warnings} />
-          <div className="flex gap-2">
-            <Button
-              size="sm"
-              onClick={() => {
-                onAccept({ rotation_deg: answer.rotationDeg });
-                setAnswer(null);
-              }}
-              data-testid="tool-rotation-accept"
-            >
-              Use this rotation
-            </Button>
-            <Button size="sm" variant="ghost" onClick={() => setAnswer(null)}>
-              Discard
-            </Button>
-          </div>
+          <ToolWarnings warnings={answer.warnings} />
+          <UseOrDiscard
+            label="Use this rotation"
+            testId="tool-rotation-accept"
+            onUse={() => onAccept({ rotation_deg: answer.rotationDeg })}
+            onClose={() => setAnswer(null)}
+          />
         </div>
       ) : null}
     </Section>

@@ -9,6 +9,7 @@ import { Button, ErrorState, Panel } from '@/components/ui';
 import type { DetectorCalibration } from '@/reduction/formats';
 import type { BenchFrame } from './compute';
 import { SymmetryResidual } from './residual-image';
+import { ToolWarnings, UseOrDiscard } from './tool-result';
 import type { BenchTool, ToolAnswer } from './tools';
 import { createTrialRunner } from './use-bench-worker';
 
@@ -135,21 +136,14 @@ export function ToolsPanel({
               ))}
             </ul>
           ) : null}
-          <div className="flex gap-2">
-            <Button
-              size="sm"
-              onClick={() => {
-                onAccept({ center_px: [answer.x, answer.y], center_err_px: Math.max(answer.errX, answer.errY) });
-                setAnswer(null);
-              }}
-              data-testid="tool-centre-accept"
-            >
-              Use this centre
-            </Button>
-            <Button size="sm" variant="ghost" onClick={() => setAnswer(null)}>
-              Discard
-            </Button>
-          </div>
+          <UseOrDiscard
+            label="Use this centre"
+            testId="tool-centre-accept"
+            onUse={() =>
+              onAccept({ center_px: [answer.x, answer.y], center_err_px: Math.max(answer.errX, answer.errY) })
+            }
+            onClose={() => setAnswer(null)}
+          />
         </div>
       ) : null}
       {answer?.tool === 'ring' ? (
@@ -181,20 +175,13 @@ export function ToolsPanel({
             data-testid="tool-ring-residual"
           />
           <ToolWarnings warnings={answer.warnings} />
-          <div className="flex gap-2">
-            <Button
-              size="sm"
-              onClick={() => {
-                onAccept({ center_px: [answer.x, answer.y], center_err_px: Math.max(answer.errX, answer.errY) });
-                setAnswer(null);
-              }}
-            >
-              Use this centre
-            </Button>
-            <Button size="sm" variant="ghost" onClick={() => setAnswer(null)}>
-              Discard
-            </Button>
-          </div>
+          <UseOrDiscard
+            label="Use this centre"
+            onUse={() =>
+              onAccept({ center_px: [answer.x, answer.y], center_err_px: Math.max(answer.errX, answer.errY) })
+            }
+            onClose={() => setAnswer(null)}
+          />
         </div>
       ) : null}
       {answer?.tool === 'ellipse' ? (
@@ -208,20 +195,11 @@ export function ToolsPanel({
             ({answer.points} points, residual rms {formatNumber(answer.residualRms, 3)} px).
           </p>
           <ToolWarnings warnings={answer.warnings} />
-          <div className="flex gap-2">
-            <Button
-              size="sm"
-              onClick={() => {
-                onAccept({ detector_ellipticity: { ratio: answer.ratio, axis_deg: answer.axisDeg } });
-                setAnswer(null);
-              }}
-            >
-              Use this stretch
-            </Button>
-            <Button size="sm" variant="ghost" onClick={() => setAnswer(null)}>
-              Discard
-            </Button>
-          </div>
+          <UseOrDiscard
+            label="Use this stretch"
+            onUse={() => onAccept({ detector_ellipticity: { ratio: answer.ratio, axis_deg: answer.axisDeg } })}
+            onClose={() => setAnswer(null)}
+          />
         </div>
       ) : null}
       {answer?.tool === 'hot-pixels' ? (
@@ -258,16 +236,5 @@ export function ToolsPanel({
         </div>
       ) : null}
     </Panel>
-  );
-}
-
-function ToolWarnings({ warnings }: { warnings: string[] }) {
-  if (!warnings.length) return null;
-  return (
-    <ul className="list-disc pl-5 text-micro text-flare-900">
-      {warnings.map((w) => (
-        <li key={w}>{w}</li>
-      ))}
-    </ul>
   );
 }
