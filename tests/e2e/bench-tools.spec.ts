@@ -93,7 +93,8 @@ test('analyst fits the momentum scale from ATI rings, the background scale and t
   test.setTimeout(420_000);
   const dir = mkdtempSync(path.join(tmpdir(), 'lobeline-bench-tools-e2e-'));
   const stamp = Date.now();
-  const seed = String(stamp % 1e5);
+  // Fixed seeds: the same Poisson draw on every run, so the 3σ checks below cannot fail by chance on one run.
+  const seed = '4242';
   const atiFile = makeScan(path.join(dir, `rings-${stamp}.h5`), [
     '--ati',
     '--background',
